@@ -1,0 +1,26 @@
+"""Rungwise numeric core: resistor-network DACs solved exactly for every code (no Qt here).
+
+Public API::
+
+    from rungwise.core import Design, evaluate
+    ev = evaluate(Design(topology="r2r-voltage", bits=8, vref=3.3, unit_r=10e3))
+    ev.vout, ev.inl_endpoint, ev.summary["max_abs_dnl"]
+"""
+
+from .design import FIELDS, Design
+from .errors import DesignError, NetworkError, RungwiseError
+from .evaluate import SUMMARY_KEYS, Evaluation, evaluate
+from .types import OUTPUTS_BY_TOPOLOGY, TOPOLOGIES
+
+__all__ = [
+    "FIELDS",
+    "OUTPUTS_BY_TOPOLOGY",
+    "SUMMARY_KEYS",
+    "TOPOLOGIES",
+    "Design",
+    "DesignError",
+    "Evaluation",
+    "NetworkError",
+    "RungwiseError",
+    "evaluate",
+]

@@ -1,0 +1,209 @@
+"""The design: one candidate network's every setting, as a frozen, validated dataclass.
+
+``Design.from_dict`` takes the same keys as the design file; every value is checked against
+``FIELDS`` and a bad one raises :class:`DesignError` naming the field and the allowed range.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+from collections.abc import Mapping
+from dataclasses import dataclass, field
+from types import MappingProxyType
+from typing import Any
+
+from .errors import DesignError
+from .types import MAX_BITS, OUTPUTS_BY_TOPOLOGY, TOPOLOGIES
+from .units import parse_value
+
+
+@dataclass(frozen=True)
+class FieldSpec:
+    """What one numeric design field accepts.
+
+    ``low``/``high`` are inclusive unless ``low_open``; ``allow_inf`` admits +∞ (an open load).
+    """
+
+    label: str
+    unit: str
+    low: float
+    high: float
+    low_open: bool = False
+    allow_inf: bool = False
+    integer: bool = False
+    optional: bool = False
+
+    def describe(self) -> str:
+        """The allowed range in words, e.g. ``"> 0 Ω and ≤ 1e+12 Ω, or open"``."""
+        u = f" {self.unit}" if self.unit else ""
+        low = f"> {self.low:g}{u}" if self.low_open else f"≥ {self.low:g}{u}"
+        text = f"{low} and ≤ {self.high:g}{u}"
+        if self.integer:
+            text = f"a whole number from {self.low:g} to {self.high:g}"
+        if self.allow_inf:
+            text += " (or 'open' for none)"
+        if self.optional:
+            text += " (or empty for the topology's default)"
+        return text
+
+
+FIELDS: dict[str, FieldSpec] = {
+    "bits": FieldSpec("Resolution", "bits", 1, MAX_BITS, integer=True),
+    "vref": FieldSpec("Reference voltage", "V", -1000.0, 1000.0),
+    "unit_r": FieldSpec("Unit resistor R", "Ω", 0.0, 1e12, low_open=True),
+    "ron_high": FieldSpec("Switch resistance, bit = 1", "Ω", 0.0, 1e9),
+    "ron_low": FieldSpec("Switch resistance, bit = 0", "Ω", 0.0, 1e9),
+    "ref_r": FieldSpec("Reference output resistance", "Ω", 0.0, 1e9),
+    "load_r": FieldSpec("Load resistance", "Ω", 0.0, 1e15, low_open=True, allow_inf=True),
+    "gain": FieldSpec("Buffer gain", "V/V", -1e6, 1e6),
+    "feedback_r": FieldSpec("Feedback resistor", "Ω", 0.0, 1e12, low_open=True, optional=True),
+}
+"""Numeric design fields with their display label, SI unit and allowed range."""
+
+
+def _check_number(key: str, value: Any) -> float | None:
+    spec = FIELDS[key]
+    if value is None or (isinstance(value, str) and value.strip() in {"", "default"}):
+        if spec.optional:
+            return None
+        raise DesignError(key, f"a value is required: {spec.describe()}")
+    x = parse_value(value, key)
+    if math.isnan(x):
+        raise DesignError(key, f"not a number; allowed: {spec.describe()}")
+    if math.isinf(x):
+        if spec.allow_inf and x > 0:
+            return math.inf
+        raise DesignError(key, f"must be finite; allowed: {spec.describe()}")
+    if spec.integer and x != int(x):
+        raise DesignError(key, f"{x:g} is not a whole number; allowed: {spec.describe()}")
+    too_low = x <= spec.low if spec.low_open else x < spec.low
+    if too_low or x > spec.high:
+        raise DesignError(key, f"{x:g} is out of range; allowed: {spec.describe()}")
+    if key in {"vref", "gain"} and x == 0:
+        raise DesignError(key, f"must not be zero; allowed: {spec.describe()}, not 0")
+    return int(x) if spec.integer else x
+
+
+@dataclass(frozen=True)
+class Design:
+    """One candidate network with every setting, in SI units.
+
+    Attributes
+    ----------
+    topology : str
+        One of ``TOPOLOGIES``.
+    output : str
+        Output variant allowed for the topology (``OUTPUTS_BY_TOPOLOGY``); ``None`` picks the default.
+    bits : int
+        Resolution N, 1 … 24.
+    vref, unit_r, ron_high, ron_low, ref_r, load_r, gain, feedback_r : float
+        Volts, ohms, V/V. ``load_r`` is ``inf`` for an open output; ``feedback_r`` ``None`` picks the
+        value that makes the ideal full scale ``Vref·(2^N − 1)/2^N``.
+    parts : Mapping[str, float]
+        As-built resistance overrides by part id, ohms.
+    name : str
+        A label for the candidate; empty means "use the topology".
+    """
+
+    topology: str = "r2r-voltage"
+    output: str | None = None
+    bits: int = 8
+    vref: float = 3.3
+    unit_r: float = 10e3
+    ron_high: float = 0.0
+    ron_low: float = 0.0
+    ref_r: float = 0.0
+    load_r: float = math.inf
+    gain: float = 1.0
+    feedback_r: float | None = None
+    parts: Mapping[str, float] = field(default_factory=dict)
+    name: str = ""
+
+    def __post_init__(self) -> None:
+        if self.topology not in TOPOLOGIES:
+            raise DesignError("topology", f"unknown topology {self.topology!r}; choose one of "
+                              + ", ".join(TOPOLOGIES))
+        allowed = OUTPUTS_BY_TOPOLOGY[self.topology]
+        output = allowed[0] if self.output in (None, "") else self.output
+        if output not in allowed:
+            raise DesignError("output", f"{output!r} is not an output of {self.topology}; choose one"
+                              " of " + ", ".join(allowed))
+        object.__setattr__(self, "output", output)
+        for key in FIELDS:
+            object.__setattr__(self, key, _check_number(key, getattr(self, key)))
+        if not isinstance(self.name, str):
+            raise DesignError("name", "must be text")
+        parts: dict[str, float] = {}
+        if not isinstance(self.parts, Mapping):
+            raise DesignError("parts", "must map part ids to ohms, e.g. {leg0 = 20.1e3}")
+        for pid, ohms in self.parts.items():
+            x = parse_value(ohms, f"parts.{pid}")
+            if not (math.isfinite(x) and 0 < x <= 1e12):
+                raise DesignError(f"parts.{pid}", f"{x:g} is out of range; allowed: > 0 Ω and "
+                                  "≤ 1e+12 Ω")
+            parts[str(pid)] = x
+        if parts:
+            from .topologies import part_ids  # local: topologies import this module
+
+            known = part_ids(self.topology, self.output, self.bits)
+            for pid in parts:
+                if pid not in known:
+                    raise DesignError(f"parts.{pid}", f"unknown part id for {self.topology} with "
+                                      f"{self.bits} bits; known ids: {_id_summary(known)}")
+        object.__setattr__(self, "parts", MappingProxyType(parts))
+
+    # --- conversions -------------------------------------------------------------------------
+    @classmethod
+    def from_dict(cls, data: Mapping[str, Any]) -> Design:
+        """Build a design from the design-file keys; unknown keys are refused by name."""
+        if not isinstance(data, Mapping):
+            raise DesignError("design", "expected a table of design keys")
+        names = {f.name for f in dataclasses.fields(cls)}
+        unknown = sorted(set(data) - names)
+        if unknown:
+            raise DesignError(unknown[0], "unknown design key; known keys: " + ", ".join(sorted(names)))
+        return cls(**dict(data))
+
+    def to_dict(self) -> dict[str, Any]:
+        """All keys as plain Python values (``load_r`` stays ``inf`` when open)."""
+        out = {f.name: getattr(self, f.name) for f in dataclasses.fields(self)}
+        out["parts"] = dict(self.parts)
+        return out
+
+    def replace(self, **changes: Any) -> Design:
+        """A copy with some fields changed (validated like a new design)."""
+        data = self.to_dict()
+        if "topology" in changes and "output" not in changes:
+            data["output"] = None
+        if ("bits" in changes or "topology" in changes) and "parts" not in changes:
+            data["parts"] = {}
+        data.update(changes)
+        return Design.from_dict(data)
+
+    def with_settings(self, settings: Mapping[str, str]) -> Design:
+        """Apply ``key=value`` strings typed by a person (``{"unit_r": "4k7"}``, ``parts.leg0``)."""
+        changes: dict[str, Any] = {}
+        parts = dict(self.parts)
+        for key, text in settings.items():
+            if key.startswith("parts."):
+                parts[key[len("parts."):]] = text
+            elif key in {"topology", "output", "name"} or key in FIELDS:
+                changes[key] = text
+            else:
+                known = ", ".join(["topology", "output", "name", *FIELDS, "parts.<id>"])
+                raise DesignError(key, f"unknown setting; known settings: {known}")
+        if parts != dict(self.parts):
+            changes["parts"] = parts
+        return self.replace(**changes)
+
+    @property
+    def label(self) -> str:
+        """The name shown for this candidate."""
+        return self.name or f"{self.topology} ({self.output})"
+
+
+def _id_summary(ids: list[str]) -> str:
+    if len(ids) <= 8:
+        return ", ".join(ids)
+    return ", ".join(ids[:4]) + ", …, " + ", ".join(ids[-3:])

@@ -1,0 +1,166 @@
+"""``evaluate(design)``: every per-code array and the summary figures of one candidate."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+
+from .design import Design
+from .metrics import linearity
+from .metrics.structure import structure
+from .network import Network
+from .solve import Solution, solve
+from .topologies import build
+
+
+@dataclass
+class Evaluation:
+    """Results of one design at every code.
+
+    Attributes
+    ----------
+    design : Design
+    codes : ndarray of int, shape (n_codes,)
+    vout : ndarray, shape (n_codes,), volts
+    rout : ndarray, shape (n_codes,), ohms — Thevenin resistance at the output, load excluded
+    iref : ndarray, shape (n_codes,), amperes — delivered by the reference
+    inl_endpoint : ndarray, shape (n_codes,), endpoint LSB
+    inl_bestfit : ndarray, shape (n_codes,), LSB of the least-squares slope
+    dnl : ndarray, shape (n_codes − 1,), endpoint LSB
+    summary : dict[str, float | int | bool | str]
+        Scalar figures (see :data:`SUMMARY_KEYS`).
+    parts : list[dict]
+        ``{"id", "ohms", "role"}`` per resistor, in display order.
+    network : Network
+    solution : Solution
+    """
+
+    design: Design
+    codes: np.ndarray
+    vout: np.ndarray
+    rout: np.ndarray
+    iref: np.ndarray
+    inl_endpoint: np.ndarray
+    inl_bestfit: np.ndarray
+    dnl: np.ndarray
+    summary: dict[str, Any]
+    parts: list[dict[str, Any]]
+    network: Network = field(repr=False)
+    solution: Solution = field(repr=False)
+
+    def per_code(self) -> dict[str, np.ndarray]:
+        """Per-code arrays by name; ``dnl`` is padded with NaN at the last code."""
+        return {
+            "code": self.codes, "vout": self.vout, "rout": self.rout, "iref": self.iref,
+            "inl_endpoint": self.inl_endpoint, "inl_bestfit": self.inl_bestfit,
+            "dnl": np.append(self.dnl, np.nan),
+        }
+
+
+SUMMARY_KEYS: dict[str, tuple[str, str]] = {
+    "ideal_lsb": ("Ideal LSB", "V"),
+    "ideal_full_scale": ("Ideal full scale", "V"),
+    "lsb": ("Endpoint LSB", "V"),
+    "full_scale": ("Full scale (last code)", "V"),
+    "offset_error": ("Offset error", "V"),
+    "gain_error": ("Gain error", "fraction"),
+    "gain_error_lsb": ("Gain error at full scale", "LSB"),
+    "max_abs_inl_endpoint": ("Max |INL|, endpoint", "LSB"),
+    "max_abs_inl_bestfit": ("Max |INL|, best fit", "LSB"),
+    "max_abs_dnl": ("Max |DNL|", "LSB"),
+    "monotonic": ("Monotonic", ""),
+    "rout_min": ("Output resistance, min", "Ω"),
+    "rout_min_code": ("  at code", ""),
+    "rout_max": ("Output resistance, max", "Ω"),
+    "rout_max_code": ("  at code", ""),
+    "iref_min": ("Reference current, min", "A"),
+    "iref_min_code": ("  at code", ""),
+    "iref_max": ("Reference current, max", "A"),
+    "iref_max_code": ("  at code", ""),
+    "n_resistors": ("Resistors", ""),
+    "n_distinct_values": ("Distinct values", ""),
+    "spread": ("Resistance spread", "×"),
+    "total_r_units": ("Total resistance", "R"),
+    "n_switches": ("Switches", ""),
+    "n_amplifiers": ("Amplifiers", ""),
+}
+"""Summary key → (label, unit) in display order."""
+
+
+def _argmin_max(x: np.ndarray) -> tuple[float, int, float, int]:
+    finite = np.where(np.isfinite(x), x, np.nan)
+    if np.all(np.isnan(finite)):
+        return float(x[0]), 0, float(x[0]), 0
+    lo, hi = int(np.nanargmin(finite)), int(np.nanargmax(finite))
+    if np.any(np.isposinf(x)):
+        hi = int(np.argmax(np.isposinf(x)))
+    return float(x[lo]), lo, float(x[hi]), hi
+
+
+def summarize(design: Design, net: Network, sol: Solution) -> dict[str, Any]:
+    """Scalar figures of a nominal solution (see :data:`SUMMARY_KEYS`)."""
+    v = sol.vout
+    n_codes = v.shape[-1]
+    ideal = net.ideal_lsb
+    lsb = float(linearity.endpoint_lsb(v))
+    inl_e = linearity.inl_endpoint(v)
+    inl_b = linearity.inl_bestfit(v)
+    steps = linearity.dnl(v)
+    gain_error = lsb / ideal - 1.0 if ideal else float("nan")
+    out: dict[str, Any] = {
+        "ideal_lsb": ideal,
+        "ideal_full_scale": ideal * (n_codes - 1),
+        "lsb": lsb,
+        "full_scale": float(v[-1]),
+        "offset_error": float(v[0]),
+        "gain_error": gain_error,
+        "gain_error_lsb": gain_error * (n_codes - 1),
+        "max_abs_inl_endpoint": float(np.nanmax(np.abs(inl_e))),
+        "max_abs_inl_bestfit": float(np.nanmax(np.abs(inl_b))),
+        "max_abs_dnl": float(np.nanmax(np.abs(steps))) if steps.size else 0.0,
+        "monotonic": bool(linearity.monotonic(v)),
+    }
+    for name, arr in (("rout", sol.rout), ("iref", sol.iref)):
+        lo, lo_code, hi, hi_code = _argmin_max(arr)
+        out.update({f"{name}_min": lo, f"{name}_min_code": lo_code, f"{name}_max": hi,
+                    f"{name}_max_code": hi_code})
+    out.update(structure(net, design.unit_r))
+    return out
+
+
+def evaluate(design: Design) -> Evaluation:
+    """Solve ``design`` at every code and compute its figures.
+
+    Parameters
+    ----------
+    design : Design
+
+    Returns
+    -------
+    Evaluation
+        Arrays of shape (n_codes,) (``dnl``: n_codes − 1), SI units, INL/DNL in LSB.
+
+    Raises
+    ------
+    NetworkError
+        The network cannot be solved (names the floating node).
+    """
+    net = build(design)
+    sol = solve(net)
+    v = sol.vout
+    return Evaluation(
+        design=design,
+        codes=np.arange(net.n_codes),
+        vout=v,
+        rout=sol.rout,
+        iref=sol.iref,
+        inl_endpoint=linearity.inl_endpoint(v),
+        inl_bestfit=linearity.inl_bestfit(v),
+        dnl=linearity.dnl(v),
+        summary=summarize(design, net, sol),
+        parts=[{"id": p.part_id, "ohms": p.ohms, "role": p.role} for p in net.parts],
+        network=net,
+        solution=sol,
+    )

@@ -1,0 +1,1 @@
+"""Figures of merit computed from solved networks (linearity, structure)."""

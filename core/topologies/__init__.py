@@ -1,0 +1,30 @@
+"""Topology builders: each turns a :class:`Design` into a neutral :class:`Network`.
+
+A builder never solves anything. ``BUILDERS`` maps a topology name to its module; a new topology
+registers here and in ``types.Topology``.
+"""
+
+from __future__ import annotations
+
+from types import ModuleType
+
+from ..design import Design
+from ..network import Network
+from . import binary_weighted, r2r_current, r2r_voltage
+
+BUILDERS: dict[str, ModuleType] = {
+    "binary-weighted": binary_weighted,
+    "r2r-voltage": r2r_voltage,
+    "r2r-current": r2r_current,
+}
+"""Topology name → builder module (with ``build(design)`` and ``part_ids(output, bits)``)."""
+
+
+def build(design: Design) -> Network:
+    """The neutral network of ``design``."""
+    return BUILDERS[design.topology].build(design)
+
+
+def part_ids(topology: str, output: str, bits: int) -> list[str]:
+    """Every part id a design of this topology, output and resolution has, in display order."""
+    return BUILDERS[topology].part_ids(output, bits)
