@@ -1,11 +1,24 @@
 """Design files: TOML in our own layout, written atomically, refused whole when damaged.
 
-Layout (schema version 1)::
+Layout (schema version 2; older versions are upgraded on load, see ``designfile_upgrade.py``)::
 
     format = "rungwise-design"
-    version = 1
+    version = 2
 
-    [[candidate]]
+    [analysis]               # Monte Carlo set-up, so a statistics run can be repeated
+    trials = 1000
+    seed = 4711
+
+    [targets]                # what the review judges each candidate against
+    max_inl_lsb = 0.5
+    max_dnl_lsb = 0.5
+    monotonic = true
+    inl_line = "endpoint"
+    min_yield = 0.99
+
+    [settings]               # free table kept for the window (optional)
+
+    [[candidate]]            # one table per compared candidate; keys are Design keys
     name = "R-2R ladder"
     topology = "r2r-voltage"
     bits = 8
@@ -14,56 +27,97 @@ Layout (schema version 1)::
     [candidate.parts]        # optional as-built values, ohms
     leg0 = 20100.0
 
-Every candidate key is a :class:`Design` key. Reading never changes anything on failure; writing
-goes to a temporary file in the same folder and is renamed over the target.
+Candidate tables are written from ``Design.to_dict`` and read with ``Design.from_dict``, so a key
+added to ``Design`` needs no code here. Reading never changes anything: a damaged file raises
+:class:`DesignError` naming the key path (``candidate[1].unit_r``) and its line. Writing goes to a
+temporary file in the same folder, flushed to disk, then renamed over the target.
 """
 
 from __future__ import annotations
 
+import dataclasses
 import math
 import os
+import re
 import tempfile
 import tomllib
+from collections.abc import Mapping
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
+import numpy as np
 import tomli_w
 
 from .design import Design
+from .designfile_upgrade import CURRENT_VERSION, upgrade
 from .errors import DesignError
+from .targets import AnalysisSettings, Targets
 
 FORMAT_NAME = "rungwise-design"
 """Value of the ``format`` key that marks one of our design files."""
 
-SCHEMA_VERSION = 1
+SCHEMA_VERSION = CURRENT_VERSION
 """Schema version this program writes; older versions are upgraded on load, newer refused."""
+
+TOP_LEVEL_KEYS = ("format", "version", "analysis", "targets", "settings", "candidate")
+"""Keys a current design file may hold at its top level."""
+
+MAX_FILE_BYTES = 20_000_000
+"""Largest design file read, bytes (a real one is a few kilobytes)."""
+
+_MAX_INT = 2**63 - 1  # TOML's own integer range
 
 
 @dataclass
 class DesignFile:
-    """The contents of a design file: the candidates compared, in order, and free settings."""
+    """The contents of a design file.
+
+    Attributes
+    ----------
+    candidates : list[Design]
+        The candidates compared, in order (at least one).
+    settings : dict
+        Free table kept for the window (view choices and the like).
+    analysis : AnalysisSettings
+        Monte Carlo trials and seed.
+    targets : Targets
+        Limits the review judges against.
+    """
 
     candidates: list[Design]
     settings: dict[str, Any] = field(default_factory=dict)
+    analysis: AnalysisSettings = field(default_factory=AnalysisSettings)
+    targets: Targets = field(default_factory=Targets)
 
 
+# --- writing ---------------------------------------------------------------------------------
 def _toml_value(value: Any) -> Any:
+    """A value TOML can hold: ``inf`` → ``"open"``, mappings/dataclasses → tables, ``None`` dropped."""
+    if isinstance(value, np.generic):
+        value = value.item()
+    if dataclasses.is_dataclass(value) and not isinstance(value, type):
+        value = dataclasses.asdict(value)
     if isinstance(value, float) and math.isinf(value):
-        return "open"
-    if isinstance(value, dict):
-        return {k: _toml_value(v) for k, v in value.items()}
+        return "open" if value > 0 else "-inf"
+    if isinstance(value, Mapping):
+        return {str(k): _toml_value(v) for k, v in value.items() if v is not None}
+    if isinstance(value, list | tuple):
+        return [_toml_value(v) for v in value]
     return value
 
 
 def dumps(doc: DesignFile) -> str:
     """The TOML text of ``doc``."""
-    data: dict[str, Any] = {"format": FORMAT_NAME, "version": SCHEMA_VERSION}
+    if not doc.candidates:
+        raise DesignError("candidate", "a design file needs at least one candidate")
+    data: dict[str, Any] = {"format": FORMAT_NAME, "version": SCHEMA_VERSION,
+                            "analysis": doc.analysis.to_dict(), "targets": doc.targets.to_dict()}
     if doc.settings:
         data["settings"] = _toml_value(doc.settings)
     cands = []
     for d in doc.candidates:
-        entry = {k: _toml_value(v) for k, v in d.to_dict().items() if v is not None}
+        entry = _toml_value(d.to_dict())
         if not entry.get("parts"):
             entry.pop("parts", None)
         cands.append(entry)
@@ -71,64 +125,17 @@ def dumps(doc: DesignFile) -> str:
     return tomli_w.dumps(data)
 
 
-def loads(text: str, source: str = "design file") -> DesignFile:
-    """Parse design-file text.
-
-    Raises
-    ------
-    DesignError
-        Not TOML (with line and column), not our format, a newer version, or a bad design key
-        (named as ``candidate[i].key``).
-    """
-    try:
-        data = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise DesignError(source, f"not a readable TOML file: {exc}") from None
-    if data.get("format") != FORMAT_NAME:
-        raise DesignError("format", f"{source} is not a Rungwise design file (expected "
-                          f"format = \"{FORMAT_NAME}\")")
-    version = data.get("version")
-    if not isinstance(version, int) or isinstance(version, bool) or version < 1:
-        raise DesignError("version", "must be a whole number ≥ 1")
-    if version > SCHEMA_VERSION:
-        raise DesignError("version", f"{source} was written by a newer Rungwise (schema "
-                          f"{version}; this program reads up to {SCHEMA_VERSION})")
-    raw = data.get("candidate")
-    if not isinstance(raw, list) or not raw:
-        raise DesignError("candidate", "the file lists no [[candidate]] tables")
-    candidates = []
-    for i, entry in enumerate(raw):
-        if not isinstance(entry, dict):
-            raise DesignError(f"candidate[{i}]", "must be a table of design keys")
-        try:
-            candidates.append(Design.from_dict(entry))
-        except DesignError as exc:
-            raise DesignError(f"candidate[{i}].{exc.field}", exc.reason) from None
-    settings = data.get("settings", {})
-    if not isinstance(settings, dict):
-        raise DesignError("settings", "must be a table")
-    return DesignFile(candidates=candidates, settings=settings)
-
-
-def load(path: Path) -> DesignFile:
-    """Read a design file; see :func:`loads` for the errors."""
-    path = Path(path)
-    try:
-        text = path.read_text(encoding="utf-8")
-    except FileNotFoundError:
-        raise DesignError("file", f"{path} does not exist") from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise DesignError("file", f"cannot read {path}: {exc}") from None
-    return loads(text, source=str(path))
-
-
 def save(path: Path, doc: DesignFile) -> None:
-    """Write ``doc`` atomically: a temporary file in the same folder, flushed, then renamed."""
+    """Write ``doc`` atomically: a temporary file in the same folder, flushed, then renamed.
+
+    If anything fails (the text cannot be made, the disk is full, the rename is refused) the file
+    at ``path`` is left as it was and the temporary file is removed.
+    """
     path = Path(path)
     text = dumps(doc)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent or ".")
+    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
     try:
-        with os.fdopen(fd, "w", encoding="utf-8") as fh:
+        with os.fdopen(fd, "w", encoding="utf-8", newline="\n") as fh:
             fh.write(text)
             fh.flush()
             os.fsync(fh.fileno())
@@ -136,3 +143,145 @@ def save(path: Path, doc: DesignFile) -> None:
     except BaseException:
         Path(tmp).unlink(missing_ok=True)
         raise
+
+
+# --- reading ---------------------------------------------------------------------------------
+_TOML_WHERE = re.compile(r"^(?P<what>.*?)\s*\(at line (?P<line>\d+), column (?P<col>\d+)\)\s*$")
+_TOML_END = re.compile(r"^(?P<what>.*?)\s*\(at end of document\)\s*$")
+
+
+def _syntax_message(exc: tomllib.TOMLDecodeError, text: str) -> str:
+    msg = str(exc)
+    m = _TOML_WHERE.match(msg)
+    if m:
+        return f"line {m['line']}, column {m['col']}: not valid TOML ({m['what']})"
+    m = _TOML_END.match(msg)
+    if m:
+        return f"line {text.count(chr(10)) + 1} (end of file): not valid TOML ({m['what']})"
+    return f"not valid TOML ({msg})"
+
+
+def _line_of(text: str, path: str) -> int | None:
+    """Best-effort line number of a key path like ``candidate[1].unit_r`` in the file's text."""
+    lines = text.splitlines()
+    m = re.match(r"^candidate\[(\d+)\](?:\.(\w+))?", path)
+    if m:
+        heads = [i for i, ln in enumerate(lines) if re.match(r"^\s*\[\[\s*candidate\s*\]\]", ln)]
+        idx = int(m[1])
+        if idx >= len(heads):
+            return None
+        start = heads[idx]
+        if not m[2]:
+            return start + 1
+        end = heads[idx + 1] if idx + 1 < len(heads) else len(lines)
+        for i in range(start, end):
+            if re.match(rf"^\s*{re.escape(m[2])}\s*=", lines[i]):
+                return i + 1
+        return start + 1
+    section, _, key = path.partition(".")
+    pattern = rf"^\s*{re.escape(key)}\s*=" if key else rf"^\s*\[\s*{re.escape(section)}\s*\]"
+    in_section = not key or section in {"format", "version"}
+    for i, ln in enumerate(lines):
+        if key and re.match(rf"^\s*\[\s*{re.escape(section)}\s*\]", ln):
+            in_section = True
+        elif key and re.match(r"^\s*\[", ln):
+            in_section = False
+        if in_section and re.match(pattern, ln):
+            return i + 1
+        if not key and re.match(rf"^\s*{re.escape(section)}\s*=", ln):
+            return i + 1
+    return None
+
+
+def _check_sizes(obj: Any, path: str) -> None:
+    """Refuse integers beyond TOML's 64-bit range anywhere (they would overflow a float)."""
+    if isinstance(obj, bool):
+        return
+    if isinstance(obj, int) and abs(obj) > _MAX_INT:
+        raise DesignError(path, "number too large (more than 19 digits)")
+    if isinstance(obj, dict):
+        for k, v in obj.items():
+            _check_sizes(v, f"{path}.{k}" if path else k)
+    elif isinstance(obj, list):
+        for i, v in enumerate(obj):
+            _check_sizes(v, f"{path}[{i}]")
+
+
+def _read_design(entry: Any, where: str) -> Design:
+    if not isinstance(entry, dict):
+        raise DesignError(where, "must be a table of design keys")
+    try:
+        return Design.from_dict(entry)
+    except DesignError as exc:
+        raise DesignError(f"{where}.{exc.field}", exc.reason) from None
+    except (TypeError, ValueError, OverflowError) as exc:  # a value of a type no check expected
+        raise DesignError(where, f"cannot use these values ({exc})") from None
+
+
+def _parse(data: dict[str, Any], source: str) -> DesignFile:
+    if data.get("format") != FORMAT_NAME:
+        raise DesignError("format", f"{source} is not a Rungwise design file (expected "
+                          f"format = \"{FORMAT_NAME}\")")
+    version = data.get("version")
+    if not isinstance(version, int) or isinstance(version, bool) or version < 0:
+        raise DesignError("version", f"must be a whole number ≥ 0, got {version!r}")
+    if version > SCHEMA_VERSION:
+        raise DesignError("version", f"{source} was written by a newer Rungwise (schema "
+                          f"{version}; this program reads up to {SCHEMA_VERSION}); it was not opened")
+    _check_sizes(data, "")
+    data = upgrade(data, version)
+    unknown = sorted(set(data) - set(TOP_LEVEL_KEYS))
+    if unknown:
+        raise DesignError(unknown[0], "unknown top-level key; known keys: " + ", ".join(TOP_LEVEL_KEYS))
+    raw = data.get("candidate")
+    if not isinstance(raw, list) or not raw:
+        raise DesignError("candidate", "the file lists no [[candidate]] tables")
+    candidates = [_read_design(entry, f"candidate[{i}]") for i, entry in enumerate(raw)]
+    settings = data.get("settings", {})
+    if not isinstance(settings, dict):
+        raise DesignError("settings", "must be a table")
+    return DesignFile(candidates=candidates, settings=settings,
+                      analysis=AnalysisSettings.from_dict(data.get("analysis", {})),
+                      targets=Targets.from_dict(data.get("targets", {})))
+
+
+def loads(text: str, source: str = "design file") -> DesignFile:
+    """Parse design-file text (any schema version up to :data:`SCHEMA_VERSION`).
+
+    Raises
+    ------
+    DesignError
+        Not TOML (field ``source``, message with line and column), not our format, a newer
+        version, an unknown key, or a bad value (field is the key path such as
+        ``candidate[1].unit_r``, message with its line when it can be found).
+    """
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise DesignError(source, _syntax_message(exc, text)) from None
+    except RecursionError:
+        raise DesignError(source, "nested too deeply to be a design file") from None
+    try:
+        return _parse(data, source)
+    except DesignError as exc:
+        line = _line_of(text, exc.field)
+        where = f" (line {line})" if line else ""
+        raise DesignError(exc.field, f"{exc.reason}{where} in {source}") from None
+    except RecursionError:
+        raise DesignError(source, "nested too deeply to be a design file") from None
+
+
+def load(path: Path) -> DesignFile:
+    """Read a design file; see :func:`loads` for the errors. Never writes anything."""
+    path = Path(path)
+    try:
+        size = path.stat().st_size
+        if size > MAX_FILE_BYTES:
+            raise DesignError("file", f"{path} is {size} bytes; a design file is at most "
+                              f"{MAX_FILE_BYTES} bytes")
+        text = path.read_text(encoding="utf-8")
+    except FileNotFoundError:
+        raise DesignError("file", f"{path} does not exist") from None
+    except (OSError, UnicodeDecodeError) as exc:
+        raise DesignError("file", f"cannot read {path}: {exc}") from None
+    return loads(text, source=str(path))

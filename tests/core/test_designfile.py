@@ -1,0 +1,254 @@
+"""Design files: round trip, upgrades of older layouts, atomic writes, damaged files refused."""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+import os
+from pathlib import Path
+
+import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+
+from rungwise.core import FIELDS, OUTPUTS_BY_TOPOLOGY, TOPOLOGIES, Design, DesignError
+from rungwise.core import designfile as dfile
+from rungwise.core.demo import demo_candidates
+from rungwise.core.targets import AnalysisSettings, Targets
+from rungwise.core.topologies import part_ids
+
+
+def _field_value(spec) -> st.SearchStrategy:
+    if spec.integer:
+        return st.integers(int(spec.low), min(int(spec.high), 12))
+    low = spec.low
+    values = st.floats(low, spec.high, allow_nan=False, allow_infinity=False,
+                       exclude_min=spec.low_open)
+    if low < 0 < spec.high:  # vref, gain: zero is refused
+        values = values.filter(lambda x: x != 0)
+    if spec.allow_inf:
+        values = st.one_of(values, st.just(math.inf))
+    if spec.optional:
+        values = st.one_of(values, st.none())
+    return values
+
+
+@st.composite
+def designs(draw) -> Design:
+    """Any valid design: every numeric key from its FIELDS range, topology/output, name, parts."""
+    topology = draw(st.sampled_from(TOPOLOGIES))
+    output = draw(st.sampled_from(OUTPUTS_BY_TOPOLOGY[topology]))
+    values = {k: draw(_field_value(spec)) for k, spec in FIELDS.items()}
+    name = draw(st.text(max_size=20).filter(lambda s: "\x00" not in s))
+    base = Design(topology=topology, output=output, **values, name=name)
+    ids = part_ids(topology, base.output, base.bits)
+    chosen = draw(st.lists(st.sampled_from(ids), max_size=3, unique=True))
+    parts = {pid: draw(st.floats(1e-3, 1e12, allow_nan=False)) for pid in chosen}
+    return base.replace(parts=parts) if parts else base
+
+
+@settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(cands=st.lists(designs(), min_size=1, max_size=3),
+       seed=st.integers(0, 2**63 - 1), trials=st.integers(1, 10**6),
+       inl=st.floats(0, 100), line=st.sampled_from(["endpoint", "bestfit"]))
+def test_round_trip_gives_equal_designs(cands, seed, trials, inl, line):
+    doc = dfile.DesignFile(cands, settings={"view": "inl"},
+                           analysis=AnalysisSettings(trials=trials, seed=seed),
+                           targets=Targets(max_inl_lsb=inl, inl_line=line))
+    back = dfile.loads(dfile.dumps(doc))
+    assert back == doc
+    for a, b in zip(back.candidates, cands, strict=True):
+        assert a.to_dict() == b.to_dict()
+
+
+def test_every_design_key_is_written():
+    d = demo_candidates()[0]
+    text = dfile.dumps(dfile.DesignFile([d.replace(feedback_r=5e3, parts={"leg0": 20.1e3})]))
+    for f in dataclasses.fields(Design):
+        assert f"\n{f.name} = " in text or f"[candidate.{f.name}]" in text, f.name
+
+
+def test_file_on_disk_round_trip(tmp_path: Path):
+    path = tmp_path / "pick.toml"
+    doc = dfile.DesignFile(demo_candidates(), analysis=AnalysisSettings(trials=250, seed=99))
+    dfile.save(path, doc)
+    assert dfile.load(path) == doc
+    assert [p.name for p in tmp_path.iterdir()] == ["pick.toml"]
+
+
+# --- older layouts ---------------------------------------------------------------------------
+VERSION_0 = """
+format = "rungwise-design"
+version = 0
+seed = 31
+trials = 400
+
+[design]
+topology = "binary-weighted"
+output = "terminated-divider"
+bits = 6
+vref = 5.0
+unit_r = 4700.0
+load_r = "open"
+"""
+
+VERSION_1 = """
+format = "rungwise-design"
+version = 1
+
+[settings]
+seed = 8
+trials = 64
+view = "dnl"
+
+[[candidate]]
+topology = "r2r-voltage"
+bits = 10
+unit_r = "4k7"
+
+[[candidate]]
+topology = "r2r-current"
+bits = 10
+"""
+
+
+def test_version_0_single_design_is_upgraded():
+    doc = dfile.loads(VERSION_0)
+    assert doc.candidates == [Design(topology="binary-weighted", output="terminated-divider",
+                                     bits=6, vref=5.0, unit_r=4700.0)]
+    assert doc.analysis == AnalysisSettings(trials=400, seed=31)
+    assert doc.targets == Targets()
+    assert doc.settings == {}
+
+
+def test_version_1_settings_seed_moves_to_analysis():
+    doc = dfile.loads(VERSION_1)
+    assert [c.topology for c in doc.candidates] == ["r2r-voltage", "r2r-current"]
+    assert doc.candidates[0].unit_r == 4700.0
+    assert doc.analysis == AnalysisSettings(trials=64, seed=8)
+    assert doc.settings == {"view": "dnl"}
+    # an upgraded file is written back in the current layout and reads the same
+    again = dfile.loads(dfile.dumps(doc))
+    assert again == doc
+    assert f"version = {dfile.SCHEMA_VERSION}" in dfile.dumps(doc)
+
+
+def test_old_file_with_bad_value_names_the_key():
+    with pytest.raises(DesignError) as info:
+        dfile.loads(VERSION_0.replace("bits = 6", "bits = 99"))
+    assert info.value.field == "candidate[0].bits"
+    assert "out of range" in str(info.value)
+
+
+# --- damaged files ---------------------------------------------------------------------------
+def _good_text() -> str:
+    return dfile.dumps(dfile.DesignFile(demo_candidates()))
+
+
+def _second_candidate(text: str, old: str, new: str) -> str:
+    head, sep, tail = text.partition("[[candidate]]")
+    head2, sep2, tail2 = tail.partition("[[candidate]]")
+    assert old in tail2
+    return head + sep + head2 + sep2 + tail2.replace(old, new, 1)
+
+
+@pytest.mark.parametrize(
+    ("change", "field", "words"),
+    [
+        (lambda t: t[: len(t) // 2] + "\n[[cand", "x.toml", "line"),
+        (lambda t: t.replace('format = "rungwise-design"', 'format = "other"'), "format", "not a"),
+        (lambda t: t.replace("version = 2", "version = 3"), "version", "newer"),
+        (lambda t: t.replace("version = 2", 'version = "2"'), "version", "whole number"),
+        (lambda t: _second_candidate(t, "unit_r = 10000.0", "unit_r = -1.0"),
+         "candidate[1].unit_r", "out of range"),
+        (lambda t: _second_candidate(t, "unit_r = 10000.0", "unit_r = [1, 2]"),
+         "candidate[1].unit_r", "cannot read"),
+        (lambda t: _second_candidate(t, "bits = 8", "bits = 1e400"), "candidate[1].bits", "finite"),
+        (lambda t: _second_candidate(t, "bits = 8", "bits = 123456789012345678901234567890"),
+         "candidate[1].bits", "too large"),
+        (lambda t: _second_candidate(t, "bits = 8", "bits = 8\ncolour = 3"), "candidate[1].colour",
+         "unknown"),
+        (lambda t: t.replace("[targets]", "[targets]\nstrictness = 2"), "targets.strictness",
+         "unknown"),
+        (lambda t: t.replace("seed = 1", "seed = -4"), "analysis.seed", "out of range"),
+        (lambda t: t.replace("monotonic = true", "monotonic = 1"), "targets.monotonic", "true or false"),
+        (lambda t: "extra = 1\n" + t, "extra", "unknown top-level"),
+        (lambda t: t.split("[[candidate]]")[0], "candidate", "no [[candidate]]"),
+        (lambda t: _second_candidate(t, 'name = "Binary-weighted"', "name = 5"), "candidate[1].name",
+         "text"),
+    ],
+)
+def test_damaged_file_is_refused_with_what_and_where(change, field, words):
+    text = change(_good_text())
+    with pytest.raises(DesignError) as info:
+        dfile.loads(text, source="x.toml")
+    assert info.value.field == field
+    assert words in str(info.value)
+
+
+def test_bad_value_message_gives_its_line():
+    text = _second_candidate(_good_text(), "unit_r = 10000.0", "unit_r = -1.0")
+    line = next(i + 1 for i, ln in enumerate(text.splitlines()) if ln == "unit_r = -1.0")
+    with pytest.raises(DesignError, match=rf"\(line {line}\) in x\.toml"):
+        dfile.loads(text, source="x.toml")
+
+
+def test_syntax_error_gives_line_and_column():
+    text = _good_text().replace("bits = 8", "bits = = 8", 1)
+    line = next(i + 1 for i, ln in enumerate(text.splitlines()) if ln == "bits = = 8")
+    with pytest.raises(DesignError, match=rf"line {line}, column \d+: not valid TOML"):
+        dfile.loads(text, source="x.toml")
+
+
+def test_unreadable_files_are_refused(tmp_path: Path):
+    with pytest.raises(DesignError, match="does not exist"):
+        dfile.load(tmp_path / "missing.toml")
+    binary = tmp_path / "b.toml"
+    binary.write_bytes(b"\xff\xfe\x00garbage")
+    with pytest.raises(DesignError, match="cannot read"):
+        dfile.load(binary)
+    nested = tmp_path / "n.toml"
+    nested.write_text('format = "rungwise-design"\nversion = 2\nx = ' + "[" * 5000 + "]" * 5000)
+    with pytest.raises(DesignError):
+        dfile.load(nested)
+
+
+def test_loading_a_damaged_file_leaves_it_untouched(tmp_path: Path):
+    path = tmp_path / "d.toml"
+    damaged = _good_text().replace("bits = 8", "bits = 800", 1)
+    path.write_text(damaged)
+    before = (path.read_bytes(), os.stat(path).st_mtime_ns)
+    with pytest.raises(DesignError):
+        dfile.load(path)
+    assert (path.read_bytes(), os.stat(path).st_mtime_ns) == before
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["d.toml"]
+
+
+# --- atomic writes ---------------------------------------------------------------------------
+@pytest.mark.parametrize("where", ["write", "replace"])
+def test_interrupted_save_keeps_the_previous_file(tmp_path: Path, monkeypatch, where):
+    path = tmp_path / "keep.toml"
+    dfile.save(path, dfile.DesignFile(demo_candidates()))
+    before = path.read_bytes()
+
+    def boom(*args, **kwargs):
+        raise OSError("disk full (simulated)")
+
+    if where == "replace":
+        monkeypatch.setattr(dfile.os, "replace", boom)
+    else:
+        monkeypatch.setattr(dfile.os, "fsync", boom)
+    changed = dfile.DesignFile([demo_candidates()[0].replace(bits=12)])
+    with pytest.raises(OSError, match="simulated"):
+        dfile.save(path, changed)
+    assert path.read_bytes() == before
+    assert [p.name for p in tmp_path.iterdir()] == ["keep.toml"]
+
+
+def test_unwritable_design_refused_before_touching_the_file(tmp_path: Path):
+    path = tmp_path / "keep.toml"
+    path.write_text("previous")
+    with pytest.raises(DesignError, match="at least one candidate"):
+        dfile.save(path, dfile.DesignFile([]))
+    assert path.read_text() == "previous"
+    assert [p.name for p in tmp_path.iterdir()] == ["keep.toml"]
