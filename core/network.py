@@ -129,11 +129,21 @@ class Network:
         return [n for n in seen if n not in self.fixed]
 
 
-def binary_decoder(leg_bits: list[int]) -> Callable[[np.ndarray], np.ndarray]:
-    """Decoder for legs driven by one code bit each (``leg_bits[l]`` is leg l's bit, 0 = LSB)."""
-    bits = np.asarray(leg_bits, dtype=np.int64)
+class BinaryDecoder:
+    """Decoder for legs driven by one code bit each (``leg_bits[l]`` is leg l's bit, 0 = LSB).
 
-    def decode(codes: np.ndarray) -> np.ndarray:
-        return ((np.asarray(codes, dtype=np.int64)[:, None] >> bits[None, :]) & 1).astype(bool)
+    The solver reads ``leg_bits`` to lay codes out as one array axis per bit (see ``solve.py``).
+    """
 
-    return decode
+    def __init__(self, leg_bits: list[int]) -> None:
+        self.leg_bits = tuple(int(b) for b in leg_bits)
+        self._bits = np.asarray(self.leg_bits, dtype=np.int64)
+
+    def __call__(self, codes: np.ndarray) -> np.ndarray:
+        """Drive states, shape (n_codes, n_legs), bool."""
+        return ((np.asarray(codes, dtype=np.int64)[:, None] >> self._bits[None, :]) & 1).astype(bool)
+
+
+def binary_decoder(leg_bits: list[int]) -> BinaryDecoder:
+    """A :class:`BinaryDecoder` for ``leg_bits``."""
+    return BinaryDecoder(leg_bits)

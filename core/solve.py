@@ -67,6 +67,11 @@ class _Stamps:
     def __init__(self, net: Network, ohms: Mapping[str, np.ndarray | float]) -> None:
         self.net = net
         self.ohms = ohms
+        self.rebuild()
+
+    def rebuild(self) -> None:
+        """(Re)compute every stamp from ``self.ohms`` (after a change of array layout)."""
+        net, ohms = self.net, self.ohms
         self.nodes = net.unknown_nodes()
         self.index = {name: i for i, name in enumerate(self.nodes)}
         n = len(self.nodes)
@@ -130,14 +135,14 @@ class _Stamps:
         return True
 
 
-def _rhs_arrays(n: int, b: dict[int, list], probe_node: int | None, shape: tuple[int, ...]):
-    """Right-hand sides per unknown as arrays of shape ``shape + (2,)``: sources, probe."""
+def _rhs_arrays(n: int, b: dict[int, list], probe_node: int | None):
+    """Right-hand sides per unknown, each of shape ``value_shape + (2,)``: sources, probe."""
     out = []
     for i in range(n):
         col = b.get(i, [0.0, 0.0])
         probe = col[1] + (1.0 if probe_node == i else 0.0)
-        out.append(np.stack([np.broadcast_to(np.asarray(col[0], float), shape),
-                             np.broadcast_to(np.asarray(probe, float), shape)], axis=-1))
+        out.append(np.stack(np.broadcast_arrays(np.asarray(col[0], float),
+                                                np.asarray(probe, float)), axis=-1))
     return out
 
 
@@ -220,6 +225,7 @@ def solve(
     ohms = dict(ohms or {})
     st = _Stamps(net, ohms)
     _check_connected(net, st.nodes)
+    full_range = codes is None
     codes = np.arange(net.n_codes) if codes is None else np.asarray(codes, dtype=np.int64)
     linear = st.superposition_holds()
     if method == "superposition" and not linear:
@@ -231,17 +237,23 @@ def solve(
     probe_node = None if st.virtual else st.index[net.output.node]
     plan = _plan(st.n, st.pairs)
     per_code = max(1, int(np.prod(trial_shape)))
+    leg_bits = getattr(net.decode, "leg_bits", None)
+    if (not use_super and full_range and leg_bits is not None and st.n > 0
+            and per_code * len(codes) <= TENSOR_ELEMENTS):
+        return _solve_bit_tensor(st, leg_bits, len(codes), trial_shape, probe_node, plan, keep_nodes)
     step = max(1, CHUNK_ELEMENTS // per_code)
     pieces = []
     for start in range(0, len(codes), step):
         drive = net.decode(codes[start:start + step]).astype(float)
+        cols = [drive[:, col] for col in range(drive.shape[1])]
+        shape = np.broadcast_shapes(trial_shape, (drive.shape[0],))
         if st.n == 0:
             volts = {}
         elif use_super:
             volts = _solve_superposition(st, drive, trial_shape, probe_node, plan)
         else:
-            volts = _solve_general(st, drive, trial_shape, probe_node, plan)
-        pieces.append(_finish(st, drive, volts, trial_shape, keep_nodes, use_super))
+            volts = _solve_general(st, cols, probe_node, plan)
+        pieces.append(_finish(st, cols, volts, shape, keep_nodes, use_super))
     if len(pieces) == 1:
         return pieces[0]
     return Solution(
@@ -254,24 +266,54 @@ def solve(
     )
 
 
+def _solve_bit_tensor(st: _Stamps, leg_bits, n_codes, trial_shape, probe_node, plan, keep_nodes):
+    """General path over all codes with one array axis per code bit.
+
+    Bit b of the code is axis ``N − 1 − b`` of a (2,)*N tensor (so a C-order reshape gives code
+    order). A value that depends on few bits stays small: early pivots of the elimination touch
+    only the bits of the legs eliminated so far, so most of the work is on tiny arrays and only the
+    last pivots and the back substitution run at full size. Exact; same arithmetic as the flat path.
+    """
+    n_bits = n_codes.bit_length() - 1
+    prefix = trial_shape[:-1] if trial_shape else ()
+    st.ohms = {k: np.reshape(v, np.shape(v)[:-1] + (1,) * n_bits) if np.ndim(v) else v
+               for k, v in st.ohms.items()}
+    st.rebuild()
+    cols = []
+    for b in leg_bits:
+        shape = [1] * n_bits
+        shape[n_bits - 1 - b] = 2
+        cols.append(np.array([0.0, 1.0]).reshape(shape))
+    full = prefix + (2,) * n_bits
+    volts = _solve_general(st, cols, probe_node, plan)
+    sol = _finish(st, cols, volts, full, keep_nodes, False)
+    flat = (*prefix, n_codes)
+    sol.vout, sol.rout, sol.iref = (a.reshape(flat) for a in (sol.vout, sol.rout, sol.iref))
+    sol.node_voltages = {k: np.broadcast_to(v, full).reshape(flat)
+                         for k, v in sol.node_voltages.items()}
+    return sol
+
+
 CHUNK_ELEMENTS = 1 << 18
 """Largest number of (trial, code) pairs solved in one numpy pass; bounds working memory."""
 
+TENSOR_ELEMENTS = 1 << 20
+"""Largest (trial × code) count solved on the bit-tensor layout in one pass."""
 
-def _solve_general(st: _Stamps, drive, trial_shape, probe_node, plan):
+
+def _solve_general(st: _Stamps, cols, probe_node, plan):
+    """Batched sparse elimination; ``cols[l]`` is leg l's drive (0/1), broadcastable to the batch."""
     n = st.n
     entries = dict(st.a0)
     b = {i: list(v) for i, v in st.b0.items()}
-    for col, (da, db) in enumerate(zip(st.leg_da, st.leg_db, strict=True)):
-        d = drive[:, col]
+    for d, da, db in zip(cols, st.leg_da, st.leg_db, strict=True):
         for key, val in da.items():
             entries[key] = entries.get(key, 0.0) + val * d
         for i, (v0, v1) in db.items():
             cur = b.setdefault(i, [0.0, 0.0])
             cur[0] = cur[0] + v0 * d
             cur[1] = cur[1] + v1 * d
-    shape = np.broadcast_shapes(trial_shape, (drive.shape[0],)) if trial_shape else (drive.shape[0],)
-    rhs = _rhs_arrays(n, b, probe_node, shape)
+    rhs = _rhs_arrays(n, b, probe_node)
     x = solve_batched(n, entries, rhs, plan, st.nodes)
     return {name: x[i] for i, name in enumerate(st.nodes)}
 
@@ -293,13 +335,39 @@ def _solve_superposition(st: _Stamps, drive, trial_shape, probe_node, plan):
                 cols[2 + n_legs + leg] = cols[2 + n_legs + leg] + v[1]
         rhs.append(np.stack(np.broadcast_arrays(*cols), axis=-1))
     x = solve_batched(n, st.a0, rhs, plan, st.nodes)
-    volts = {}
-    for i, name in enumerate(st.nodes):
-        xi = x[i]  # trial_shape + (k,)
-        src = xi[..., 0] + _apply(drive, xi[..., 2:2 + n_legs])
-        prb = xi[..., 1] + _apply(drive, xi[..., 2 + n_legs:])
-        volts[name] = np.stack([src, prb], axis=-1)
-    return volts
+    return _LegSums(st.nodes, x, drive, n_legs)
+
+
+class _LegSums(Mapping):
+    """Node voltages (sources, probe) of the superposition path, formed only when asked for.
+
+    ``x[i]`` holds node i's response to the base sources, the probe and each leg's drive; a node's
+    voltage at every code is the base plus ``drive @ per-leg responses``.
+    """
+
+    def __init__(self, nodes, x, drive, n_legs) -> None:
+        self._index = {name: i for i, name in enumerate(nodes)}
+        self._x, self._drive, self._n_legs = x, drive, n_legs
+        self._all: np.ndarray | None = None
+
+    def __getitem__(self, name: str) -> np.ndarray:
+        if self._all is None:
+            # one matrix product for every node and both columns: (…, n, 2, L) @ (L, C)
+            n_legs = self._n_legs
+            xs = np.stack(self._x, axis=-2)  # trial_shape + (n, k)
+            base = xs[..., :2]
+            per_leg = np.stack([xs[..., 2:2 + n_legs], xs[..., 2 + n_legs:]], axis=-2)
+            if per_leg.ndim > 3:  # trials: drop the code axis of size 1
+                per_leg, base = per_leg[..., 0, :, :, :], base[..., 0, :, :]
+            self._all = per_leg @ self._drive.T + base[..., None]  # (…, n, 2, C)
+        v = self._all[..., self._index[name], :, :]
+        return np.moveaxis(v, -2, -1)
+
+    def __iter__(self):
+        return iter(self._index)
+
+    def __len__(self) -> int:
+        return len(self._index)
 
 
 def _apply(drive: np.ndarray, per_leg: np.ndarray) -> np.ndarray:
@@ -313,86 +381,91 @@ def _apply(drive: np.ndarray, per_leg: np.ndarray) -> np.ndarray:
     return per_leg[..., 0, :] @ drive.T
 
 
-def _finish(st: _Stamps, drive, volts, trial_shape, keep_nodes, use_super) -> Solution:
+def _finish(st: _Stamps, cols, volts, shape, keep_nodes, use_super) -> Solution:
+    """Output voltage, Thevenin resistance and reference current from the solved node voltages.
+
+    Only the node voltages these need are formed (those of the output and of every node touching
+    the source or the summing node), unless ``keep_nodes`` asks for all of them.
+    """
     net = st.net
     out = net.output
-    n_codes = drive.shape[0]
-    shape = np.broadcast_shapes(trial_shape, (n_codes,)) if trial_shape else (n_codes,)
+    virtual = out.kind == "virtual-ground"
 
     def col(name: str, c: int) -> np.ndarray:
-        return np.broadcast_to(volts[name][..., c], shape) if name in volts else np.zeros(shape)
+        return volts[name][..., c] if name in volts else np.zeros(())
 
-    src = {name: col(name, 0) for name in st.nodes}
-    prb = {name: col(name, 1) for name in st.nodes}
+    inj = None
     if out.kind == "node":
-        v_oc = src[out.node]
-        r_th = prb[out.node]
+        v_oc = col(out.node, 0)
+        r_th = col(out.node, 1)
         load = out.load_ohms
-        if out.buffered or not np.isfinite(load):
-            node_v = src
-            v_net = v_oc
-        else:
+        v_net = v_oc
+        if not out.buffered and np.isfinite(load):
             v_net = v_oc * load / (load + r_th)
             inj = -v_net / load
-            node_v = {name: src[name] + prb[name] * inj for name in st.nodes}
         vout = v_net * (out.gain if out.buffered else 1.0)
-        rout = np.array(r_th, dtype=float, copy=True)
-    else:
-        node_v = src
-    all_v = {**{k: np.broadcast_to(np.asarray(v, float), shape) for k, v in net.fixed.items()},
-             **node_v}
-    currents = _edge_currents(st, drive, all_v, shape)
-    iref = np.zeros(shape)
-    sum_current = np.zeros(shape)
-    y_ss = np.zeros(shape)
-    for na, nb, g, i_ab in currents:
+        rout = r_th
+    cache: dict[str, np.ndarray] = {}
+
+    def voltage(name: str) -> np.ndarray:
+        """Node voltage with the load's current applied (fixed nodes: their value)."""
+        if name in net.fixed:
+            return np.asarray(net.fixed[name], float)
+        v = cache.get(name)
+        if v is None:
+            v = col(name, 0) if inj is None else col(name, 0) + col(name, 1) * inj
+            cache[name] = v
+        return v
+
+    terminals = {net.source, out.node} if virtual else {net.source}
+    iref = np.zeros(())
+    sum_current = np.zeros(())
+    y_ss = np.zeros(())
+    coupling = np.zeros(())
+    for na, nb, g in _elements(st, cols):
+        if na not in terminals and nb not in terminals:
+            continue
+        i_ab = (voltage(na) - voltage(nb)) * g
         if na == net.source:
             iref = iref + i_ab
         if nb == net.source:
             iref = iref - i_ab
-        if out.kind == "virtual-ground":
-            if nb == out.node:
-                sum_current = sum_current + i_ab
-                y_ss = y_ss + g
-            if na == out.node:
-                sum_current = sum_current - i_ab
-                y_ss = y_ss + g
-    if out.kind == "virtual-ground":
+        if virtual and out.node in (na, nb):
+            other = nb if na == out.node else na
+            sum_current = sum_current + (i_ab if nb == out.node else -i_ab)
+            y_ss = y_ss + g
+            if other in volts:
+                coupling = coupling + g * col(other, 1)
+    if virtual:
         vout = -out.feedback_ohms * sum_current + 0.0  # + 0.0 turns −0.0 into 0.0
         # Schur complement: Y = Y_ss − y_sᵀ G⁻¹ y_s, with G⁻¹ y_s the probe solution
-        coupling = np.zeros(shape)
-        for na, nb, g, _ in currents:
-            if na == out.node and nb in prb:
-                coupling = coupling + g * prb[nb]
-            elif nb == out.node and na in prb:
-                coupling = coupling + g * prb[na]
-        y = y_ss - coupling
+        y = np.broadcast_to(y_ss - coupling, shape)
         with np.errstate(divide="ignore"):
             rout = np.where(y > 0, 1.0 / np.where(y > 0, y, 1.0), np.inf)
+    nodes = {}
+    if keep_nodes:
+        nodes = {k: np.array(np.broadcast_to(voltage(k), shape)) for k in [*net.fixed, *st.nodes]}
     return Solution(
-        vout=np.array(vout, dtype=float, copy=True),
-        rout=np.array(rout, dtype=float, copy=True),
-        iref=np.array(iref, dtype=float, copy=True),
+        vout=np.array(np.broadcast_to(vout, shape), dtype=float),
+        rout=np.array(np.broadcast_to(rout, shape), dtype=float),
+        iref=np.array(np.broadcast_to(iref, shape), dtype=float),
         method="superposition" if use_super else "general",
-        node_voltages={k: np.array(v) for k, v in all_v.items()} if keep_nodes else {},
+        node_voltages=nodes,
     )
 
 
-def _edge_currents(st: _Stamps, drive, volts, shape):
-    """Every conducting element as (a, b, conductance, current a→b), batch-shaped."""
+def _elements(st: _Stamps, cols):
+    """Every conducting element as (node a, node b, conductance), conductance batch-broadcastable.
+
+    A leg appears twice: towards ``high`` with ``g_high·drive`` and towards ``low`` with
+    ``g_low·(1 − drive)``.
+    """
     net = st.net
-    out = []
     for r in net.resistors:
-        g = _conductance(st.ohms.get(r.part_id, r.ohms))
-        out.append((r.a, r.b, np.broadcast_to(g, shape), (volts[r.a] - volts[r.b]) * g))
+        yield r.a, r.b, _conductance(st.ohms.get(r.part_id, r.ohms))
     for col, leg in enumerate(net.legs):
-        d = drive[:, col]
+        d = cols[col]
         g_hi, g_lo = st.leg_g[col]
-        g = g_hi * d
-        out.append((leg.node, leg.high, np.broadcast_to(g, shape),
-                    (volts[leg.node] - volts[leg.high]) * g))
+        yield leg.node, leg.high, g_hi * d
         if leg.low is not None:
-            g = g_lo * (1.0 - d)
-            out.append((leg.node, leg.low, np.broadcast_to(g, shape),
-                        (volts[leg.node] - volts[leg.low]) * g))
-    return out
+            yield leg.node, leg.low, g_lo * (1.0 - d)
