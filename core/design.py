@@ -14,7 +14,7 @@ from types import MappingProxyType
 from typing import Any
 
 from .errors import DesignError
-from .types import MAX_BITS, OUTPUTS_BY_TOPOLOGY, TOPOLOGIES
+from .types import MAX_BITS, OUTPUTS_BY_TOPOLOGY, SERIES, TOPOLOGIES
 from .units import parse_value
 
 
@@ -58,6 +58,9 @@ FIELDS: dict[str, FieldSpec] = {
     "load_r": FieldSpec("Load resistance", "Ω", 0.0, 1e15, low_open=True, allow_inf=True),
     "gain": FieldSpec("Buffer gain", "V/V", -1e6, 1e6),
     "feedback_r": FieldSpec("Feedback resistor", "Ω", 0.0, 1e12, low_open=True, optional=True),
+    "load_c": FieldSpec("Load capacitance", "F", 0.0, 1.0),
+    "temperature_c": FieldSpec("Temperature", "°C", -273.15, 1000.0, low_open=True),
+    "bandwidth": FieldSpec("Noise bandwidth", "Hz", 0.0, 1e12, low_open=True),
 }
 """Numeric design fields with their display label, SI unit and allowed range."""
 
@@ -101,7 +104,16 @@ class Design:
         Volts, ohms, V/V. ``load_r`` is ``inf`` for an open output; ``feedback_r`` ``None`` picks the
         value that makes the ideal full scale ``Vref·(2^N − 1)/2^N``.
     parts : Mapping[str, float]
-        As-built resistance overrides by part id, ohms.
+        As-built resistance overrides by part id, ohms (never snapped).
+    series : str
+        Preferred-value series (``types.SERIES``) every part value derived from ``unit_r`` snaps
+        to by ratio; ``"exact"`` keeps the computed values.
+    load_c : float
+        Capacitance loading the output, farads (settling).
+    temperature_c : float
+        Operating temperature, °C (thermal noise).
+    bandwidth : float
+        Bandwidth over which the output noise is integrated, Hz.
     name : str
         A label for the candidate; empty means "use the topology".
     """
@@ -118,6 +130,10 @@ class Design:
     gain: float = 1.0
     feedback_r: float | None = None
     parts: Mapping[str, float] = field(default_factory=dict)
+    series: str = "exact"
+    load_c: float = 0.0
+    temperature_c: float = 27.0
+    bandwidth: float = 1e6
     name: str = ""
 
     def __post_init__(self) -> None:
@@ -130,6 +146,9 @@ class Design:
             raise DesignError("output", f"{output!r} is not an output of {self.topology}; choose one"
                               " of " + ", ".join(allowed))
         object.__setattr__(self, "output", output)
+        if self.series not in SERIES:
+            raise DesignError("series", f"unknown series {self.series!r}; choose one of "
+                              + ", ".join(SERIES))
         for key in FIELDS:
             object.__setattr__(self, key, _check_number(key, getattr(self, key)))
         if not isinstance(self.name, str):
@@ -188,10 +207,10 @@ class Design:
         for key, text in settings.items():
             if key.startswith("parts."):
                 parts[key[len("parts."):]] = text
-            elif key in {"topology", "output", "name"} or key in FIELDS:
+            elif key in {"topology", "output", "name", "series"} or key in FIELDS:
                 changes[key] = text
             else:
-                known = ", ".join(["topology", "output", "name", *FIELDS, "parts.<id>"])
+                known = ", ".join(["topology", "output", "name", "series", *FIELDS, "parts.<id>"])
                 raise DesignError(key, f"unknown setting; known settings: {known}")
         if parts != dict(self.parts):
             changes["parts"] = parts

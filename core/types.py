@@ -26,6 +26,12 @@ OUTPUTS_BY_TOPOLOGY: dict[str, tuple[str, ...]] = {
 }
 """Allowed output variants per topology; the first is the default."""
 
+Series = Literal["exact", "E3", "E6", "E12", "E24", "E48", "E96", "E192"]
+"""Preferred-value series part values snap to (IEC 60063), or ``"exact"`` for none."""
+
+SERIES: tuple[str, ...] = get_args(Series)
+"""Every series name, ``"exact"`` (no snapping) first."""
+
 BOLTZMANN = 1.380649e-23
 """Boltzmann constant, J/K (exact since the 2019 SI redefinition)."""
 

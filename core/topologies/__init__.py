@@ -10,6 +10,7 @@ from types import ModuleType
 
 from ..design import Design
 from ..network import Network
+from ..parts.snapping import snap_network
 from . import binary_weighted, r2r_current, r2r_voltage
 
 BUILDERS: dict[str, ModuleType] = {
@@ -21,8 +22,8 @@ BUILDERS: dict[str, ModuleType] = {
 
 
 def build(design: Design) -> Network:
-    """The neutral network of ``design``."""
-    return BUILDERS[design.topology].build(design)
+    """The neutral network of ``design``, its derived values snapped to ``design.series``."""
+    return snap_network(design, BUILDERS[design.topology].build(design))
 
 
 def part_ids(topology: str, output: str, bits: int) -> list[str]:

@@ -1,0 +1,1 @@
+"""Real parts: preferred values, snapping, build composition, bills of materials."""

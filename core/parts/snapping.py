@@ -1,0 +1,72 @@
+"""Snap a built network's part values to the design's preferred-value series.
+
+One shared place for every topology: :func:`snap_network` runs after the builder (and after the
+build style has said how many equal units make each part). Every part value derived from
+``unit_r`` snaps by ratio; as-built ``parts`` overrides and a ``feedback_r`` the user typed stay
+exact. A part made of several units snaps its *unit*, then recombines: a 2R of two units in series
+becomes 2 × snap(R), not snap(2R).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+
+from ..network import Network, Part
+from .eseries import snap
+
+
+def part_units(part: Part) -> tuple[int, str]:
+    """(number of equal units, how they are joined: single | series | parallel) of ``part``."""
+    return int(getattr(part, "units", 1)), str(getattr(part, "joined", "single"))
+
+
+def compose(unit_ohms: float, units: int, joined: str) -> float:
+    """The value of ``units`` equal resistors of ``unit_ohms`` joined as ``joined``, ohms."""
+    if joined == "series":
+        return unit_ohms * units
+    if joined == "parallel":
+        return unit_ohms / units
+    return unit_ohms
+
+
+def unit_value(part: Part) -> float:
+    """The nominal value of one unit of ``part``, ohms."""
+    units, joined = part_units(part)
+    if joined == "series":
+        return part.ohms / units
+    if joined == "parallel":
+        return part.ohms * units
+    return part.ohms
+
+
+def snapped_ids(design, net: Network) -> list[str]:
+    """Ids of the parts whose value the series sets (derived from ``unit_r``)."""
+    keep = set(design.parts)
+    if getattr(design, "feedback_r", None) is not None:
+        keep.add("feedback")
+    return [p.part_id for p in net.parts if p.part_id not in keep]
+
+
+def snap_network(design, net: Network) -> Network:
+    """``net`` with its derived part values snapped to ``design.series`` (in place; returned).
+
+    Raises
+    ------
+    DesignError
+        A part's unit value lies outside the 1 Ω … 10 MΩ preferred values (``series`` named).
+    """
+    if design.series == "exact":
+        return net
+    targets = set(snapped_ids(design, net))
+    new: dict[str, float] = {}
+    for part in net.parts:
+        if part.part_id in targets:
+            units, joined = part_units(part)
+            unit = float(snap(unit_value(part), design.series, field=f"series ({part.part_id})"))
+            new[part.part_id] = compose(unit, units, joined)
+    net.parts = [dataclasses.replace(p, ohms=new.get(p.part_id, p.ohms)) for p in net.parts]
+    net.resistors = [dataclasses.replace(r, ohms=new.get(r.part_id, r.ohms)) for r in net.resistors]
+    net.legs = [dataclasses.replace(g, ohms=new.get(g.part_id, g.ohms)) for g in net.legs]
+    if net.output.kind == "virtual-ground" and "feedback" in new:
+        net.output = dataclasses.replace(net.output, feedback_ohms=new["feedback"])
+    return net
