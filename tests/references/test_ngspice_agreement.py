@@ -1,0 +1,78 @@
+"""The engine against ngspice (an independent circuit solver) at every code.
+
+Source of the expected values: ngspice, batch mode, through ``references/spice.py``.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+from rungwise.core import OUTPUTS_BY_TOPOLOGY, Design, evaluate
+from rungwise.core.solve import solve
+from rungwise.core.topologies import part_ids
+
+from . import spice
+
+pytestmark = pytest.mark.ngspice
+
+VARIANTS = [(t, o) for t, outs in OUTPUTS_BY_TOPOLOGY.items() for o in outs]
+RTOL = 1e-9
+
+
+def _as_built(topology: str, output: str, bits: int, seed: int) -> Design:
+    """A design with every part scattered by about 1 % (seeded), unequal switch resistances, a
+    reference with output resistance and a finite load."""
+    base = Design(topology=topology, output=output, bits=bits, vref=2.5, unit_r=10e3,
+                  ron_high=35.0, ron_low=12.0, ref_r=20.0, load_r=47e3, gain=2.0)
+    rng = np.random.default_rng(seed)
+    nominal = {p["id"]: p["ohms"] for p in evaluate(base).parts}
+    assert set(nominal) == set(part_ids(topology, output, bits))
+    parts = {pid: ohms * (1.0 + 0.01 * rng.standard_normal()) for pid, ohms in nominal.items()}
+    return base.replace(parts=parts)
+
+
+def _check(ev_like, ref: spice.SpiceResult) -> None:
+    for name in ("vout", "iref", "rout"):
+        spice.assert_agree(getattr(ev_like, name), getattr(ref, name), rtol=RTOL, what=name)
+
+
+@pytest.mark.parametrize(("topology", "output"), VARIANTS)
+def test_as_built_design_agrees_with_ngspice(topology, output):
+    # source: ngspice — all 64 codes of a 6-bit as-built design, vout, iref and rout to 1e-9
+    design = _as_built(topology, output, 6, seed=VARIANTS.index((topology, output)) + 1)
+    ev = evaluate(design)
+    assert ev.solution.method == "general"
+    ref = spice.simulate(ev.network)
+    assert ref.codes.size == 64
+    _check(ev, ref)
+    assert not np.allclose(ev.vout, ev.codes * ev.summary["ideal_lsb"], rtol=1e-4)  # really non-ideal
+
+
+@pytest.mark.parametrize(("topology", "output"), VARIANTS)
+def test_nominal_ideal_design_agrees_with_ngspice(topology, output):
+    # source: ngspice — ideal switches and reference, open output: the superposition path
+    ev = evaluate(Design(topology=topology, output=output, bits=6, vref=5.0, unit_r=4.7e3, gain=1.5))
+    assert ev.solution.method == "superposition"
+    _check(ev, spice.simulate(ev.network))
+
+
+@pytest.mark.parametrize(("topology", "output"), VARIANTS)
+def test_monte_carlo_trials_agree_with_ngspice(topology, output):
+    # source: ngspice — per-part ohms arrays of shape (n_trials, 1) through the solver, each trial
+    # against one ngspice run with the same values as overrides
+    design = Design(topology=topology, output=output, bits=4, vref=3.3, unit_r=2.2e3,
+                    ron_high=20.0, ron_low=9.0, ref_r=5.0, load_r=10e3, gain=1.0)
+    net = evaluate(design).network
+    rng = np.random.default_rng(7)
+    ids = [r.part_id for r in net.resistors if r.role != "reference"] + [x.part_id for x in net.legs]
+    nominal = {r.part_id: r.ohms for r in net.resistors} | {x.part_id: x.ohms for x in net.legs}
+    n_trials = 2
+    ohms = {pid: nominal[pid] * (1 + 0.02 * rng.standard_normal((n_trials, 1))) for pid in ids}
+    sol = solve(net, ohms=ohms)
+    assert sol.vout.shape == (n_trials, 16)
+    for t in range(n_trials):
+        ref = spice.simulate(net, ohms={pid: float(v[t, 0]) for pid, v in ohms.items()})
+        for name in ("vout", "iref", "rout"):
+            spice.assert_agree(getattr(sol, name)[t], getattr(ref, name), rtol=RTOL,
+                               what=f"trial {t} {name}")
