@@ -10,6 +10,8 @@ Public API::
 from .design import FIELDS, Design
 from .errors import DesignError, NetworkError, RungwiseError
 from .evaluate import SUMMARY_KEYS, Evaluation, evaluate
+from .montecarlo import iter_monte_carlo, monte_carlo
+from .stats_result import MonteCarloResult, YieldFigure
 from .types import OUTPUTS_BY_TOPOLOGY, TOPOLOGIES
 
 __all__ = [
@@ -20,7 +22,11 @@ __all__ = [
     "Design",
     "DesignError",
     "Evaluation",
+    "MonteCarloResult",
     "NetworkError",
     "RungwiseError",
+    "YieldFigure",
     "evaluate",
+    "iter_monte_carlo",
+    "monte_carlo",
 ]

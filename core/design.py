@@ -114,6 +114,12 @@ class Design:
         Operating temperature, °C (thermal noise).
     bandwidth : float
         Bandwidth over which the output noise is integrated, Hz.
+    mismatch : Mapping[str, Any]
+        Statistics settings given explicitly (``mismatch.py``: model, distribution, tolerance …);
+        unset keys take their defaults there.
+    build : Mapping[str, str]
+        Build styles (``build_style.py``): ``binary`` per-bit | unit-array, ``two_r`` single |
+        two-units.
     name : str
         A label for the candidate; empty means "use the topology".
     """
@@ -134,6 +140,8 @@ class Design:
     load_c: float = 0.0
     temperature_c: float = 27.0
     bandwidth: float = 1e6
+    mismatch: Mapping[str, Any] = field(default_factory=dict)
+    build: Mapping[str, str] = field(default_factory=dict)
     name: str = ""
 
     def __post_init__(self) -> None:
@@ -171,6 +179,11 @@ class Design:
                     raise DesignError(f"parts.{pid}", f"unknown part id for {self.topology} with "
                                       f"{self.bits} bits; known ids: {_id_summary(known)}")
         object.__setattr__(self, "parts", MappingProxyType(parts))
+        from .build_style import check_build  # local: keeps this module's imports small
+        from .mismatch import check_mismatch
+
+        object.__setattr__(self, "build", MappingProxyType(check_build(self.build)))
+        object.__setattr__(self, "mismatch", MappingProxyType(check_mismatch(self.mismatch, self)))
 
     # --- conversions -------------------------------------------------------------------------
     @classmethod
@@ -188,6 +201,9 @@ class Design:
         """All keys as plain Python values (``load_r`` stays ``inf`` when open)."""
         out = {f.name: getattr(self, f.name) for f in dataclasses.fields(self)}
         out["parts"] = dict(self.parts)
+        out["mismatch"] = {k: dict(v) if isinstance(v, Mapping) else v
+                           for k, v in self.mismatch.items()}
+        out["build"] = dict(self.build)
         return out
 
     def replace(self, **changes: Any) -> Design:
@@ -197,6 +213,8 @@ class Design:
             data["output"] = None
         if ("bits" in changes or "topology" in changes) and "parts" not in changes:
             data["parts"] = {}
+            if "mismatch" not in changes:
+                data["mismatch"] = {k: v for k, v in data["mismatch"].items() if k != "tempco_parts"}
         data.update(changes)
         return Design.from_dict(data)
 
@@ -204,13 +222,22 @@ class Design:
         """Apply ``key=value`` strings typed by a person (``{"unit_r": "4k7"}``, ``parts.leg0``)."""
         changes: dict[str, Any] = {}
         parts = dict(self.parts)
+        tables = {"mismatch": self.to_dict()["mismatch"], "build": dict(self.build)}
         for key, text in settings.items():
             if key.startswith("parts."):
                 parts[key[len("parts."):]] = text
+            elif key.split(".", 1)[0] in tables and "." in key:
+                table, sub = key.split(".", 1)
+                if sub.startswith("tempco_parts."):
+                    tables[table].setdefault("tempco_parts", {})[sub.split(".", 1)[1]] = text
+                else:
+                    tables[table][sub] = text
+                changes[table] = tables[table]
             elif key in {"topology", "output", "name", "series"} or key in FIELDS:
                 changes[key] = text
             else:
-                known = ", ".join(["topology", "output", "name", "series", *FIELDS, "parts.<id>"])
+                known = ", ".join(["topology", "output", "name", "series", *FIELDS, "parts.<id>",
+                                   "mismatch.<key>", "build.<key>"])
                 raise DesignError(key, f"unknown setting; known settings: {known}")
         if parts != dict(self.parts):
             changes["parts"] = parts

@@ -118,8 +118,9 @@ def dumps(doc: DesignFile) -> str:
     cands = []
     for d in doc.candidates:
         entry = _toml_value(d.to_dict())
-        if not entry.get("parts"):
-            entry.pop("parts", None)
+        for table in ("parts", "mismatch", "build"):
+            if not entry.get(table):
+                entry.pop(table, None)
         cands.append(entry)
     data["candidate"] = cands
     return tomli_w.dumps(data)

@@ -68,12 +68,18 @@ class Output:
 
 @dataclass(frozen=True)
 class Part:
-    """One physical part of the design, for part lists, as-built values and bills of materials."""
+    """One part of the design, for part lists, as-built values and bills of materials.
+
+    ``units`` physical resistors of equal value make it, joined ``"single"``, ``"series"`` or
+    ``"parallel"`` (set from the design's build style by ``build_style.apply_build``).
+    """
 
     part_id: str
     role: str
     ohms: float
     kind: Literal["resistor", "switch", "amplifier"] = "resistor"
+    units: int = 1
+    joined: Literal["single", "series", "parallel"] = "single"
 
 
 @dataclass

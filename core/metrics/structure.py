@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from ..build_style import unit_ohms
 from ..network import Network
 
 
@@ -19,16 +20,17 @@ def distinct_values(ohms: np.ndarray, rel_tol: float = 1e-9) -> int:
 def structure(net: Network, unit_r: float) -> dict[str, float | int]:
     """Counts and spread of the network's resistors (feedback included), as summary entries.
 
-    Returns ``n_resistors``, ``n_switches``, ``n_amplifiers``, ``n_distinct_values``, ``spread``
-    (largest/smallest resistance) and ``total_r_units`` (sum of all resistances in units of
-    ``unit_r``).
+    Returns ``n_resistors`` (physical resistors: a part built of units counts each unit),
+    ``n_switches``, ``n_amplifiers``, ``n_distinct_values``, ``spread`` (largest/smallest physical
+    resistor) and ``total_r_units`` (sum of all physical resistances in units of ``unit_r``).
     """
-    ohms = np.array([p.ohms for p in net.parts], dtype=float)
+    ohms = np.array([unit_ohms(p) for p in net.parts], dtype=float)
+    units = np.array([p.units for p in net.parts], dtype=float)
     return {
-        "n_resistors": len(net.parts),
+        "n_resistors": int(units.sum()),
         "n_switches": int(net.counts.get("switches", 0)),
         "n_amplifiers": int(net.counts.get("amplifiers", 0)),
         "n_distinct_values": distinct_values(ohms),
         "spread": float(ohms.max() / ohms.min()) if ohms.size else 1.0,
-        "total_r_units": float(ohms.sum() / unit_r),
+        "total_r_units": float((ohms * units).sum() / unit_r),
     }

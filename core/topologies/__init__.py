@@ -8,6 +8,7 @@ from __future__ import annotations
 
 from types import ModuleType
 
+from ..build_style import apply_build
 from ..design import Design
 from ..network import Network
 from ..parts.snapping import snap_network
@@ -22,8 +23,9 @@ BUILDERS: dict[str, ModuleType] = {
 
 
 def build(design: Design) -> Network:
-    """The neutral network of ``design``, its derived values snapped to ``design.series``."""
-    return snap_network(design, BUILDERS[design.topology].build(design))
+    """The neutral network of ``design``: derived values snapped to ``design.series``, parts made
+    up as its build style says."""
+    return apply_build(design, snap_network(design, BUILDERS[design.topology].build(design)))
 
 
 def part_ids(topology: str, output: str, bits: int) -> list[str]:

@@ -1,0 +1,281 @@
+"""Mismatch models: the design's ``mismatch`` table and how it turns into random part values.
+
+Keys (all optional; defaults below)::
+
+    mismatch = {
+        model = "parts",            # "parts" | "on-chip" | "array"
+        distribution = "gaussian",  # "uniform" | "gaussian"  (parts and array models)
+        tolerance = 0.01,           # ±grade of each part; element-to-element for "array"
+        coverage_sigma = 3,         # Gaussian: σ = tolerance / coverage_sigma
+        shared_tolerance = 0.0,     # "array": ±error shared by every element of the array
+        area_coefficient = 1e-8,    # "on-chip": A_R, fraction·m (1 %·µm = 1e-8)
+        unit_width = 2e-6,          # "on-chip": W of a device of value unit_r, m
+        unit_length = 20e-6,        # "on-chip": L of a device of value unit_r, m
+        tempco = 0.0,               # α of every part, 1/K
+        tempco_parts = {leg0 = 50e-6},  # α of single parts, 1/K
+        reference_c = 25,           # temperature at which the values hold, °C (the operating
+                                    #   temperature is the design's temperature_c)
+        inl_limit = 0.5,            # |INL| yield limit, LSB
+        dnl_limit = 0.5,            # |DNL| yield limit, LSB
+        inl_line = "endpoint",      # "endpoint" | "bestfit": which INL the yield uses
+    }
+
+Area law (Pelgrom, Duinmaijer, Welbers, IEEE JSSC 24(5), 1989): σ(ΔR/R) = A_R/√(W·L) for a pair,
+so one device has A_R/√(2·W·L). A device of value R_d is drawn at width W and length L·R_d/unit_r
+(area proportional to value). Temperature: R(T) = R0·(1 + α(T − T0)).
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping
+from dataclasses import dataclass, field
+from typing import Any, Literal, get_args
+
+import numpy as np
+
+from .build_style import unit_ohms
+from .errors import DesignError
+from .network import Network
+from .units import parse_value
+
+MismatchModelName = Literal["parts", "on-chip", "array"]
+"""Where the random errors come from: discrete parts, an on-chip area law, a matched array."""
+
+Distribution = Literal["gaussian", "uniform"]
+"""Shape of a tolerance grade's errors (the first is the default)."""
+
+InlLine = Literal["endpoint", "bestfit"]
+"""Which INL the |INL| yield uses."""
+
+
+@dataclass(frozen=True)
+class SettingSpec:
+    """One numeric ``mismatch`` key: label, unit, default and inclusive range."""
+
+    label: str
+    unit: str
+    default: float
+    low: float
+    high: float
+    low_open: bool = False
+
+    def describe(self) -> str:
+        """The allowed range in words."""
+        u = f" {self.unit}" if self.unit else ""
+        low = f"> {self.low:g}{u}" if self.low_open else f"≥ {self.low:g}{u}"
+        return f"{low} and ≤ {self.high:g}{u}"
+
+
+NUMERIC_SETTINGS: dict[str, SettingSpec] = {
+    "tolerance": SettingSpec("Tolerance (± fraction)", "", 0.01, 0.0, 0.5),
+    "coverage_sigma": SettingSpec("Tolerance covers ± this many σ", "σ", 3.0, 0.0, 10.0, low_open=True),
+    "shared_tolerance": SettingSpec("Shared array tolerance (± fraction)", "", 0.0, 0.0, 0.5),
+    "area_coefficient": SettingSpec("Area coefficient A_R", "fraction·m", 1e-8, 0.0, 1e-5),
+    "unit_width": SettingSpec("Width W of a unit_r device", "m", 2e-6, 0.0, 1e-2, low_open=True),
+    "unit_length": SettingSpec("Length L of a unit_r device", "m", 20e-6, 0.0, 1e-2, low_open=True),
+    "tempco": SettingSpec("Temperature coefficient, every part", "1/K", 0.0, -0.01, 0.01),
+    "reference_c": SettingSpec("Reference temperature", "°C", 25.0, -273.15, 1000.0),
+    "inl_limit": SettingSpec("|INL| limit", "LSB", 0.5, 0.0, 1e9, low_open=True),
+    "dnl_limit": SettingSpec("|DNL| limit", "LSB", 0.5, 0.0, 1e9, low_open=True),
+}
+"""Numeric ``mismatch`` keys with label, SI unit, default and allowed range."""
+
+CHOICE_SETTINGS: dict[str, tuple[str, ...]] = {
+    "model": get_args(MismatchModelName),
+    "distribution": get_args(Distribution),
+    "inl_line": get_args(InlLine),
+}
+"""Option ``mismatch`` keys and their values; the first is the default."""
+
+MISMATCH_KEYS = (*CHOICE_SETTINGS, *NUMERIC_SETTINGS, "tempco_parts")
+"""Every key the ``mismatch`` table accepts."""
+
+
+def _number(key: str, value: Any, spec: SettingSpec) -> float:
+    x = parse_value(value, key)
+    if not math.isfinite(x):
+        raise DesignError(key, f"must be a finite number; allowed: {spec.describe()}")
+    too_low = x <= spec.low if spec.low_open else x < spec.low
+    if too_low or x > spec.high:
+        raise DesignError(key, f"{x:g} is out of range; allowed: {spec.describe()}")
+    return x
+
+
+def check_mismatch(data: Mapping[str, Any], design: Any) -> dict[str, Any]:
+    """The validated ``mismatch`` table of ``design`` (only the keys given, values parsed).
+
+    Raises
+    ------
+    DesignError
+        Named as ``mismatch.<key>`` (``mismatch.tempco_parts.<id>``) with the allowed range.
+    """
+    if not isinstance(data, Mapping):
+        raise DesignError("mismatch", 'must be a table, e.g. {distribution = "uniform", tolerance = 0.01}')
+    out: dict[str, Any] = {}
+    for key, value in data.items():
+        name = f"mismatch.{key}"
+        if key in CHOICE_SETTINGS:
+            if value not in CHOICE_SETTINGS[key]:
+                raise DesignError(name, f"{value!r} is not allowed; choose one of "
+                                  + ", ".join(CHOICE_SETTINGS[key]))
+            out[key] = str(value)
+        elif key in NUMERIC_SETTINGS:
+            out[key] = _number(name, value, NUMERIC_SETTINGS[key])
+        elif key == "tempco_parts":
+            out[key] = _check_tempcos(value, design)
+        else:
+            raise DesignError(name, "unknown mismatch key; known keys: " + ", ".join(MISMATCH_KEYS))
+    return out
+
+
+def _check_tempcos(value: Any, design: Any) -> dict[str, float]:
+    if not isinstance(value, Mapping):
+        raise DesignError("mismatch.tempco_parts", "must map part ids to 1/K, e.g. {leg0 = 50e-6}")
+    from .topologies import part_ids  # local: topologies import the design module
+
+    known = part_ids(design.topology, design.output, design.bits)
+    spec = NUMERIC_SETTINGS["tempco"]
+    out = {}
+    for pid, alpha in value.items():
+        name = f"mismatch.tempco_parts.{pid}"
+        if pid not in known:
+            raise DesignError(name, f"unknown part id for {design.topology} with {design.bits} bits")
+        out[str(pid)] = _number(name, alpha, spec)
+    return out
+
+
+@dataclass(frozen=True)
+class MismatchModel:
+    """Every ``mismatch`` setting of a design with its defaults filled in (see module docstring)."""
+
+    model: str = "parts"
+    distribution: str = "gaussian"
+    inl_line: str = "endpoint"
+    tolerance: float = 0.01
+    coverage_sigma: float = 3.0
+    shared_tolerance: float = 0.0
+    area_coefficient: float = 1e-8
+    unit_width: float = 2e-6
+    unit_length: float = 20e-6
+    tempco: float = 0.0
+    reference_c: float = 25.0
+    inl_limit: float = 0.5
+    dnl_limit: float = 0.5
+    tempco_parts: Mapping[str, float] = field(default_factory=dict)
+
+    temperature_c: float = 27.0
+
+    @classmethod
+    def of(cls, design: Any) -> MismatchModel:
+        """The full settings of ``design`` (validated already by ``Design``); ``temperature_c`` is
+        the design's operating temperature."""
+        return cls(**dict(design.mismatch), temperature_c=design.temperature_c)
+
+    def describe(self) -> str:
+        """One line for people, e.g. ``"parts ±1 %, gaussian (σ = tol/3)"``."""
+        if self.model == "on-chip":
+            return (f"on-chip area law, A_R = {self.area_coefficient * 1e8:g} %·µm, "
+                    f"W×L = {self.unit_width * 1e6:g}×{self.unit_length * 1e6:g} µm per unit_r")
+        shape = (f"gaussian (σ = tol/{self.coverage_sigma:g})" if self.distribution == "gaussian"
+                 else "uniform")
+        if self.model == "array":
+            return (f"matched array: shared ±{self.shared_tolerance * 100:g} %, element "
+                    f"±{self.tolerance * 100:g} %, {shape}")
+        return f"parts ±{self.tolerance * 100:g} %, {shape}"
+
+
+def area_law_sigma(area_coefficient: float, width: float, length: float, pair: bool = False) -> float:
+    """σ(ΔR/R) of one device (or of a pair's difference when ``pair``) by the area law.
+
+    Parameters
+    ----------
+    area_coefficient : float
+        A_R, fraction·m.
+    width, length : float
+        Device size, m.
+
+    Returns
+    -------
+    float
+        Relative σ (fraction): A_R/√(W·L) for a pair, A_R/√(2·W·L) for one device.
+    """
+    area = width * length
+    return area_coefficient / math.sqrt(area if pair else 2.0 * area)
+
+
+# ------------------------------------------------------------------------------------------------
+# sampling
+
+
+def temperature_factor(model: MismatchModel, part_id: str) -> float:
+    """R(T)/R0 = 1 + α(T − T0) for one part (dimensionless)."""
+    alpha = model.tempco_parts.get(part_id, model.tempco)
+    return 1.0 + alpha * (model.temperature_c - model.reference_c)
+
+
+def nominal_ohms(design: Any, net: Network) -> dict[str, float]:
+    """Every part's value at the design's temperature, ohms (no random error)."""
+    model = MismatchModel.of(design)
+    return {p.part_id: p.ohms * temperature_factor(model, p.part_id) for p in net.parts}
+
+
+def _standard(rng: np.random.Generator, shape: tuple[int, int], distribution: str) -> np.ndarray:
+    """Draws of unit size: N(0, 1) or U(−1, 1)."""
+    if distribution == "uniform":
+        return rng.uniform(-1.0, 1.0, shape)
+    return rng.standard_normal(shape)
+
+
+def sample_ohms(design: Any, net: Network, rng: np.random.Generator, n_trials: int
+                ) -> dict[str, np.ndarray]:
+    """Random values of every part (feedback included), unit by unit, combined per part.
+
+    Parameters
+    ----------
+    design : Design
+    net : Network
+        ``build(design)``; its parts carry the build style's units.
+    rng : numpy.random.Generator
+    n_trials : int
+
+    Returns
+    -------
+    dict part id → ndarray, shape (n_trials, 1), ohms
+        Draw order: (array model) the shared error, then each part's units in ``net.parts`` order.
+        Errors are drawn at unit size and scaled, so the same seed at another tolerance gives the
+        same boards with scaled errors.
+    """
+    model = MismatchModel.of(design)
+    if model.model == "on-chip":
+        scale = 0.0
+        distribution = "gaussian"
+    else:
+        scale = model.tolerance / (model.coverage_sigma if model.distribution == "gaussian" else 1.0)
+        distribution = model.distribution
+    shared = 0.0
+    if model.model == "array":
+        s_scale = model.shared_tolerance / (model.coverage_sigma if distribution == "gaussian" else 1.0)
+        shared = s_scale * _standard(rng, (n_trials, 1), distribution)
+    out: dict[str, np.ndarray] = {}
+    for part in net.parts:
+        unit = unit_ohms(part)
+        if model.model == "on-chip":
+            rel_area = unit / design.unit_r
+            sigma = area_law_sigma(model.area_coefficient, model.unit_width,
+                                   model.unit_length * rel_area)
+            err = sigma * _standard(rng, (n_trials, part.units), distribution)
+        else:
+            err = scale * _standard(rng, (n_trials, part.units), distribution)
+        values = unit * temperature_factor(model, part.part_id) * (1.0 + shared + err)
+        if np.any(values <= 0):
+            raise DesignError("mismatch.tolerance", "the spread drew a resistor at or below 0 Ω; "
+                              "lower the tolerance or use the uniform distribution")
+        if part.joined == "parallel":
+            combined = 1.0 / np.sum(1.0 / values, axis=1, keepdims=True)
+        elif part.joined == "series":
+            combined = np.sum(values, axis=1, keepdims=True)
+        else:
+            combined = values
+        out[part.part_id] = combined
+    return out

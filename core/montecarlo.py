@@ -1,0 +1,281 @@
+"""Monte Carlo statistics of a design's linearity: seeded, chunked, cancellable.
+
+``monte_carlo(design, trials, seed)`` returns the final :class:`MonteCarloResult`;
+``iter_monte_carlo`` yields partial results chunk by chunk (for progress) and stops between chunks
+when its ``cancel`` event is set.
+
+Random part values come from ``mismatch.sample_ohms`` in fixed blocks of trials, each block with its
+own generator spawned from the seed, so a result depends only on (design, trials, seed), never on
+how the work was chunked. Two exact engines share the samples:
+
+- ``exact``: where superposition holds and each leg follows one bit, N + 1 solves per trial give the
+  per-bit weights and ``mc_exact`` gives every figure over all codes in O(N);
+- ``general``: the batched general solver at every code (``solve.solve`` with per-trial ohms).
+"""
+
+from __future__ import annotations
+
+import secrets
+from collections.abc import Iterator
+from dataclasses import dataclass, field
+from typing import Any, Literal
+
+import numpy as np
+
+from . import mc_exact
+from .design import Design
+from .errors import DesignError
+from .metrics import linearity
+from .mismatch import MismatchModel, sample_ohms
+from .network import Network
+from .solve import CHUNK_ELEMENTS, solve
+from .stats_result import MonteCarloResult
+from .topologies import build
+
+Engine = Literal["auto", "exact", "general"]
+"""Which engine runs the trials; ``auto`` takes ``exact`` where it holds."""
+
+MAX_TRIALS = 10_000_000
+"""Most trials one run accepts."""
+
+MAX_GENERAL_CODES = 1 << 20
+"""Most codes the general engine takes per trial (20 bits); beyond, memory per trial is too big."""
+
+GENERAL_BATCH_ELEMENTS = 1 << 20
+"""(trial, code) pairs solved per general-engine batch: bounds working memory (~100 MB)."""
+
+ENVELOPE_ELEMENTS = 1 << 22
+"""(trial, code) INL values kept for the per-code envelope (float32, 16 MB)."""
+
+ENVELOPE_MAX_CODES = 4096
+"""Most codes on the envelope's code axis (evenly spread, both ends included)."""
+
+BLOCK_DRAWS = 1 << 20
+"""Random draws per sampling block; a block's trial count follows from the design's unit count."""
+
+
+@dataclass(frozen=True)
+class MonteCarloPlan:
+    """How a run will be done, known before it starts (memory is bounded by construction)."""
+
+    engine: str
+    trials: int
+    batch_trials: int
+    n_codes: int
+    envelope_codes: np.ndarray = field(repr=False)
+    envelope_trials: int = 0
+
+    @property
+    def n_batches(self) -> int:
+        """Number of solver batches."""
+        return -(-self.trials // self.batch_trials)
+
+    def describe(self) -> str:
+        """One line for people, e.g. ``"general engine, 6250 batches of 16 trials × 65536 codes"``."""
+        return (f"{self.engine} engine, {self.n_batches} batch(es) of ≤ {self.batch_trials} trials × "
+                f"{self.n_codes} codes; INL envelope from the first {self.envelope_trials} trials "
+                f"at {self.envelope_codes.size} codes")
+
+
+def check_run(trials: Any, seed: Any) -> tuple[int, int]:
+    """Validated (trials, seed); ``seed=None`` draws a fresh seed to show and save.
+
+    Raises
+    ------
+    DesignError
+        ``trials`` outside 1 … ``MAX_TRIALS`` or ``seed`` not a whole number in 0 … 2^63 − 1.
+    """
+    if isinstance(trials, bool) or not isinstance(trials, int | np.integer) or not (
+            1 <= trials <= MAX_TRIALS):
+        raise DesignError("trials", f"{trials!r} is not allowed; a whole number from 1 to {MAX_TRIALS}")
+    if seed is None:
+        seed = secrets.randbelow(2**32)
+    if isinstance(seed, bool) or not isinstance(seed, int | np.integer) or not (0 <= seed < 2**63):
+        raise DesignError("seed", f"{seed!r} is not allowed; a whole number from 0 to 2^63 − 1")
+    return int(trials), int(seed)
+
+
+def choose_engine(design: Design, net: Network, engine: Engine = "auto") -> str:
+    """``"exact"`` or ``"general"`` for this design (``engine="exact"`` refuses where it fails)."""
+    exact = (solve(net, codes=np.array([0])).method == "superposition"
+             and mc_exact.is_bitwise(net, design.bits))
+    if engine == "exact" and not exact:
+        raise DesignError("engine", "the exact engine needs superposition (equal on-resistances and "
+                          "a reference without output resistance) and one leg per bit")
+    return "exact" if exact and engine != "general" else "general"
+
+
+def plan_run(design: Design, trials: int, engine: Engine = "auto", net: Network | None = None
+             ) -> MonteCarloPlan:
+    """The batches and the envelope size of a run (checks the memory limits before starting).
+
+    Raises
+    ------
+    DesignError
+        The general engine is needed for more than 2^20 codes.
+    """
+    net = net or build(design)
+    chosen = choose_engine(design, net, engine)
+    n_codes = net.n_codes
+    if chosen == "general":
+        if n_codes > MAX_GENERAL_CODES:
+            raise DesignError("bits", f"{design.bits} bits need the general engine (switch or reference "
+                              "resistance breaks superposition), which is limited to 20 bits")
+        batch = max(1, GENERAL_BATCH_ELEMENTS // n_codes)
+    else:
+        batch = max(1, CHUNK_ELEMENTS // (design.bits + 1))
+    if n_codes <= ENVELOPE_MAX_CODES:
+        env_codes = np.arange(n_codes, dtype=np.int64)
+    else:
+        env_codes = np.unique(np.linspace(0, n_codes - 1, ENVELOPE_MAX_CODES).round().astype(np.int64))
+    env_trials = min(trials, max(1, ENVELOPE_ELEMENTS // env_codes.size))
+    return MonteCarloPlan(chosen, trials, min(batch, trials), n_codes, env_codes, env_trials)
+
+
+class _Sampler:
+    """Trials ``start … start + n`` of a seeded run, independent of how they are requested."""
+
+    def __init__(self, design: Design, net: Network, seed: int) -> None:
+        self.design, self.net, self.seed = design, net, seed
+        units = sum(p.units for p in net.parts) + 1
+        self.block = max(1, min(4096, BLOCK_DRAWS // units))
+        self._cached: tuple[int, dict[str, np.ndarray]] | None = None
+
+    def _block(self, index: int) -> dict[str, np.ndarray]:
+        if self._cached is None or self._cached[0] != index:
+            rng = np.random.Generator(np.random.PCG64(np.random.SeedSequence(self.seed,
+                                                                             spawn_key=(index,))))
+            self._cached = (index, sample_ohms(self.design, self.net, rng, self.block))
+        return self._cached[1]
+
+    def take(self, start: int, n: int) -> dict[str, np.ndarray]:
+        """Part values for trials ``start … start + n − 1``; each array shape (n, 1), ohms."""
+        pieces: list[dict[str, np.ndarray]] = []
+        pos = start
+        while pos < start + n:
+            index, offset = divmod(pos, self.block)
+            count = min(self.block - offset, start + n - pos)
+            block = self._block(index)
+            pieces.append({k: v[offset:offset + count] for k, v in block.items()})
+            pos += count
+        return {k: np.concatenate([p[k] for p in pieces]) for k in pieces[0]}
+
+
+def _feedback_factor(net: Network, ohms: dict[str, np.ndarray]) -> np.ndarray | float:
+    """Virtual-ground outputs scale with the feedback resistor: its sampled/nominal ratio."""
+    if net.output.kind != "virtual-ground" or "feedback" not in ohms:
+        return 1.0
+    return ohms["feedback"] / net.output.feedback_ohms
+
+
+def _run_batch(design: Design, net: Network, ohms: dict[str, np.ndarray], engine: str,
+               env_codes: np.ndarray, env_rows: int, line: str
+               ) -> tuple[dict[str, np.ndarray], np.ndarray]:
+    """Per-trial figures and the INL at the envelope codes of the batch's first ``env_rows``
+    trials (shape (env_rows, n_env))."""
+    fb = _feedback_factor(net, ohms)
+    if engine == "exact":
+        v = solve(net, ohms=ohms, codes=mc_exact.basis_codes(design.bits)).vout * fb
+        v0 = v[:, 0]
+        w = v[:, 1:] - v0[:, None]
+        figures = mc_exact.statistics(w)
+        inl = mc_exact.inl_at(w[:env_rows], env_codes, line)
+    else:
+        v = solve(net, ohms=ohms).vout * fb
+        v0 = v[:, 0]
+        inl_e = linearity.inl_endpoint(v)
+        inl_b = linearity.inl_bestfit(v)
+        steps = linearity.dnl(v)
+        figures = {
+            "max_abs_inl_endpoint": np.max(np.abs(inl_e), axis=-1),
+            "max_abs_inl_bestfit": np.max(np.abs(inl_b), axis=-1),
+            "max_abs_dnl": (np.max(np.abs(steps), axis=-1) if steps.shape[-1]
+                            else np.zeros(v.shape[0])),
+            "monotonic": linearity.monotonic(v),
+            "lsb": linearity.endpoint_lsb(v),
+        }
+        inl = (inl_b if line == "bestfit" else inl_e)[:env_rows, env_codes]
+    ideal = net.ideal_lsb
+    figures["offset"] = v0
+    figures["gain_error"] = figures.pop("lsb") / ideal - 1.0 if ideal else np.full(v0.shape, np.nan)
+    return figures, inl
+
+
+def iter_monte_carlo(design: Design, trials: int, seed: int | None = None, cancel: Any = None,
+                     engine: Engine = "auto", reports: int = 50) -> Iterator[MonteCarloResult]:
+    """Run the trials in batches, yielding the partial result after each chunk.
+
+    Parameters
+    ----------
+    design : Design
+        Its ``mismatch`` and ``build`` tables say what is random.
+    trials : int
+        1 … ``MAX_TRIALS``.
+    seed : int, optional
+        Seed of the numpy Generator; a fresh one is drawn (and kept in the result) when omitted.
+    cancel : object with ``is_set()``, optional
+        Checked between batches (a ``threading.Event``); when set, the last partial result is
+        yielded with ``cancelled=True`` and the generator ends.
+    engine : {"auto", "exact", "general"}
+    reports : int
+        About how many partial results to yield (batches are grouped into that many chunks).
+
+    Yields
+    ------
+    MonteCarloResult
+        Partial results (``done < trials``), then the final one (``complete``).
+
+    Raises
+    ------
+    DesignError
+        Bad ``trials``/``seed``, a design the engine cannot take, or a spread that draws a
+        resistor at or below 0 Ω.
+    """
+    trials, seed = check_run(trials, seed)
+    net = build(design)
+    plan = plan_run(design, trials, engine, net)
+    model = MismatchModel.of(design)
+    sampler = _Sampler(design, net, seed)
+    result = MonteCarloResult.allocate(design, seed, plan, model)
+    every = max(1, trials // max(1, reports))
+    last_report = 0
+    for start in range(0, trials, plan.batch_trials):
+        if cancel is not None and cancel.is_set():
+            result.cancelled = True
+            yield result
+            return
+        n = min(plan.batch_trials, trials - start)
+        env_rows = max(0, min(n, plan.envelope_trials - start))
+        figures, inl = _run_batch(design, net, sampler.take(start, n), plan.engine,
+                                  plan.envelope_codes, env_rows, model.inl_line)
+        result.store(start, figures, inl)
+        if result.done - last_report >= every and result.done < trials:
+            last_report = result.done
+            yield result.snapshot()
+    yield result
+
+
+def monte_carlo(design: Design, trials: int, seed: int | None = None, engine: Engine = "auto"
+                ) -> MonteCarloResult:
+    """Monte Carlo statistics of ``design`` over ``trials`` random boards.
+
+    Parameters
+    ----------
+    design : Design
+    trials : int
+    seed : int, optional
+        Shown and saved in the result; the same (design, trials, seed) gives the same result.
+    engine : {"auto", "exact", "general"}
+
+    Returns
+    -------
+    MonteCarloResult
+        Per-trial arrays of shape (trials,), yields with standard errors, percentiles and the
+        per-code INL envelope.
+    """
+    result = None
+    for result in iter_monte_carlo(design, trials, seed, engine=engine, reports=1):
+        pass
+    assert result is not None
+    return result
+
