@@ -118,9 +118,8 @@ def dumps(doc: DesignFile) -> str:
     cands = []
     for d in doc.candidates:
         entry = _toml_value(d.to_dict())
-        for table in ("parts", "mismatch", "build"):
-            if not entry.get(table):
-                entry.pop(table, None)
+        if not entry.get("parts"):
+            entry.pop("parts", None)
         cands.append(entry)
     data["candidate"] = cands
     return tomli_w.dumps(data)

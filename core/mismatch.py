@@ -15,10 +15,9 @@ Keys (all optional; defaults below)::
         tempco_parts = {leg0 = 50e-6},  # α of single parts, 1/K
         reference_c = 25,           # temperature at which the values hold, °C (the operating
                                     #   temperature is the design's temperature_c)
-        inl_limit = 0.5,            # |INL| yield limit, LSB
-        dnl_limit = 0.5,            # |DNL| yield limit, LSB
-        inl_line = "endpoint",      # "endpoint" | "bestfit": which INL the yield uses
     }
+
+The yield limits are the review targets (``targets.Targets``), not part of this table.
 
 Area law (Pelgrom, Duinmaijer, Welbers, IEEE JSSC 24(5), 1989): σ(ΔR/R) = A_R/√(W·L) for a pair,
 so one device has A_R/√(2·W·L). A device of value R_d is drawn at width W and length L·R_d/unit_r
@@ -44,9 +43,6 @@ MismatchModelName = Literal["parts", "on-chip", "array"]
 
 Distribution = Literal["gaussian", "uniform"]
 """Shape of a tolerance grade's errors (the first is the default)."""
-
-InlLine = Literal["endpoint", "bestfit"]
-"""Which INL the |INL| yield uses."""
 
 
 @dataclass(frozen=True)
@@ -76,15 +72,12 @@ NUMERIC_SETTINGS: dict[str, SettingSpec] = {
     "unit_length": SettingSpec("Length L of a unit_r device", "m", 20e-6, 0.0, 1e-2, low_open=True),
     "tempco": SettingSpec("Temperature coefficient, every part", "1/K", 0.0, -0.01, 0.01),
     "reference_c": SettingSpec("Reference temperature", "°C", 25.0, -273.15, 1000.0),
-    "inl_limit": SettingSpec("|INL| limit", "LSB", 0.5, 0.0, 1e9, low_open=True),
-    "dnl_limit": SettingSpec("|DNL| limit", "LSB", 0.5, 0.0, 1e9, low_open=True),
 }
 """Numeric ``mismatch`` keys with label, SI unit, default and allowed range."""
 
 CHOICE_SETTINGS: dict[str, tuple[str, ...]] = {
     "model": get_args(MismatchModelName),
     "distribution": get_args(Distribution),
-    "inl_line": get_args(InlLine),
 }
 """Option ``mismatch`` keys and their values; the first is the default."""
 
@@ -151,7 +144,6 @@ class MismatchModel:
 
     model: str = "parts"
     distribution: str = "gaussian"
-    inl_line: str = "endpoint"
     tolerance: float = 0.01
     coverage_sigma: float = 3.0
     shared_tolerance: float = 0.0
@@ -160,8 +152,6 @@ class MismatchModel:
     unit_length: float = 20e-6
     tempco: float = 0.0
     reference_c: float = 25.0
-    inl_limit: float = 0.5
-    dnl_limit: float = 0.5
     tempco_parts: Mapping[str, float] = field(default_factory=dict)
 
     temperature_c: float = 27.0

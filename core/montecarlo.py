@@ -30,13 +30,11 @@ from .mismatch import MismatchModel, sample_ohms
 from .network import Network
 from .solve import CHUNK_ELEMENTS, solve
 from .stats_result import MonteCarloResult
+from .targets import MAX_SEED, MAX_TRIALS, Targets
 from .topologies import build
 
 Engine = Literal["auto", "exact", "general"]
 """Which engine runs the trials; ``auto`` takes ``exact`` where it holds."""
-
-MAX_TRIALS = 10_000_000
-"""Most trials one run accepts."""
 
 MAX_GENERAL_CODES = 1 << 20
 """Most codes the general engine takes per trial (20 bits); beyond, memory per trial is too big."""
@@ -90,8 +88,8 @@ def check_run(trials: Any, seed: Any) -> tuple[int, int]:
         raise DesignError("trials", f"{trials!r} is not allowed; a whole number from 1 to {MAX_TRIALS}")
     if seed is None:
         seed = secrets.randbelow(2**32)
-    if isinstance(seed, bool) or not isinstance(seed, int | np.integer) or not (0 <= seed < 2**63):
-        raise DesignError("seed", f"{seed!r} is not allowed; a whole number from 0 to 2^63 − 1")
+    if isinstance(seed, bool) or not isinstance(seed, int | np.integer) or not (0 <= seed <= MAX_SEED):
+        raise DesignError("seed", f"{seed!r} is not allowed; a whole number from 0 to {MAX_SEED}")
     return int(trials), int(seed)
 
 
@@ -202,7 +200,8 @@ def _run_batch(design: Design, net: Network, ohms: dict[str, np.ndarray], engine
 
 
 def iter_monte_carlo(design: Design, trials: int, seed: int | None = None, cancel: Any = None,
-                     engine: Engine = "auto", reports: int = 50) -> Iterator[MonteCarloResult]:
+                     targets: Targets | None = None, engine: Engine = "auto", reports: int = 50
+                     ) -> Iterator[MonteCarloResult]:
     """Run the trials in batches, yielding the partial result after each chunk.
 
     Parameters
@@ -216,6 +215,8 @@ def iter_monte_carlo(design: Design, trials: int, seed: int | None = None, cance
     cancel : object with ``is_set()``, optional
         Checked between batches (a ``threading.Event``); when set, the last partial result is
         yielded with ``cancelled=True`` and the generator ends.
+    targets : Targets, optional
+        Limits the yields judge against (default: ½ LSB INL and DNL, monotonic, endpoint line).
     engine : {"auto", "exact", "general"}
     reports : int
         About how many partial results to yield (batches are grouped into that many chunks).
@@ -235,8 +236,9 @@ def iter_monte_carlo(design: Design, trials: int, seed: int | None = None, cance
     net = build(design)
     plan = plan_run(design, trials, engine, net)
     model = MismatchModel.of(design)
+    targets = targets or Targets()
     sampler = _Sampler(design, net, seed)
-    result = MonteCarloResult.allocate(design, seed, plan, model)
+    result = MonteCarloResult.allocate(design, seed, plan, model, targets)
     every = max(1, trials // max(1, reports))
     last_report = 0
     for start in range(0, trials, plan.batch_trials):
@@ -247,7 +249,7 @@ def iter_monte_carlo(design: Design, trials: int, seed: int | None = None, cance
         n = min(plan.batch_trials, trials - start)
         env_rows = max(0, min(n, plan.envelope_trials - start))
         figures, inl = _run_batch(design, net, sampler.take(start, n), plan.engine,
-                                  plan.envelope_codes, env_rows, model.inl_line)
+                                  plan.envelope_codes, env_rows, targets.inl_line)
         result.store(start, figures, inl)
         if result.done - last_report >= every and result.done < trials:
             last_report = result.done
@@ -255,8 +257,8 @@ def iter_monte_carlo(design: Design, trials: int, seed: int | None = None, cance
     yield result
 
 
-def monte_carlo(design: Design, trials: int, seed: int | None = None, engine: Engine = "auto"
-                ) -> MonteCarloResult:
+def monte_carlo(design: Design, trials: int, seed: int | None = None,
+                targets: Targets | None = None, engine: Engine = "auto") -> MonteCarloResult:
     """Monte Carlo statistics of ``design`` over ``trials`` random boards.
 
     Parameters
@@ -265,6 +267,8 @@ def monte_carlo(design: Design, trials: int, seed: int | None = None, engine: En
     trials : int
     seed : int, optional
         Shown and saved in the result; the same (design, trials, seed) gives the same result.
+    targets : Targets, optional
+        Limits the yields judge against.
     engine : {"auto", "exact", "general"}
 
     Returns
@@ -273,9 +277,6 @@ def monte_carlo(design: Design, trials: int, seed: int | None = None, engine: En
         Per-trial arrays of shape (trials,), yields with standard errors, percentiles and the
         per-code INL envelope.
     """
-    result = None
-    for result in iter_monte_carlo(design, trials, seed, engine=engine, reports=1):
-        pass
-    assert result is not None
-    return result
+    *_, last = iter_monte_carlo(design, trials, seed, targets=targets, engine=engine, reports=1)
+    return last
 

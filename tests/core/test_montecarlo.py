@@ -10,6 +10,7 @@ import pytest
 from rungwise.core import Design, DesignError, evaluate, iter_monte_carlo, monte_carlo
 from rungwise.core.montecarlo import MAX_GENERAL_CODES, plan_run
 from rungwise.core.stats_result import PER_TRIAL
+from rungwise.core.targets import Targets
 
 EXACT_CASES = [
     Design(topology="r2r-voltage", bits=6),
@@ -20,15 +21,17 @@ EXACT_CASES = [
     Design(topology="binary-weighted", output="terminated-divider", bits=6, load_r=1e5),
     Design(topology="binary-weighted", output="summing-amp", bits=6, ron_high=50.0, ron_low=10.0),
     Design(topology="r2r-voltage", bits=7, build={"two_r": "two-units"},
-           mismatch={"model": "array", "shared_tolerance": 0.02, "tolerance": 0.002,
-                     "inl_line": "bestfit"}),
+           mismatch={"model": "array", "shared_tolerance": 0.02, "tolerance": 0.002}),
+    Design(topology="r2r-voltage", bits=6, mismatch={"model": "on-chip"}),
 ]
 
 
+@pytest.mark.parametrize("line", ["endpoint", "bestfit"])
 @pytest.mark.parametrize("design", EXACT_CASES, ids=lambda d: f"{d.topology}-{d.output}")
-def test_exact_path_equals_general_solver_on_the_same_samples(design):
-    exact = monte_carlo(design, 400, seed=11, engine="exact")
-    general = monte_carlo(design, 400, seed=11, engine="general")
+def test_exact_path_equals_general_solver_on_the_same_samples(design, line):
+    targets = Targets(inl_line=line)
+    exact = monte_carlo(design, 400, seed=11, targets=targets, engine="exact")
+    general = monte_carlo(design, 400, seed=11, targets=targets, engine="general")
     assert (exact.engine, general.engine) == ("exact", "general")
     for key in PER_TRIAL:
         if key == "monotonic":
@@ -72,7 +75,8 @@ def test_same_seed_same_result_whatever_the_chunking(monkeypatch):
     monkeypatch.setattr("rungwise.core.montecarlo.GENERAL_BATCH_ELEMENTS", 64 * 37)
     chunked = list(iter_monte_carlo(d, 700, seed=42, reports=7))
     assert len(chunked) > 5
-    assert chunked[-1].complete and chunked[-1].seed == 42
+    assert chunked[-1].complete
+    assert chunked[-1].seed == 42
     np.testing.assert_array_equal(whole.max_abs_dnl, chunked[-1].max_abs_dnl)
     other = monte_carlo(d, 700, seed=43)
     assert not np.array_equal(whole.max_abs_dnl, other.max_abs_dnl)
@@ -84,9 +88,12 @@ def test_partial_results_grow_and_stay_valid(monkeypatch):
     assert plan_run(d, 2000).batch_trials == 100
     steps = list(iter_monte_carlo(d, 2000, seed=5, reports=10))
     done = [s.done for s in steps]
-    assert done == sorted(done) and done[-1] == 2000 and len(done) >= 10
+    assert done == sorted(done)
+    assert done[-1] == 2000
+    assert len(done) >= 10
     first = steps[0]
-    assert first.max_abs_dnl.shape == (first.done,) and not first.complete
+    assert first.max_abs_dnl.shape == (first.done,)
+    assert not first.complete
     np.testing.assert_array_equal(first.max_abs_dnl, steps[-1].max_abs_dnl[:first.done])
 
 
@@ -98,7 +105,8 @@ def test_cancel_between_chunks_stops_with_a_partial_result(monkeypatch):
     for r in iter_monte_carlo(d, 5000, seed=1, cancel=cancel, reports=50):
         seen.append(r)
         cancel.set()
-    assert seen[-1].cancelled and not seen[-1].complete
+    assert seen[-1].cancelled
+    assert not seen[-1].complete
     assert seen[-1].done < 5000
 
 
@@ -120,15 +128,17 @@ def test_bad_run_settings_are_named(trials, seed, field):
 
 
 def test_yields_use_the_limits_and_are_judged_per_board():
-    d = Design(topology="binary-weighted", bits=6, mismatch={"tolerance": 0.05, "dnl_limit": 0.3,
-                                                             "inl_limit": 0.4})
-    r = monte_carlo(d, 3000, seed=9)
+    d = Design(topology="binary-weighted", bits=6, mismatch={"tolerance": 0.05})
+    r = monte_carlo(d, 3000, seed=9, targets=Targets(max_dnl_lsb=0.3, max_inl_lsb=0.4))
     assert r.yield_dnl.value == pytest.approx(np.mean(r.max_abs_dnl <= 0.3))
     assert r.yield_inl.value == pytest.approx(np.mean(r.max_abs_inl_endpoint <= 0.4))
     both = r.monotonic & (r.max_abs_dnl <= 0.3) & (r.max_abs_inl_endpoint <= 0.4)
     assert r.yield_all.value == pytest.approx(np.mean(both))
     p = r.yield_all.value
     assert r.yield_all.stderr == pytest.approx(np.sqrt(p * (1 - p) / 3000))
+    loose = monte_carlo(d, 3000, seed=9, targets=Targets(max_dnl_lsb=5, max_inl_lsb=5, monotonic=False))
+    assert loose.yield_all.value == 1.0
+    assert loose.yield_monotonic.value == r.yield_monotonic.value < 1.0
     pct = r.percentiles["max_abs_dnl"]
     assert pct[1.0] <= pct[50.0] <= pct[99.0]
     assert pct[50.0] == pytest.approx(np.median(r.max_abs_dnl))
@@ -138,9 +148,11 @@ def test_inl_envelope_bands_are_ordered_and_pinned_at_the_ends():
     r = monte_carlo(Design(topology="r2r-voltage", bits=6), 2000, seed=2)
     env = r.inl_envelope
     assert env.shape == (3, 64)
-    assert np.all(env[0] <= env[1]) and np.all(env[1] <= env[2])
+    assert np.all(env[0] <= env[1])
+    assert np.all(env[1] <= env[2])
     np.testing.assert_allclose(env[:, [0, -1]], 0.0, atol=1e-9)  # endpoint INL is 0 at both ends
-    assert env[2, 32] > 0.05 and env[0, 32] < -0.05
+    assert env[2, 32] > 0.05
+    assert env[0, 32] < -0.05
 
 
 def test_memory_stays_bounded_for_16_bits_and_1e5_trials():
@@ -152,7 +164,8 @@ def test_memory_stays_bounded_for_16_bits_and_1e5_trials():
     assert plan.envelope_trials * plan.envelope_codes.size <= 1 << 22
     assert plan.n_batches == -(-100_000 // plan.batch_trials)
     exact = plan_run(Design(bits=24), 100_000)
-    assert exact.engine == "exact" and exact.envelope_codes.size <= 4096
+    assert exact.engine == "exact"
+    assert exact.envelope_codes.size <= 4096
     too_big = Design(bits=MAX_GENERAL_CODES.bit_length(), ron_high=40.0, ron_low=25.0)
     with pytest.raises(DesignError, match="20 bits"):
         plan_run(too_big, 10)
@@ -160,5 +173,6 @@ def test_memory_stays_bounded_for_16_bits_and_1e5_trials():
 
 def test_exact_engine_handles_24_bits():
     r = monte_carlo(Design(bits=24, mismatch={"tolerance": 0.001}), 200, seed=4)
-    assert r.engine == "exact" and r.envelope_codes[-1] == 2**24 - 1
+    assert r.engine == "exact"
+    assert r.envelope_codes[-1] == 2**24 - 1
     assert np.all(r.max_abs_dnl > 1.0)  # 0.1 % parts are far too loose for 24 bits
