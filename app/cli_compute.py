@@ -64,7 +64,7 @@ def _cell(key: str, value: Any) -> str:
         return "yes" if value else "no"
     if isinstance(value, int):
         return str(value)
-    if unit in {"V", "Ω", "A", "W", "s"}:
+    if unit in {"V", "Ω", "A", "W", "s", "V/√Hz"}:
         return format_value(value, unit)
     if unit == "fraction":
         return f"{value * 100:.4g} %"

@@ -11,6 +11,8 @@ from .design import Design
 from .metrics import linearity
 from .metrics.structure import structure
 from .network import Network
+from .parts.figures import SUMMARY_KEYS as PART_SUMMARY_KEYS
+from .parts.figures import part_figures
 from .solve import Solution, solve
 from .topologies import build
 
@@ -32,7 +34,8 @@ class Evaluation:
     summary : dict[str, float | int | bool | str]
         Scalar figures (see :data:`SUMMARY_KEYS`).
     parts : list[dict]
-        ``{"id", "ohms", "role"}`` per resistor, in display order.
+        ``{"id", "ohms", "role", "power_max", "power_code"}`` per resistor, in display order:
+        value after snapping (Ω), worst-case power over all codes (W) and the code where it happens.
     network : Network
     solution : Solution
     """
@@ -85,6 +88,7 @@ SUMMARY_KEYS: dict[str, tuple[str, str]] = {
     "total_r_units": ("Total resistance", "R"),
     "n_switches": ("Switches", ""),
     "n_amplifiers": ("Amplifiers", ""),
+    **PART_SUMMARY_KEYS,
 }
 """Summary key → (label, unit) in display order."""
 
@@ -150,6 +154,8 @@ def evaluate(design: Design) -> Evaluation:
     net = build(design)
     sol = solve(net)
     v = sol.vout
+    extra, elements = part_figures(design, net, sol)
+    worst = {e.name: e for e in elements}
     return Evaluation(
         design=design,
         codes=np.arange(net.n_codes),
@@ -159,8 +165,10 @@ def evaluate(design: Design) -> Evaluation:
         inl_endpoint=linearity.inl_endpoint(v),
         inl_bestfit=linearity.inl_bestfit(v),
         dnl=linearity.dnl(v),
-        summary=summarize(design, net, sol),
-        parts=[{"id": p.part_id, "ohms": p.ohms, "role": p.role} for p in net.parts],
+        summary={**summarize(design, net, sol), **extra},
+        parts=[{"id": p.part_id, "ohms": p.ohms, "role": p.role,
+                "power_max": worst[p.part_id].power_max, "power_code": worst[p.part_id].power_code}
+               for p in net.parts],
         network=net,
         solution=sol,
     )

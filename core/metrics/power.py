@@ -1,0 +1,163 @@
+"""Power in every resistive element and current through every switch, worst case over all codes.
+
+From the solver's node voltages (``solve(net, keep_nodes=True)``), vectorised over codes and worked
+in chunks of codes so memory stays bounded at high resolution. Elements:
+
+- each part (``net.parts``: resistors, legs, the feedback resistor of a virtual-ground output);
+- each switch's on-resistance, as ``switch:<leg id>`` (the leg's current through ``ron_high`` or
+  ``ron_low``);
+- the reference's output resistance ``ref_r`` and a resistive ``load`` on an unbuffered output.
+
+Conservation (common practice): the reference delivers Vref·Iref, which equals the sum over every
+element above *except* the feedback resistor (fed by the amplifier, not the reference).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..network import Network
+from ..solve import solve
+
+CODE_CHUNK = 1 << 15
+"""Codes solved per pass when node voltages are kept; bounds working memory."""
+
+FROM_AMPLIFIER = ("feedback",)
+"""Elements the amplifier feeds, left out of the reference's power balance."""
+
+
+@dataclass
+class ElementPower:
+    """Worst case of one dissipating element.
+
+    Attributes
+    ----------
+    name : str
+        Part id, ``switch:<leg id>``, ``ref_r`` or ``load``.
+    kind : str
+        ``"part"``, ``"switch"``, ``"reference"`` or ``"load"``.
+    power_max : float
+        Largest power over all codes, watts.
+    power_code : int
+        The code where it happens.
+    current_max : float
+        Largest |current| over all codes, amperes.
+    source_max, sink_max : float
+        Switches only: largest current the switch sources from its high rail into the leg, and
+        sinks from the leg into its low rail, amperes (0 for other elements).
+    """
+
+    name: str
+    kind: str
+    power_max: float
+    power_code: int
+    current_max: float
+    source_max: float = 0.0
+    sink_max: float = 0.0
+
+
+def element_powers(net: Network, drive: np.ndarray, volts: dict[str, np.ndarray],
+                   vout: np.ndarray) -> dict[str, tuple[str, np.ndarray, np.ndarray]]:
+    """Power and signed current of every element at the given codes.
+
+    Parameters
+    ----------
+    net : Network
+    drive : ndarray of bool, shape (n, n_legs) — ``net.decode(codes)``
+    volts : dict node → ndarray, shape (n,), volts — every node (fixed ones included)
+    vout : ndarray, shape (n,), volts — the output (gives the feedback resistor's current)
+
+    Returns
+    -------
+    dict name → (kind, power (n,) W, current (n,) A)
+        A switch's current is positive when it sources from its high rail into the leg or sinks
+        from the leg into its low rail.
+    """
+    out: dict[str, tuple[str, np.ndarray, np.ndarray]] = {}
+    zero = np.zeros(drive.shape[0])
+    for r in net.resistors:
+        i = (volts[r.a] - volts[r.b]) / r.ohms
+        out[r.part_id] = ("reference" if r.role == "reference" else "part", i * i * r.ohms, i)
+    for col, leg in enumerate(net.legs):
+        d = drive[:, col]
+        i_hi = (volts[leg.high] - volts[leg.node]) / (leg.ohms + leg.ron_high)
+        i_lo = zero if leg.low is None else (volts[leg.node] - volts[leg.low]) / (leg.ohms + leg.ron_low)
+        i = np.where(d, i_hi, i_lo)
+        ron = np.where(d, leg.ron_high, leg.ron_low if leg.low is not None else 0.0)
+        out[leg.part_id] = ("part", i * i * leg.ohms, i)
+        if leg.ron_high > 0 or leg.ron_low > 0:
+            out[f"switch:{leg.part_id}"] = ("switch", i * i * ron, i)
+    o = net.output
+    if o.kind == "virtual-ground" and o.feedback_ohms > 0:
+        i = vout / o.feedback_ohms
+        out["feedback"] = ("part", i * i * o.feedback_ohms, i)
+    elif o.kind == "node" and not o.buffered and np.isfinite(o.load_ohms):
+        i = volts[o.node] / o.load_ohms
+        out["load"] = ("load", i * i * o.load_ohms, i)
+    return out
+
+
+def worst_case(net: Network) -> tuple[list[ElementPower], dict[str, float]]:
+    """Every element's worst-case power and current, and the network's totals.
+
+    Parameters
+    ----------
+    net : Network
+        Nominal values (no Monte Carlo trials).
+
+    Returns
+    -------
+    elements : list[ElementPower]
+        Parts in display order, then switches, ``ref_r`` and ``load``.
+    totals : dict
+        ``power_total_max`` (W, largest over codes of the sum over every element, feedback
+        included) and its code ``power_total_max_code``; ``ref_power_max`` (W, largest
+        |Vref·Iref|) and its code ``ref_power_max_code``; ``balance_error_max`` (W, largest
+        |Vref·Iref − Σ reference-fed elements|, a check that should be round-off).
+    """
+    vref = net.fixed[net.source]
+    best: dict[str, list] = {}
+    tot_best = [-1.0, 0]
+    ref_best = [-1.0, 0]
+    balance = 0.0
+    for start in range(0, net.n_codes, CODE_CHUNK):
+        codes = np.arange(start, min(start + CODE_CHUNK, net.n_codes))
+        sol = solve(net, codes=codes, keep_nodes=True)
+        volts = {k: np.broadcast_to(v, codes.shape) for k, v in sol.node_voltages.items()}
+        drive = net.decode(codes).astype(bool)
+        legs = {f"switch:{g.part_id}": col for col, g in enumerate(net.legs)}
+        elems = element_powers(net, drive, volts, sol.vout)
+        total = np.zeros(len(codes))
+        fed = np.zeros(len(codes))
+        for name, (kind, p, i) in elems.items():
+            total = total + p
+            if name not in FROM_AMPLIFIER:
+                fed = fed + p
+            k = int(np.argmax(p))
+            row = best.setdefault(name, [kind, -1.0, 0, 0.0, 0.0, 0.0])
+            if p[k] > row[1]:
+                row[1], row[2] = float(p[k]), int(codes[k])
+            row[3] = max(row[3], float(np.max(np.abs(i))))
+            if kind == "switch":
+                d = drive[:, legs[name]]
+                row[4] = max(row[4], float(np.max(np.where(d, i, 0.0), initial=0.0)))
+                row[5] = max(row[5], float(np.max(np.where(d, 0.0, i), initial=0.0)))
+        p_ref = vref * sol.iref
+        balance = max(balance, float(np.max(np.abs(p_ref - fed))))
+        k = int(np.argmax(total))
+        if total[k] > tot_best[0]:
+            tot_best = [float(total[k]), int(codes[k])]
+        k = int(np.argmax(np.abs(p_ref)))
+        if abs(p_ref[k]) > ref_best[0]:
+            ref_best = [float(abs(p_ref[k])), int(codes[k])]
+    order = {p.part_id: i for i, p in enumerate(net.parts)}
+    kinds = {"part": 0, "switch": 1, "reference": 2, "load": 3}
+    names = sorted(best, key=lambda n: (kinds[best[n][0]], order.get(n.split(":")[-1], 0)))
+    elements = [ElementPower(n, best[n][0], best[n][1], best[n][2], best[n][3], best[n][4],
+                             best[n][5]) for n in names]
+    totals = {"power_total_max": tot_best[0], "power_total_max_code": tot_best[1],
+              "ref_power_max": ref_best[0], "ref_power_max_code": ref_best[1],
+              "balance_error_max": balance}
+    return elements, totals

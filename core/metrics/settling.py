@@ -1,0 +1,39 @@
+"""Single-pole settling of an unbuffered output loaded by a capacitance.
+
+The network is resistive, so a capacitance C at its output node makes one pole with
+τ = R_th·C, R_th the output's Thevenin resistance (``rout`` in parallel with ``load_r`` when that
+is finite). Convention: the worst code's R_th, and the time to come within ½ LSB of the final
+value after a full-scale step of (2^N − 1) LSB, t = τ·ln(2·(2^N − 1)).
+
+Outputs behind an ideal amplifier (buffer, virtual ground) settle as fast as the amplifier
+allows, which is not modelled: their settling figures are NaN.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from ..network import Network
+
+CONVENTION = "τ·ln(2·(2^N − 1)): ½ LSB after a full-scale step, worst-code output resistance"
+"""How the settling figure is defined, shown beside it."""
+
+
+def time_constant(net: Network, rout: np.ndarray, load_c: float) -> float:
+    """τ = worst-code R_th × ``load_c``, seconds (NaN behind an amplifier)."""
+    o = net.output
+    if o.kind != "node" or o.buffered:
+        return math.nan
+    r = np.asarray(rout, dtype=float)
+    if np.isfinite(o.load_ohms):
+        r = r * o.load_ohms / (r + o.load_ohms)
+    return float(np.max(r)) * load_c
+
+
+def settling_time(tau: float, n_codes: int) -> float:
+    """Time to ½ LSB after a full-scale step of (n_codes − 1) LSB, seconds: τ·ln(2·(n_codes − 1))."""
+    if n_codes < 2:
+        return 0.0
+    return tau * math.log(2.0 * (n_codes - 1))

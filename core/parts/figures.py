@@ -1,0 +1,60 @@
+"""The real-part figures ``evaluate`` adds: power, settling and noise summary entries and each
+part's worst-case power (kept apart from ``evaluate.py`` so that file stays small)."""
+
+from __future__ import annotations
+
+from typing import Any
+
+import numpy as np
+
+from ..metrics import noise, settling
+from ..metrics.power import ElementPower, worst_case
+from ..network import Network
+from ..solve import Solution
+
+SUMMARY_KEYS: dict[str, tuple[str, str]] = {
+    "power_total_max": ("Power in the network, max", "W"),
+    "power_total_max_code": ("  at code", ""),
+    "ref_power_max": ("Reference power, max", "W"),
+    "switch_current_max": ("Switch current, max", "A"),
+    "settling_tau": ("Output time constant", "s"),
+    "settling_time": ("Settling to ½ LSB", "s"),
+    "noise_density": ("Thermal noise density, worst code", "V/√Hz"),
+    "noise_rms": ("Thermal noise over the bandwidth", "V"),
+    "noise_rms_lsb": ("  relative to the LSB", "LSB"),
+}
+"""Summary keys added here → (label, unit), in display order."""
+
+
+def part_figures(design: Any, net: Network, sol: Solution
+                 ) -> tuple[dict[str, Any], list[ElementPower]]:
+    """Summary entries (see :data:`SUMMARY_KEYS`) and every element's worst-case power.
+
+    Parameters
+    ----------
+    design : Design
+        Gives ``load_c``, ``temperature_c`` and ``bandwidth``.
+    net : Network
+        The nominal network (values already snapped).
+    sol : Solution
+        Its nominal solution, shape (n_codes,).
+    """
+    elements, totals = worst_case(net)
+    switches = [e.current_max for e in elements if e.kind == "switch"]
+    tau = settling.time_constant(net, sol.rout, design.load_c)
+    density = noise.output_density(net, sol.rout, design.temperature_c)
+    worst = float(np.max(density))
+    noise_rms = float(noise.rms(worst, design.bandwidth))
+    lsb = abs(net.ideal_lsb)
+    out = {
+        "power_total_max": totals["power_total_max"],
+        "power_total_max_code": totals["power_total_max_code"],
+        "ref_power_max": totals["ref_power_max"],
+        "switch_current_max": max(switches) if switches else 0.0,
+        "settling_tau": tau,
+        "settling_time": settling.settling_time(tau, net.n_codes),
+        "noise_density": worst,
+        "noise_rms": noise_rms,
+        "noise_rms_lsb": noise_rms / lsb if lsb else float("nan"),
+    }
+    return out, elements

@@ -1,0 +1,29 @@
+"""``rungwise compute --format json`` carries the real-part figures the contract promises."""
+
+from __future__ import annotations
+
+import json
+
+import pytest
+
+from rungwise.app.cli import run_cli
+
+
+def test_compute_json_has_part_figures(capsys):
+    code = run_cli(["compute", "--format", "json", "--set", "series=E96", "--set", "load_c=10p",
+                    "--set", "unit_r=33k", "--set", "temperature_c=50", "--set", "bandwidth=20k"])
+    assert code == 0
+    res = json.loads(capsys.readouterr().out)["results"][0]
+    s = res["summary"]
+    for key in ("settling_time", "noise_density", "noise_rms", "iref_max", "power_total_max"):
+        assert isinstance(s[key], float)
+        assert s[key] > 0
+    leg = res["parts"][0]
+    assert leg["ohms"] == pytest.approx(66.5e3)
+    assert {"power_max", "power_code"} <= set(leg)
+    assert s["noise_rms"] == pytest.approx(s["noise_density"] * 20e3**0.5, rel=1e-12)
+
+
+def test_bad_series_is_a_bad_input(capsys):
+    assert run_cli(["compute", "--set", "series=E7"]) == 2
+    assert "series" in capsys.readouterr().err
