@@ -4,21 +4,27 @@
 
 from __future__ import annotations
 
+import argparse
 from pathlib import Path
 
+from rungwise.core import designfile
 from rungwise.core.demo import demo_candidates
 from rungwise.core.design import Design
+from rungwise.core.designfile import DesignFile
 from rungwise.core.errors import DesignError, RungwiseError
 from rungwise.core.types import OUTPUTS_BY_TOPOLOGY, TOPOLOGIES
 
 
 def load_candidates(path: str | None) -> list[Design]:
     """Candidates from a design file, or the demo's when ``path`` is ``None``."""
-    if path is None:
-        return demo_candidates()
-    from rungwise.core import designfile  # present once design files exist
+    return load_document(path).candidates
 
-    return designfile.load(Path(path)).candidates
+
+def load_document(path: str | None) -> DesignFile:
+    """A whole design file (candidates, analysis settings, targets), or the demo's."""
+    if path is None:
+        return DesignFile(demo_candidates())
+    return designfile.load(Path(path))
 
 
 def apply_choices(base: list[Design], settings: dict[str, str], topologies: list[str] | None
@@ -39,6 +45,23 @@ def apply_choices(base: list[Design], settings: dict[str, str], topologies: list
             chosen.append(first.replace(topology=topo, output=output or None, name=""))
         base = chosen
     return [d.with_settings(settings) if settings else d for d in base]
+
+
+def add_choice_arguments(p: argparse.ArgumentParser, with_design: bool = True) -> None:
+    """The options every command shares: the design file (optional), ``--set`` and ``--topology``.
+    Read them back with :func:`chosen_candidates`."""
+    if with_design:
+        p.add_argument("design", nargs="?", help="design file (default: the built-in demo)")
+    p.add_argument("--set", dest="settings", action="append", metavar="KEY=VALUE",
+                   help="change a design value for every candidate, e.g. unit_r=4k7 (repeatable)")
+    p.add_argument("--topology", action="append", metavar="TOPOLOGY[:OUTPUT]",
+                   help="compare these topologies instead of the file's candidates (repeatable)")
+
+
+def chosen_candidates(args: argparse.Namespace, path: str | None = None) -> list[Design]:
+    """The candidates the shared options select (``path`` overrides ``args.design``)."""
+    source = path if path is not None else getattr(args, "design", None)
+    return apply_choices(load_candidates(source), parse_settings(args.settings), args.topology)
 
 
 def parse_settings(pairs: list[str] | None) -> dict[str, str]:

@@ -15,7 +15,7 @@ import numpy as np
 from rungwise.core import SUMMARY_KEYS, Evaluation, evaluate
 from rungwise.core.units import format_value
 
-from .candidates import apply_choices, load_candidates, parse_settings
+from .candidates import add_choice_arguments, chosen_candidates
 
 NAME = "compute"
 HELP = "Solve candidates at every code and print their figures (json, csv or table)."
@@ -23,11 +23,7 @@ HELP = "Solve candidates at every code and print their figures (json, csv or tab
 
 def add_arguments(p: argparse.ArgumentParser) -> None:
     """Options of ``compute``."""
-    p.add_argument("design", nargs="?", help="design file (default: the built-in demo)")
-    p.add_argument("--set", dest="settings", action="append", metavar="KEY=VALUE",
-                   help="change a design value for every candidate, e.g. unit_r=4k7 (repeatable)")
-    p.add_argument("--topology", action="append", metavar="TOPOLOGY[:OUTPUT]",
-                   help="compare these topologies instead of the file's candidates (repeatable)")
+    add_choice_arguments(p)
     p.add_argument("--format", choices=("json", "csv", "table"), default="table")
     p.add_argument("--per-code", action="store_true", help="also print every code's values")
 
@@ -105,8 +101,7 @@ def render_csv(evs: list[Evaluation], per_code: bool) -> str:
 
 def run(args: argparse.Namespace) -> int:
     """Evaluate and print; returns the exit code."""
-    designs = apply_choices(load_candidates(args.design), parse_settings(args.settings),
-                            args.topology)
+    designs = chosen_candidates(args)
     evs = [evaluate(d) for d in designs]
     if args.format == "json":
         text = json.dumps({"results": [result_dict(e, args.per_code) for e in evs]}, indent=1)

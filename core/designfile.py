@@ -37,9 +37,7 @@ from __future__ import annotations
 
 import dataclasses
 import math
-import os
 import re
-import tempfile
 import tomllib
 from collections.abc import Mapping
 from dataclasses import dataclass, field
@@ -49,6 +47,7 @@ from typing import Any
 import numpy as np
 import tomli_w
 
+from .atomic import write_atomically
 from .design import Design
 from .designfile_upgrade import CURRENT_VERSION, upgrade
 from .errors import DesignError
@@ -131,18 +130,8 @@ def save(path: Path, doc: DesignFile) -> None:
     If anything fails (the text cannot be made, the disk is full, the rename is refused) the file
     at ``path`` is left as it was and the temporary file is removed.
     """
-    path = Path(path)
     text = dumps(doc)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8", newline="\n") as fh:
-            fh.write(text)
-            fh.flush()
-            os.fsync(fh.fileno())
-        os.replace(tmp, path)
-    except BaseException:
-        Path(tmp).unlink(missing_ok=True)
-        raise
+    write_atomically(Path(path), lambda tmp: Path(tmp).write_text(text, encoding="utf-8", newline="\n"))
 
 
 # --- reading ---------------------------------------------------------------------------------

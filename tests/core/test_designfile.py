@@ -235,9 +235,9 @@ def test_interrupted_save_keeps_the_previous_file(tmp_path: Path, monkeypatch, w
         raise OSError("disk full (simulated)")
 
     if where == "replace":
-        monkeypatch.setattr(dfile.os, "replace", boom)
+        monkeypatch.setattr(os, "replace", boom)
     else:
-        monkeypatch.setattr(dfile.os, "fsync", boom)
+        monkeypatch.setattr(os, "fsync", boom)
     changed = dfile.DesignFile([demo_candidates()[0].replace(bits=12)])
     with pytest.raises(OSError, match="simulated"):
         dfile.save(path, changed)

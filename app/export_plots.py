@@ -1,0 +1,27 @@
+"""Writing the comparison's plots to a folder as PNG and/or SVG files (Qt, works with no display)."""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from pathlib import Path
+
+from rungwise.core import Evaluation
+
+from .plot_specs import comparison_plots
+from .qt_headless import gui_application
+
+
+def export_plots(evs: Sequence[Evaluation], folder: Path, formats: Sequence[str] = ("png", "svg")
+                 ) -> list[Path]:
+    """Write every plot of ``comparison_plots(evs)`` as ``<folder>/<name>.<fmt>``; returns the paths."""
+    gui_application()
+    from .plot_paint import save_png, save_svg  # after the platform is chosen
+
+    writers = {"png": save_png, "svg": save_svg}
+    written = []
+    for spec in comparison_plots(evs):
+        for fmt in formats:
+            path = Path(folder) / f"{spec.name}.{fmt}"
+            writers[fmt](spec, path)
+            written.append(path)
+    return written
