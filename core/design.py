@@ -65,13 +65,21 @@ FIELDS: dict[str, FieldSpec] = {
 """Numeric design fields with their display label, SI unit and allowed range."""
 
 
+def _parse(value: Any, field: str, allowed: str) -> float:
+    """``parse_value`` whose refusal also states the allowed range."""
+    try:
+        return parse_value(value, field)
+    except DesignError as exc:
+        raise DesignError(field, f"{exc.reason}; allowed: {allowed}") from None
+
+
 def _check_number(key: str, value: Any) -> float | None:
     spec = FIELDS[key]
     if value is None or (isinstance(value, str) and value.strip() in {"", "default"}):
         if spec.optional:
             return None
         raise DesignError(key, f"a value is required: {spec.describe()}")
-    x = parse_value(value, key)
+    x = _parse(value, key, spec.describe())
     if math.isnan(x):
         raise DesignError(key, f"not a number; allowed: {spec.describe()}")
     if math.isinf(x):
@@ -165,7 +173,7 @@ class Design:
         if not isinstance(self.parts, Mapping):
             raise DesignError("parts", "must map part ids to ohms, e.g. {leg0 = 20.1e3}")
         for pid, ohms in self.parts.items():
-            x = parse_value(ohms, f"parts.{pid}")
+            x = _parse(ohms, f"parts.{pid}", "> 0 Ω and ≤ 1e+12 Ω")
             if not (math.isfinite(x) and 0 < x <= 1e12):
                 raise DesignError(f"parts.{pid}", f"{x:g} is out of range; allowed: > 0 Ω and "
                                   "≤ 1e+12 Ω")

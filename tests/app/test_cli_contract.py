@@ -1,0 +1,189 @@
+"""``rungwise compute`` from the outside: exit codes, messages and the output formats' contract."""
+
+from __future__ import annotations
+
+import csv
+import io
+import json
+import math
+import re
+import subprocess
+import sys
+
+import pytest
+
+from rungwise.app.cli import run_cli
+from rungwise.core import SUMMARY_KEYS, Design, evaluate
+from rungwise.core.designfile import DesignFile, dumps
+
+CANDIDATES = [
+    Design(topology="r2r-current", bits=3, vref=2.5, unit_r=10e3, ron_high=30.0, ron_low=12.0,
+           ref_r=15.0, name="Inverted ladder"),
+    Design(topology="binary-weighted", output="divider", bits=3, vref=2.5, unit_r=8.2e3,
+           ron_high=30.0, ron_low=12.0, load_r=56e3, parts={"bit0": 33.1e3}, name="Divider"),
+]
+
+
+def _run(*args: str) -> subprocess.CompletedProcess:
+    return subprocess.run([sys.executable, "-m", "rungwise.app", *args], capture_output=True,
+                          text=True, timeout=120, check=False)
+
+
+@pytest.fixture(scope="module")
+def design_file(tmp_path_factory):
+    path = tmp_path_factory.mktemp("cli") / "two.toml"
+    path.write_text(dumps(DesignFile(candidates=CANDIDATES)))
+    return path
+
+
+@pytest.fixture(scope="module")
+def expected():
+    return [evaluate(d) for d in CANDIDATES]
+
+
+def _same(cli_value, value) -> bool:
+    """JSON carries non-finite numbers as null; everything else must be equal exactly."""
+    if isinstance(value, float) and not math.isfinite(value):
+        return cli_value is None
+    return cli_value == value
+
+
+def test_json_contract_and_values(design_file, expected):
+    proc = _run("compute", str(design_file), "--format", "json", "--per-code")
+    assert proc.returncode == 0, proc.stderr
+    doc = json.loads(proc.stdout)
+    assert list(doc) == ["results"]
+    assert len(doc["results"]) == len(expected)
+    for res, ev in zip(doc["results"], expected, strict=True):
+        assert {"topology", "output", "bits", "summary", "parts", "per_code"} <= set(res)
+        assert (res["topology"], res["output"], res["bits"]) == (
+            ev.design.topology, ev.design.output, ev.design.bits)
+        assert set(res["summary"]) == set(ev.summary)
+        for key, value in ev.summary.items():
+            assert _same(res["summary"][key], value), key
+        assert res["parts"] == [{"id": p["id"], "ohms": p["ohms"], "role": p["role"]}
+                                for p in ev.parts]
+        pc = res["per_code"]
+        assert set(pc) == {"code", "vout", "rout", "iref", "inl_endpoint", "inl_bestfit", "dnl"}
+        assert pc["code"] == ev.codes.tolist()
+        for name in ("vout", "rout", "iref", "inl_endpoint", "inl_bestfit", "dnl"):
+            arr = getattr(ev, name)
+            assert len(pc[name]) == arr.size, name
+            assert all(_same(a, float(b)) for a, b in zip(pc[name], arr, strict=True)), name
+    assert doc["results"][1]["parts"][0] == {"id": "bit0", "ohms": 33.1e3, "role": "bit"}
+    assert doc["results"][0]["per_code"]["rout"][0] is None  # open summing node at code 0
+
+
+def test_csv_parses_back(design_file, expected):
+    proc = _run("compute", str(design_file), "--format", "csv", "--per-code")
+    assert proc.returncode == 0, proc.stderr
+    summary_text, per_code_text = proc.stdout.split("\n\n")
+    rows = list(csv.reader(io.StringIO(summary_text)))
+    assert rows[0] == ["metric", *[ev.design.label for ev in expected]]
+    by_key = {r[0]: r[1:] for r in rows[1:]}
+    for i, ev in enumerate(expected):
+        for key, value in ev.summary.items():
+            cell = by_key[key][i]
+            if isinstance(value, bool):
+                assert cell == str(value)
+            elif isinstance(value, float) and not math.isfinite(value):
+                assert cell == ""
+            else:
+                assert float(cell) == value, key
+    table = list(csv.DictReader(io.StringIO(per_code_text)))
+    assert len(table) == sum(ev.codes.size for ev in expected)
+    for ev in expected:
+        mine = [r for r in table if r["candidate"] == ev.design.label]
+        pc = ev.per_code()
+        for row in mine:
+            c = int(row["code"])
+            for name in ("vout", "rout", "iref", "inl_endpoint", "inl_bestfit", "dnl"):
+                x = float(pc[name][c])
+                assert (row[name] == "") if not math.isfinite(x) else float(row[name]) == x
+
+
+def _table_number(cell: str) -> float | bool:
+    """A table cell read back: yes/no, ∞, engineering prefix, %, LSB, R and × units."""
+    cell = cell.strip()
+    if cell in ("yes", "no"):
+        return cell == "yes"
+    m = re.fullmatch(r"([-+−]?)(∞|[\d.eE+-]+)\s*([fpnuµmkMGT]?)(Ω|V|A|W|s|%|LSB|R|×)?", cell)
+    assert m, cell
+    sign = -1.0 if m.group(1) in ("-", "−") else 1.0
+    if m.group(2) == "∞":
+        return sign * math.inf
+    scale = {"": 1, "f": 1e-15, "p": 1e-12, "n": 1e-9, "u": 1e-6, "µ": 1e-6, "m": 1e-3, "k": 1e3,
+             "M": 1e6, "G": 1e9, "T": 1e12}[m.group(3)]
+    value = sign * float(m.group(2)) * scale
+    return value / 100 if m.group(4) == "%" else value
+
+
+def test_table_parses_back(design_file, expected):
+    proc = _run("compute", str(design_file), "--format", "table")
+    assert proc.returncode == 0, proc.stderr
+    lines = proc.stdout.rstrip("\n").split("\n")
+    assert [c.strip() for c in re.split(r"\s{2,}", lines[0].strip())] == [
+        ev.design.label for ev in expected]
+    label_to_key = {label: key for key, (label, _) in SUMMARY_KEYS.items()}
+    keys_seen = []
+    previous = None
+    for line in lines[1:]:
+        label, *cells = re.split(r"\s{2,}", line.strip())
+        key = label_to_key.get(label)
+        if label == "at code":  # the code of the figure on the line above
+            key = f"{previous}_code"
+        previous = key.removesuffix("_code") if key else None
+        if key is None:
+            continue
+        keys_seen.append(key)
+        for cell, ev in zip(cells, expected, strict=True):
+            value = ev.summary[key]
+            got = _table_number(cell)
+            if isinstance(value, bool) or (isinstance(value, float) and not math.isfinite(value)):
+                assert got == value, key
+            else:
+                assert got == pytest.approx(value, rel=5e-4, abs=1e-12), key
+    assert {"lsb", "max_abs_inl_endpoint", "rout_max", "iref_max", "monotonic"} <= set(keys_seen)
+
+
+BAD = [
+    # (arguments after "compute", field named, words of the allowed range)
+    (["--set", "bits=0"], "bits", "1 to 24"),
+    (["--set", "bits=99"], "bits", "1 to 24"),
+    (["--set", "unit_r=-4k7"], "unit_r", "> 0 Ω"),
+    (["--set", "ron_low=-1"], "ron_low", "≥ 0 Ω"),
+    (["--set", "vref=nan"], "vref", "1000 V"),
+    (["--set", "unit_r=abc"], "unit_r", "> 0 Ω"),
+    (["--set", "parts.leg9=10k"], "parts.leg9", "leg0"),
+    (["--topology", "ladder"], "topology", "r2r-voltage"),
+    (["--topology", "r2r-voltage:summing-amp"], "output", "unbuffered"),
+    (["--set", "unit_r"], "--set", "key=value"),
+]
+
+
+@pytest.mark.parametrize(("args", "field", "allowed"), BAD)
+def test_bad_input_exits_2_with_the_message(args, field, allowed, capsys):
+    assert run_cli(["compute", "--format", "json", *args]) == 2
+    out, err = capsys.readouterr()
+    assert out == ""
+    assert err.startswith("rungwise: error: ")
+    assert field in err
+    assert allowed in err
+
+
+@pytest.mark.parametrize(("args", "field", "allowed"), [BAD[0], BAD[5], BAD[-1]])
+def test_bad_input_in_a_real_process_has_no_traceback(args, field, allowed):
+    proc = _run("compute", "--format", "json", *args)
+    assert proc.returncode == 2, proc.stderr
+    assert proc.stdout == ""
+    assert "Traceback" not in proc.stderr
+    assert proc.stderr.startswith("rungwise: error: ")
+    assert field in proc.stderr
+    assert allowed in proc.stderr
+
+
+def test_missing_design_file_exits_2(tmp_path):
+    proc = _run("compute", str(tmp_path / "nowhere.toml"))
+    assert proc.returncode == 2
+    assert "does not exist" in proc.stderr
+    assert "Traceback" not in proc.stderr

@@ -1,0 +1,75 @@
+"""Bad input is refused by the design with a message naming the field and the allowed range."""
+
+from __future__ import annotations
+
+import math
+
+import pytest
+
+from rungwise.core import Design, DesignError
+
+CASES = [
+    # (constructor keywords, field named, words of the allowed range in the message)
+    ({"bits": 0}, "bits", "1 to 24"),
+    ({"bits": 25}, "bits", "1 to 24"),
+    ({"bits": 8.5}, "bits", "1 to 24"),
+    ({"bits": "twelve"}, "bits", "1 to 24"),
+    ({"unit_r": 0.0}, "unit_r", "> 0 Ω"),
+    ({"unit_r": -10e3}, "unit_r", "> 0 Ω"),
+    ({"unit_r": "abc"}, "unit_r", "> 0 Ω"),
+    ({"unit_r": math.inf}, "unit_r", "> 0 Ω"),
+    ({"ron_high": -1.0}, "ron_high", "≥ 0 Ω"),
+    ({"ron_low": -0.5}, "ron_low", "≥ 0 Ω"),
+    ({"ref_r": -1.0}, "ref_r", "≥ 0 Ω"),
+    ({"load_r": 0.0}, "load_r", "> 0 Ω"),
+    ({"load_r": -math.inf}, "load_r", "> 0 Ω"),
+    ({"feedback_r": -1.0}, "feedback_r", "> 0 Ω"),
+    ({"vref": math.nan}, "vref", "≤ 1000 V"),
+    ({"vref": math.inf}, "vref", "≤ 1000 V"),
+    ({"vref": "nan"}, "vref", "≤ 1000 V"),
+    ({"gain": math.nan}, "gain", "V/V"),
+    ({"topology": "ladder"}, "topology", "r2r-voltage"),
+    ({"topology": "r2r-voltage", "output": "summing-amp"}, "output", "unbuffered, buffer"),
+    ({"topology": "binary-weighted", "output": "buffer"}, "output", "terminated-divider"),
+    ({"parts": {"bogus": 1e3}}, "parts.bogus", "leg0"),
+    ({"topology": "binary-weighted", "parts": {"leg0": 1e3}}, "parts.leg0", "bit0"),
+    ({"bits": 4, "parts": {"leg4": 1e3}}, "parts.leg4", "leg3"),
+    ({"parts": {"leg0": -3.0}}, "parts.leg0", "> 0 Ω"),
+    ({"parts": {"leg0": math.nan}}, "parts.leg0", "> 0 Ω"),
+    ({"parts": {"leg0": math.inf}}, "parts.leg0", "> 0 Ω"),
+    ({"parts": {"leg0": "oops"}}, "parts.leg0", "> 0 Ω"),
+]
+
+
+@pytest.mark.parametrize(("kwargs", "field", "allowed"), CASES)
+def test_bad_value_names_field_and_range(kwargs, field, allowed):
+    with pytest.raises(DesignError) as info:
+        Design(**kwargs)
+    assert info.value.field == field
+    assert str(info.value).startswith(f"{field}: ")
+    assert allowed in str(info.value)
+
+
+def test_unknown_keys_are_refused_by_name():
+    with pytest.raises(DesignError, match="colour") as info:
+        Design.from_dict({"topology": "r2r-voltage", "colour": "red"})
+    assert info.value.field == "colour"
+    with pytest.raises(DesignError) as info:
+        Design().with_settings({"speed": "1"})
+    assert info.value.field == "speed"
+    assert "unit_r" in str(info.value)  # lists the known settings
+
+
+def test_typed_settings_are_validated_like_constructor_values():
+    with pytest.raises(DesignError, match=r"bits: .*1 to 24"):
+        Design().with_settings({"bits": "30"})
+    with pytest.raises(DesignError, match=r"parts\.term: .*> 0 Ω"):
+        Design().with_settings({"parts.term": "-4k7"})
+    assert Design().with_settings({"unit_r": "4k7", "parts.term": "9k1"}).parts["term"] == 9100.0
+
+
+def test_edges_of_the_ranges_are_accepted():
+    assert Design(bits=1).bits == 1
+    assert Design(bits=24).bits == 24
+    assert Design(ron_high=0.0, ron_low=0.0, ref_r=0.0).ref_r == 0.0
+    assert math.isinf(Design(load_r="open").load_r)
