@@ -61,8 +61,11 @@ def test_json_contract_and_values(design_file, expected):
         assert set(res["summary"]) == set(ev.summary)
         for key, value in ev.summary.items():
             assert _same(res["summary"][key], value), key
-        assert res["parts"] == [{"id": p["id"], "ohms": p["ohms"], "role": p["role"]}
-                                for p in ev.parts]
+        assert [{k: p[k] for k in ("id", "ohms", "role")} for p in res["parts"]] == [
+            {k: p[k] for k in ("id", "ohms", "role")} for p in ev.parts]
+        for got, part in zip(res["parts"], ev.parts, strict=True):  # any further figures too
+            assert set(got) == set(part)
+            assert all(_same(got[k], part[k]) for k in part), part["id"]
         pc = res["per_code"]
         assert set(pc) == {"code", "vout", "rout", "iref", "inl_endpoint", "inl_bestfit", "dnl"}
         assert pc["code"] == ev.codes.tolist()
@@ -70,7 +73,8 @@ def test_json_contract_and_values(design_file, expected):
             arr = getattr(ev, name)
             assert len(pc[name]) == arr.size, name
             assert all(_same(a, float(b)) for a, b in zip(pc[name], arr, strict=True)), name
-    assert doc["results"][1]["parts"][0] == {"id": "bit0", "ohms": 33.1e3, "role": "bit"}
+    assert {k: doc["results"][1]["parts"][0][k] for k in ("id", "ohms", "role")} == {
+        "id": "bit0", "ohms": 33.1e3, "role": "bit"}
     assert doc["results"][0]["per_code"]["rout"][0] is None  # open summing node at code 0
 
 
@@ -102,20 +106,25 @@ def test_csv_parses_back(design_file, expected):
                 assert (row[name] == "") if not math.isfinite(x) else float(row[name]) == x
 
 
-def _table_number(cell: str) -> float | bool:
-    """A table cell read back: yes/no, ∞, engineering prefix, %, LSB, R and × units."""
+def _table_number(cell: str, unit: str) -> float | bool:
+    """A table cell read back: yes/no, —, ∞ and an engineering prefix before the figure's unit."""
     cell = cell.strip()
+    if cell == "—":
+        return math.nan
     if cell in ("yes", "no"):
         return cell == "yes"
-    m = re.fullmatch(r"([-+−]?)(∞|[\d.eE+-]+)\s*([fpnuµmkMGT]?)(Ω|V|A|W|s|%|LSB|R|×)?", cell)
+    suffix = "%" if unit == "fraction" else unit
+    if suffix and cell.endswith(suffix):
+        cell = cell[: -len(suffix)].strip()
+    m = re.fullmatch(r"([-−]?)(∞|[\d.]+(?:e[-+]?\d+)?)\s*([fpnuµmkMGT]?)", cell)
     assert m, cell
-    sign = -1.0 if m.group(1) in ("-", "−") else 1.0
+    sign = -1.0 if m.group(1) else 1.0
     if m.group(2) == "∞":
         return sign * math.inf
     scale = {"": 1, "f": 1e-15, "p": 1e-12, "n": 1e-9, "u": 1e-6, "µ": 1e-6, "m": 1e-3, "k": 1e3,
              "M": 1e6, "G": 1e9, "T": 1e12}[m.group(3)]
     value = sign * float(m.group(2)) * scale
-    return value / 100 if m.group(4) == "%" else value
+    return value / 100 if unit == "fraction" else value
 
 
 def test_table_parses_back(design_file, expected):
@@ -124,26 +133,22 @@ def test_table_parses_back(design_file, expected):
     lines = proc.stdout.rstrip("\n").split("\n")
     assert [c.strip() for c in re.split(r"\s{2,}", lines[0].strip())] == [
         ev.design.label for ev in expected]
-    label_to_key = {label: key for key, (label, _) in SUMMARY_KEYS.items()}
-    keys_seen = []
-    previous = None
-    for line in lines[1:]:
-        label, *cells = re.split(r"\s{2,}", line.strip())
-        key = label_to_key.get(label)
-        if label == "at code":  # the code of the figure on the line above
-            key = f"{previous}_code"
-        previous = key.removesuffix("_code") if key else None
-        if key is None:
-            continue
-        keys_seen.append(key)
+    keys = [k for k in expected[0].summary if all(k in ev.summary for ev in expected)]
+    assert len(lines) - 1 == len(keys)  # one row per summary figure, in order
+    for line, key in zip(lines[1:], keys, strict=True):
+        label, unit = SUMMARY_KEYS.get(key, (key, ""))
+        row_label, *cells = re.split(r"\s{2,}", line.strip())
+        assert row_label == label.strip()
         for cell, ev in zip(cells, expected, strict=True):
             value = ev.summary[key]
-            got = _table_number(cell)
-            if isinstance(value, bool) or (isinstance(value, float) and not math.isfinite(value)):
+            got = _table_number(cell, unit)
+            if value is None or (isinstance(value, float) and math.isnan(value)):
+                assert got != got, key  # shown as —
+            elif isinstance(value, bool) or (isinstance(value, float) and math.isinf(value)):
                 assert got == value, key
             else:
-                assert got == pytest.approx(value, rel=5e-4, abs=1e-12), key
-    assert {"lsb", "max_abs_inl_endpoint", "rout_max", "iref_max", "monotonic"} <= set(keys_seen)
+                assert got == pytest.approx(value, rel=5e-4, abs=1e-15), key
+    assert {"lsb", "max_abs_inl_endpoint", "rout_max", "iref_max", "monotonic"} <= set(keys)
 
 
 BAD = [
