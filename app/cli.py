@@ -13,9 +13,9 @@ from types import ModuleType
 
 from rungwise.core.errors import RungwiseError
 
-from . import cli_compute, cli_export, cli_new
+from . import cli_compute, cli_export, cli_new, cli_report
 
-COMMANDS: dict[str, ModuleType] = {m.NAME: m for m in (cli_compute, cli_new, cli_export)}
+COMMANDS: dict[str, ModuleType] = {m.NAME: m for m in (cli_compute, cli_new, cli_export, cli_report)}
 """Command name → module implementing it."""
 
 EXIT_OK, EXIT_INTERNAL, EXIT_BAD_INPUT = 0, 1, 2

@@ -1,0 +1,173 @@
+"""Judging candidates at review: which meet the targets, the recommendation, the cautions.
+
+Everything here is derived from computed figures: the recommendation names the candidate that meets
+every target with the fewest parts (ties broken by the smaller |INL|), or says plainly that none
+does and what each misses by.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field
+from typing import Any
+
+from .evaluate import Evaluation
+from .targets import Targets
+from .units import format_value
+
+SAFE_DC_VOLTS = 60.0
+"""Volts DC above which the review adds a shock-hazard caution (from memory: the usual ripple-free
+DC limit of safety extra-low voltage, IEC 61140 / IEC 60364-4-41)."""
+
+SMALL_PART_WATTS = 0.0625
+"""Watts: the rating of the smallest common chip resistors (0402, from memory); a part dissipating
+more gets a rating caution."""
+
+DEFER = ("Check every rating against the part's datasheet (with derating) and follow local codes "
+         "and licensed practice; these figures are design aids, not a safety assessment.")
+"""The sentence every caution ends with."""
+
+
+@dataclass(frozen=True)
+class Verdict:
+    """How one candidate fares against the targets.
+
+    Attributes
+    ----------
+    label : str
+    parts : int
+        Resistors + switches + amplifiers.
+    inl : float
+        Max |INL| on the target's line, LSB.
+    dnl : float
+        Max |DNL|, LSB.
+    monotonic : bool
+    yield_all : float or None
+        Monte Carlo yield of all targets together (fraction), when statistics were computed.
+    failures : list[str]
+        One phrase per missed target, with the figure and the limit; empty when it passes.
+    """
+
+    label: str
+    parts: int
+    inl: float
+    dnl: float
+    monotonic: bool
+    yield_all: float | None
+    failures: list[str] = field(default_factory=list)
+
+    @property
+    def passes(self) -> bool:
+        """True when every target is met."""
+        return not self.failures
+
+
+def part_count(summary: Mapping[str, Any]) -> int:
+    """Parts a candidate needs: resistors + switches + amplifiers (from the summary)."""
+    return int(sum(int(summary.get(k, 0)) for k in ("n_resistors", "n_switches", "n_amplifiers")))
+
+
+def judge(ev: Evaluation, targets: Targets, yield_all: float | None = None) -> Verdict:
+    """Compare one candidate's figures (and its yield, if computed) with ``targets``."""
+    s = ev.summary
+    inl = float(s[f"max_abs_inl_{targets.inl_line}"])
+    dnl = float(s["max_abs_dnl"])
+    mono = bool(s["monotonic"])
+    fails = []
+    line = "endpoint" if targets.inl_line == "endpoint" else "best-fit"
+    if not inl <= targets.max_inl_lsb:
+        fails.append(f"max |INL| ({line}) {inl:.3g} LSB > {targets.max_inl_lsb:g}")
+    if not dnl <= targets.max_dnl_lsb:
+        fails.append(f"max |DNL| {dnl:.3g} LSB > {targets.max_dnl_lsb:g}")
+    if targets.monotonic and not mono:
+        fails.append("not monotonic")
+    if yield_all is not None and not yield_all >= targets.min_yield:
+        fails.append(f"yield {yield_all * 100:.3g} % < {targets.min_yield * 100:g} %")
+    return Verdict(ev.design.label, part_count(s), inl, dnl, mono, yield_all, fails)
+
+
+def describe_targets(targets: Targets, with_yield: bool = False) -> str:
+    """The targets in words, e.g. ``max |INL| ≤ 0.5 LSB (endpoint), max |DNL| ≤ 0.5 LSB, monotonic``."""
+    line = "endpoint" if targets.inl_line == "endpoint" else "best fit"
+    words = [f"max |INL| ≤ {targets.max_inl_lsb:g} LSB ({line})",
+             f"max |DNL| ≤ {targets.max_dnl_lsb:g} LSB"]
+    if targets.monotonic:
+        words.append("monotonic")
+    if with_yield:
+        words.append(f"yield ≥ {targets.min_yield * 100:g} %")
+    return ", ".join(words)
+
+
+@dataclass(frozen=True)
+class Recommendation:
+    """The review's conclusion: ``chosen`` is an index into the candidates, or ``None``."""
+
+    chosen: int | None
+    text: str
+    verdicts: list[Verdict]
+
+
+def recommend(evs: Sequence[Evaluation], targets: Targets,
+              yields: Sequence[float | None] | None = None) -> Recommendation:
+    """The candidate that meets every target with the fewest parts, and a sentence saying why.
+
+    Parameters
+    ----------
+    evs : sequence of Evaluation
+        The candidates, in display order.
+    targets : Targets
+    yields : sequence of float or None, optional
+        Monte Carlo yield of all targets together per candidate (fraction), ``None`` where not run.
+    """
+    yields = list(yields) if yields is not None else [None] * len(evs)
+    verdicts = [judge(e, targets, y) for e, y in zip(evs, yields, strict=True)]
+    wanted = describe_targets(targets, with_yield=any(y is not None for y in yields))
+    passing = [i for i, v in enumerate(verdicts) if v.passes]
+    if not passing:
+        misses = "; ".join(f"{v.label}: {', '.join(v.failures)}" for v in verdicts)
+        return Recommendation(None, f"No candidate meets the targets ({wanted}). {misses}.", verdicts)
+    best = min(passing, key=lambda i: (verdicts[i].parts, verdicts[i].inl, i))
+    v = verdicts[best]
+    figures = f"max |INL| {v.inl:.3g} LSB, max |DNL| {v.dnl:.3g} LSB"
+    if v.yield_all is not None:
+        figures += f", yield {v.yield_all * 100:.3g} %"
+    others = len(passing) - 1
+    if others:
+        fewer = (f"the fewest parts ({v.parts}) of the {len(passing)} candidates that meet them"
+                 if all(verdicts[i].parts > v.parts for i in passing if i != best)
+                 else f"{v.parts} parts, as few as any other candidate that meets them, and the "
+                 "smallest |INL| among those")
+    else:
+        fewer = f"{v.parts} parts; it is the only candidate that meets them"
+    return Recommendation(best, f"Recommended: {v.label} — meets the targets ({wanted}) with "
+                          f"{figures}, using {fewer}.", verdicts)
+
+
+# --- cautions ------------------------------------------------------------------------------
+def worst_part(ev: Evaluation) -> dict[str, Any] | None:
+    """The resistor with the largest worst-case power (``power_max``, W, at ``power_code``)."""
+    rated = [p for p in ev.parts if math.isfinite(float(p.get("power_max", math.nan)))]
+    return max(rated, key=lambda p: float(p["power_max"])) if rated else None
+
+
+def cautions(evs: Sequence[Evaluation]) -> list[str]:
+    """Cautions for the review, each with its figure; always ends with the datasheet sentence."""
+    out = []
+    for ev in evs:
+        label = ev.design.label
+        volts = max(abs(ev.design.vref), float(abs(ev.vout).max()))
+        if volts > SAFE_DC_VOLTS:
+            out.append(f"{label}: voltages up to {format_value(volts, 'V')} exceed "
+                       f"{SAFE_DC_VOLTS:g} V DC, above the usual safety extra-low-voltage limit; "
+                       "the circuit needs insulation, spacing and protection by a qualified person.")
+        worst = worst_part(ev)
+        if worst is not None and worst["power_max"] > SMALL_PART_WATTS:
+            out.append(f"{label}: resistor {worst['id']} dissipates up to "
+                       f"{format_value(worst['power_max'], 'W')} (at code {worst['power_code']}), "
+                       f"more than the {SMALL_PART_WATTS:g} W rating of small chip resistors.")
+        iref = float(ev.summary.get("iref_max", math.nan))
+        if math.isfinite(iref) and abs(iref) > 0.1:
+            out.append(f"{label}: the reference must deliver up to {format_value(iref, 'A')}.")
+    out.append(DEFER)
+    return out

@@ -1,0 +1,88 @@
+"""The review's judgement: targets, the recommendation derived from the numbers, the cautions."""
+
+from __future__ import annotations
+
+import pytest
+
+from rungwise.core import evaluate
+from rungwise.core.demo import demo_candidates
+from rungwise.core.review import (
+    DEFER,
+    SAFE_DC_VOLTS,
+    SMALL_PART_WATTS,
+    cautions,
+    judge,
+    part_count,
+    recommend,
+)
+from rungwise.core.targets import Targets
+
+
+@pytest.fixture(scope="module")
+def evs():
+    return [evaluate(d) for d in demo_candidates()]
+
+
+def test_fewest_parts_among_passing_is_recommended(evs):
+    counts = [part_count(e.summary) for e in evs]
+    assert counts == [e.summary["n_resistors"] + e.summary["n_switches"] + e.summary["n_amplifiers"]
+                      for e in evs]
+    rec = recommend(evs, Targets())
+    assert all(v.passes for v in rec.verdicts)  # the demo meets ½ LSB both ways
+    best = min(range(len(evs)), key=lambda i: counts[i])
+    assert rec.chosen == best
+    v = rec.verdicts[best]
+    assert rec.text.startswith(f"Recommended: {evs[best].design.label}")
+    assert f"{v.inl:.3g} LSB" in rec.text
+    assert f"({counts[best]})" in rec.text
+
+
+def test_tighter_inl_target_changes_the_choice(evs):
+    inls = [e.summary["max_abs_inl_endpoint"] for e in evs]
+    limit = (min(inls) + max(inls)) / 2  # between the two candidates
+    rec = recommend(evs, Targets(max_inl_lsb=limit))
+    winner = inls.index(min(inls))
+    assert rec.chosen == winner
+    assert "only candidate" in rec.text
+    loser = rec.verdicts[1 - winner]
+    assert loser.failures == [f"max |INL| (endpoint) {max(inls):.3g} LSB > {limit:g}"]
+
+
+def test_none_meets_says_so_with_each_miss(evs):
+    rec = recommend(evs, Targets(max_inl_lsb=1e-6, max_dnl_lsb=1e-6))
+    assert rec.chosen is None
+    assert rec.text.startswith("No candidate meets the targets (max |INL| ≤ 1e-06 LSB")
+    for e in evs:
+        assert f"{e.design.label}: max |INL| (endpoint) {e.summary['max_abs_inl_endpoint']:.3g}" in rec.text
+        assert f"max |DNL| {e.summary['max_abs_dnl']:.3g} LSB" in rec.text
+
+
+def test_non_monotonic_candidate_fails_only_when_monotonic_required():
+    # a 6-bit ladder whose MSB leg is 20 % high steps backwards at mid-scale (common practice)
+    d = demo_candidates()[0].replace(bits=6)
+    ev = evaluate(d.replace(parts={"leg5": 24e3}))
+    assert not ev.summary["monotonic"]
+    loose = Targets(max_inl_lsb=100, max_dnl_lsb=100, monotonic=False)
+    assert judge(ev, loose).passes
+    assert judge(ev, Targets(max_inl_lsb=100, max_dnl_lsb=100)).failures == ["not monotonic"]
+
+
+def test_yield_below_target_fails(evs):
+    t = Targets(min_yield=0.9)
+    rec = recommend(evs, t, yields=[0.95, 0.5])
+    assert rec.chosen == 0
+    assert rec.verdicts[1].failures == ["yield 50 % < 90 %"]
+    assert "yield ≥ 90 %" in rec.text
+    assert "yield 95 %" in rec.text
+
+
+def test_cautions_for_high_voltage_and_power():
+    low = evaluate(demo_candidates()[0])
+    assert cautions([low]) == [DEFER]
+    hot = evaluate(demo_candidates()[0].replace(vref=120.0, unit_r=100.0))
+    notes = cautions([hot])
+    assert notes[-1] == DEFER
+    assert any("120 V" in n and f"{SAFE_DC_VOLTS:g} V DC" in n for n in notes)
+    worst = max(hot.parts, key=lambda p: p["power_max"])
+    assert worst["power_max"] > SMALL_PART_WATTS
+    assert any(f"resistor {worst['id']}" in n and f"code {worst['power_code']}" in n for n in notes)
