@@ -159,6 +159,18 @@ class _Sampler:
         return {k: np.concatenate([p[k] for p in pieces]) for k in pieces[0]}
 
 
+def sample_trials(design: Design, seed: int, start: int, count: int) -> dict[str, np.ndarray]:
+    """The part values a run seeded ``seed`` gives trials ``start … start + count − 1``.
+
+    Returns
+    -------
+    dict part id → ndarray, shape (count, 1), ohms
+        Exactly what ``monte_carlo(design, trials, seed)`` solved for those trials, so any board can
+        be rebuilt or re-solved elsewhere.
+    """
+    return _Sampler(design, build(design), seed).take(start, count)
+
+
 def _feedback_factor(net: Network, ohms: dict[str, np.ndarray]) -> np.ndarray | float:
     """Virtual-ground outputs scale with the feedback resistor: its sampled/nominal ratio."""
     if net.output.kind != "virtual-ground" or "feedback" not in ohms:
