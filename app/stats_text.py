@@ -1,0 +1,78 @@
+"""Monte Carlo results as text: the rows the command line prints (table and CSV). No Qt."""
+
+from __future__ import annotations
+
+from typing import Any
+
+from rungwise.core.stats_result import PERCENTILES, STAT_UNITS, YIELDS, MonteCarloResult
+from rungwise.core.units import format_value
+
+STAT_LABELS: dict[str, str] = {
+    "max_abs_inl_endpoint": "Max |INL|, endpoint",
+    "max_abs_inl_bestfit": "Max |INL|, best fit",
+    "max_abs_dnl": "Max |DNL|",
+    "offset": "Offset",
+    "gain_error": "Gain error",
+}
+"""Label of each per-trial figure."""
+
+SHOWN_PERCENTILES: dict[str, tuple[float, ...]] = {
+    "max_abs_inl_endpoint": (50.0, 99.0), "max_abs_inl_bestfit": (50.0, 99.0),
+    "max_abs_dnl": (50.0, 99.0), "offset": (1.0, 99.0), "gain_error": (1.0, 99.0),
+}
+"""Percentiles shown in the table per figure (all of ``PERCENTILES`` go to JSON and CSV)."""
+
+
+def _figure(key: str, value: float) -> str:
+    unit = STAT_UNITS[key]
+    if unit == "V":
+        return format_value(value, "V")
+    if unit == "fraction":
+        return f"{value * 100:.4g} %"
+    return f"{value:.4g} {unit}"
+
+
+def _ordinal(p: float) -> str:
+    n = int(p)
+    return f"{n}{'st' if n % 10 == 1 and n % 100 != 11 else 'th'}"
+
+
+def stat_rows(r: MonteCarloResult) -> list[tuple[str, str]]:
+    """(label, text) rows of one result, in display order."""
+    t = r.targets
+    rows = [("Seed", str(r.seed)), ("Trials", f"{r.done} of {r.trials}" if r.done < r.trials
+                                     else str(r.trials)),
+            ("Engine", r.engine), ("Mismatch", r.model.describe()),
+            ("Targets", f"|INL| ≤ {t.max_inl_lsb:g} LSB ({t.inl_line}), |DNL| ≤ {t.max_dnl_lsb:g} LSB"
+             + (", monotonic" if t.monotonic else ""))]
+    rows += [(f"Yield: {label}", getattr(r, key).text()) for key, label in YIELDS.items()]
+    pct = r.percentiles
+    for key, label in STAT_LABELS.items():
+        for p in SHOWN_PERCENTILES[key]:
+            rows.append((f"{label}, {_ordinal(p)} percentile", _figure(key, pct[key][p])))
+    return rows
+
+
+def render_stats_table(labels: list[str], results: list[MonteCarloResult]) -> str:
+    """Aligned text: one row per statistic, one column per candidate."""
+    per = [stat_rows(r) for r in results]
+    rows = [["Statistics", *labels]]
+    for i, (label, _) in enumerate(per[0]):
+        rows.append([label, *[p[i][1] for p in per]])
+    widths = [max(len(row[i]) for row in rows) for i in range(len(rows[0]))]
+    return "\n".join("  ".join(c.ljust(w) for c, w in zip(row, widths, strict=True)).rstrip()
+                     for row in rows)
+
+
+def stats_csv_rows(results: list[MonteCarloResult]) -> list[list[Any]]:
+    """CSV rows ``[metric, value per candidate]`` (metric names prefixed ``stat.``)."""
+    rows: list[list[Any]] = [["stat.seed", *[r.seed for r in results]],
+                             ["stat.trials", *[r.done for r in results]],
+                             ["stat.engine", *[r.engine for r in results]]]
+    for key in YIELDS:
+        rows.append([f"stat.{key}", *[getattr(r, key).value for r in results]])
+        rows.append([f"stat.{key}_stderr", *[getattr(r, key).stderr for r in results]])
+    for key in STAT_UNITS:
+        for p in PERCENTILES:
+            rows.append([f"stat.{key}.p{p:g}", *[r.percentiles[key][p] for r in results]])
+    return rows
