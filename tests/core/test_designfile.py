@@ -252,3 +252,22 @@ def test_unwritable_design_refused_before_touching_the_file(tmp_path: Path):
         dfile.save(path, dfile.DesignFile([]))
     assert path.read_text() == "previous"
     assert [p.name for p in tmp_path.iterdir()] == ["keep.toml"]
+
+
+def test_statistics_and_parts_keys_round_trip():
+    d = demo_candidates()[0].replace(
+        series="E96", load_c=22e-12, temperature_c=55.0, bandwidth=20e3,
+        mismatch={"distribution": "uniform", "tolerance": 0.001},
+        build={"two_r": "two-units"})
+    doc = dfile.DesignFile([d, demo_candidates()[1].replace(build={"binary": "unit-array"})])
+    text = dfile.dumps(doc)
+    assert "[candidate.mismatch]" in text
+    assert dfile.loads(text) == doc
+
+
+def test_bad_mismatch_value_is_named_by_its_path():
+    text = dfile.dumps(dfile.DesignFile([demo_candidates()[0].replace(
+        mismatch={"tolerance": 0.01})]))
+    with pytest.raises(DesignError) as info:
+        dfile.loads(text.replace("tolerance = 0.01", "tolerance = 7.0"))
+    assert info.value.field.startswith("candidate[0].mismatch")
