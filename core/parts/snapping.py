@@ -11,13 +11,9 @@ from __future__ import annotations
 
 import dataclasses
 
-from ..network import Network, Part
+from ..build_style import unit_ohms
+from ..network import Network
 from .eseries import snap
-
-
-def part_units(part: Part) -> tuple[int, str]:
-    """(number of equal units, how they are joined: single | series | parallel) of ``part``."""
-    return int(getattr(part, "units", 1)), str(getattr(part, "joined", "single"))
 
 
 def compose(unit_ohms: float, units: int, joined: str) -> float:
@@ -27,16 +23,6 @@ def compose(unit_ohms: float, units: int, joined: str) -> float:
     if joined == "parallel":
         return unit_ohms / units
     return unit_ohms
-
-
-def unit_value(part: Part) -> float:
-    """The nominal value of one unit of ``part``, ohms."""
-    units, joined = part_units(part)
-    if joined == "series":
-        return part.ohms / units
-    if joined == "parallel":
-        return part.ohms * units
-    return part.ohms
 
 
 def snapped_ids(design, net: Network) -> list[str]:
@@ -61,9 +47,8 @@ def snap_network(design, net: Network) -> Network:
     new: dict[str, float] = {}
     for part in net.parts:
         if part.part_id in targets:
-            units, joined = part_units(part)
-            unit = float(snap(unit_value(part), design.series, field=f"series ({part.part_id})"))
-            new[part.part_id] = compose(unit, units, joined)
+            unit = float(snap(unit_ohms(part), design.series, field=f"series ({part.part_id})"))
+            new[part.part_id] = compose(unit, part.units, part.joined)
     net.parts = [dataclasses.replace(p, ohms=new.get(p.part_id, p.ohms)) for p in net.parts]
     net.resistors = [dataclasses.replace(r, ohms=new.get(r.part_id, r.ohms)) for r in net.resistors]
     net.legs = [dataclasses.replace(g, ohms=new.get(g.part_id, g.ohms)) for g in net.legs]

@@ -23,9 +23,9 @@ BUILDERS: dict[str, ModuleType] = {
 
 
 def build(design: Design) -> Network:
-    """The neutral network of ``design``: derived values snapped to ``design.series``, parts made
-    up as its build style says."""
-    return apply_build(design, snap_network(design, BUILDERS[design.topology].build(design)))
+    """The neutral network of ``design``: parts made up as its build style says, then derived
+    values snapped to ``design.series`` (a part of several units snaps its unit)."""
+    return snap_network(design, apply_build(design, BUILDERS[design.topology].build(design)))
 
 
 def part_ids(topology: str, output: str, bits: int) -> list[str]:

@@ -123,3 +123,17 @@ def test_exact_series_changes_nothing():
     a = evaluate(Design(bits=6, unit_r=12.3e3))
     b = evaluate(Design(bits=6, unit_r=12.3e3, series="exact"))
     np.testing.assert_array_equal(a.vout, b.vout)
+
+
+def test_parts_of_several_units_snap_their_unit():
+    # 2R built as two units in series: 2 × snap(R) = 2 × 33 k, not snap(66 k) = 68 k — the ladder
+    # stays ratio-exact and monotonic with E12 parts
+    two = evaluate(Design(bits=8, unit_r=33e3, series="E12", build={"two_r": "two-units"}))
+    assert {p["ohms"] for p in two.parts} == {33e3, 66e3}
+    assert two.summary["max_abs_dnl"] < 1e-9
+    # binary weights from a unit array: bit k = 2^k units of snap(R·2^(N−1)) in parallel
+    arr = evaluate(Design(topology="binary-weighted", output="terminated-divider", bits=4,
+                          unit_r=10e3, series="E12", build={"binary": "unit-array"}))
+    got = {p["id"]: p["ohms"] for p in arr.parts}
+    assert got == {"bit0": 82e3, "bit1": 41e3, "bit2": 20.5e3, "bit3": 10.25e3, "term": 82e3}
+    assert arr.summary["max_abs_inl_endpoint"] < 1e-9
