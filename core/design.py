@@ -128,6 +128,9 @@ class Design:
     build : Mapping[str, str]
         Build styles (``build_style.py``): ``binary`` per-bit | unit-array, ``two_r`` single |
         two-units.
+    board : Mapping[str, float]
+        Ratings and limits of the real parts, drift range, amplifier flaws given explicitly
+        (``parts/board.py``); unset keys take their defaults there.
     name : str
         A label for the candidate; empty means "use the topology".
     """
@@ -150,6 +153,7 @@ class Design:
     bandwidth: float = 1e6
     mismatch: Mapping[str, Any] = field(default_factory=dict)
     build: Mapping[str, str] = field(default_factory=dict)
+    board: Mapping[str, float] = field(default_factory=dict)
     name: str = ""
 
     def __post_init__(self) -> None:
@@ -192,6 +196,9 @@ class Design:
 
         object.__setattr__(self, "build", MappingProxyType(check_build(self.build)))
         object.__setattr__(self, "mismatch", MappingProxyType(check_mismatch(self.mismatch, self)))
+        from .parts.board import check_board
+
+        object.__setattr__(self, "board", MappingProxyType(check_board(self.board)))
 
     # --- conversions -------------------------------------------------------------------------
     @classmethod
@@ -212,6 +219,7 @@ class Design:
         out["mismatch"] = {k: dict(v) if isinstance(v, Mapping) else v
                            for k, v in self.mismatch.items()}
         out["build"] = dict(self.build)
+        out["board"] = dict(self.board)
         return out
 
     def replace(self, **changes: Any) -> Design:
@@ -230,7 +238,8 @@ class Design:
         """Apply ``key=value`` strings typed by a person (``{"unit_r": "4k7"}``, ``parts.leg0``)."""
         changes: dict[str, Any] = {}
         parts = dict(self.parts)
-        tables = {"mismatch": self.to_dict()["mismatch"], "build": dict(self.build)}
+        tables = {"mismatch": self.to_dict()["mismatch"], "build": dict(self.build),
+                  "board": dict(self.board)}
         for key, text in settings.items():
             if key.startswith("parts."):
                 parts[key[len("parts."):]] = text
@@ -245,7 +254,7 @@ class Design:
                 changes[key] = text
             else:
                 known = ", ".join(["topology", "output", "name", "series", *FIELDS, "parts.<id>",
-                                   "mismatch.<key>", "build.<key>"])
+                                   "mismatch.<key>", "build.<key>", "board.<key>"])
                 raise DesignError(key, f"unknown setting; known settings: {known}")
         if parts != dict(self.parts):
             changes["parts"] = parts

@@ -7,10 +7,11 @@ from typing import Any
 
 import numpy as np
 
-from ..metrics import noise, settling
+from ..metrics import amplifier, noise, settling
 from ..metrics.power import ElementPower, worst_case
 from ..network import Network
 from ..solve import Solution
+from .board import board_value
 
 SUMMARY_KEYS: dict[str, tuple[str, str]] = {
     "power_total_max": ("Power in the network, max", "W"),
@@ -22,6 +23,10 @@ SUMMARY_KEYS: dict[str, tuple[str, str]] = {
     "noise_density": ("Thermal noise density, worst code", "V/√Hz"),
     "noise_rms": ("Thermal noise over the bandwidth", "V"),
     "noise_rms_lsb": ("  relative to the LSB", "LSB"),
+    "amp_offset_error": ("Amplifier: offset error", "V"),
+    "amp_gain_error": ("Amplifier: gain error", "fraction"),
+    "amp_inl_added": ("Amplifier: INL added", "LSB"),
+    "amp_codes_clipped": ("Amplifier: codes beyond the rails", ""),
 }
 """Summary keys added here → (label, unit), in display order."""
 
@@ -57,4 +62,17 @@ def part_figures(design: Any, net: Network, sol: Solution
         "noise_rms": noise_rms,
         "noise_rms_lsb": noise_rms / lsb if lsb else float("nan"),
     }
+    out.update(_amplifier_entries(design, net, sol))
     return out, elements
+
+
+def _amplifier_entries(design: Any, net: Network, sol: Solution) -> dict[str, Any]:
+    """Amplifier figures (NaN and 0 when the output has no amplifier)."""
+    if not amplifier.has_amplifier(net):
+        nan = float("nan")
+        return {"amp_offset_error": nan, "amp_gain_error": nan, "amp_inl_added": nan,
+                "amp_codes_clipped": 0}
+    eff = amplifier.apply(net, sol.vout, sol.rout, *(board_value(design, k) for k in (
+        "amp_offset", "amp_open_loop", "rail_low", "rail_high")))
+    return {"amp_offset_error": eff.offset_error, "amp_gain_error": eff.gain_error,
+            "amp_inl_added": eff.inl_added, "amp_codes_clipped": eff.codes_clipped}
