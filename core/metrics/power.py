@@ -4,8 +4,8 @@ From the solver's node voltages (``solve(net, keep_nodes=True)``), vectorised ov
 in chunks of codes so memory stays bounded at high resolution. Elements:
 
 - each part (``net.parts``: resistors, legs, the feedback resistor of a virtual-ground output);
-- each switch's on-resistance, as ``switch:<leg id>`` (the leg's current through ``ron_high`` or
-  ``ron_low``);
+- each switch, as ``switch:<leg id>`` (the leg's current through ``ron_high`` or ``ron_low``;
+  an ideal switch carries the current and dissipates nothing);
 - the reference's output resistance ``ref_r`` and a resistive ``load`` on an unbuffered output.
 
 Conservation (common practice): the reference delivers Vref·Iref, which equals the sum over every
@@ -87,8 +87,7 @@ def element_powers(net: Network, drive: np.ndarray, volts: dict[str, np.ndarray]
         i = np.where(d, i_hi, i_lo)
         ron = np.where(d, leg.ron_high, leg.ron_low if leg.low is not None else 0.0)
         out[leg.part_id] = ("part", i * i * leg.ohms, i)
-        if leg.ron_high > 0 or leg.ron_low > 0:
-            out[f"switch:{leg.part_id}"] = ("switch", i * i * ron, i)
+        out[f"switch:{leg.part_id}"] = ("switch", i * i * ron, i)
     o = net.output
     if o.kind == "virtual-ground" and o.feedback_ohms > 0:
         i = vout / o.feedback_ohms
