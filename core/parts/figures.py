@@ -33,7 +33,8 @@ SUMMARY_KEYS: dict[str, tuple[str, str]] = {
 
 def part_figures(design: Any, net: Network, sol: Solution
                  ) -> tuple[dict[str, Any], list[ElementPower]]:
-    """Summary entries (see :data:`SUMMARY_KEYS`) and every element's worst-case power.
+    """Summary entries (see :data:`SUMMARY_KEYS`; the ``amp_`` ones only where the output has an
+    amplifier) and every element's worst-case power.
 
     Parameters
     ----------
@@ -67,11 +68,9 @@ def part_figures(design: Any, net: Network, sol: Solution
 
 
 def _amplifier_entries(design: Any, net: Network, sol: Solution) -> dict[str, Any]:
-    """Amplifier figures (NaN and 0 when the output has no amplifier)."""
+    """Amplifier figures (none when the output has no amplifier)."""
     if not amplifier.has_amplifier(net):
-        nan = float("nan")
-        return {"amp_offset_error": nan, "amp_gain_error": nan, "amp_inl_added": nan,
-                "amp_codes_clipped": 0}
+        return {}
     eff = amplifier.apply(net, sol.vout, sol.rout, *(board_value(design, k) for k in (
         "amp_offset", "amp_open_loop", "rail_low", "rail_high")))
     return {"amp_offset_error": eff.offset_error, "amp_gain_error": eff.gain_error,
