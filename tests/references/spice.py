@@ -252,10 +252,11 @@ def sweep_netlist(net: Network, codes: np.ndarray, ohms: Mapping[str, float] | N
                   ) -> tuple[str, tuple[str, str, str], str]:
     """A ``.dc`` sweep netlist over ``codes`` (consecutive, step 1).
 
-    Each leg is its resistor to an internal node, then one behavioural current source per switch
-    position: ``I = (V(mid) − V(rail)) / ron × state``, state 1 or 0 decoded from the code voltage
-    with ``floor``. A switch with ``ron = 0`` is a 1 µΩ resistor in the sweep (its relative effect is
-    below 1e-9 for legs of a kilohm and more).
+    Each leg is one behavioural current source per switch position,
+    ``I = (V(node) − V(rail)) / (R_leg + ron) × state``, with state 1 or 0 decoded from the code
+    voltage with ``floor`` (so the sweep, unlike the copies, adds leg and switch resistance itself).
+    The netlist tightens ngspice's tolerances: with the default ``reltol`` of 1e-3 the Newton loop
+    accepts a point before the switches follow a code step smaller than 0.1 % of the output.
 
     Returns
     -------
@@ -270,6 +271,7 @@ def sweep_netlist(net: Network, codes: np.ndarray, ohms: Mapping[str, float] | N
     bits = _bit_of_leg(net)
     vals = _values(net, ohms)
     lines = ["* rungwise reference: code swept by a voltage source, switches decoded from it",
+             ".options reltol=1e-12 vntol=1e-15 abstol=1e-18",
              "vcode code 0 DC 0"]
     all_on = np.ones(len(net.legs), dtype=bool)
     # operating and probe copies share the switched elements' shape; legs are rewritten below
@@ -283,17 +285,15 @@ def sweep_netlist(net: Network, codes: np.ndarray, ohms: Mapping[str, float] | N
             f"r{prefix}s{j}" for j in range(len(net.legs))}
         lines.extend(x for x in body if x.split()[0] not in leg_lines)
         for j, (leg, ohms_leg) in enumerate(zip(net.legs, vals.legs, strict=True)):
-            mid = f"{prefix}m{j}"
-            lines.append(f"r{prefix}l{j} {c.node(leg.node)} {mid} {_num(ohms_leg)}")
             bit = (f"(floor((v(code)+0.5)/{2 ** bits[j]})"
                    f"-2*floor((v(code)+0.5)/{2 ** (bits[j] + 1)}))")
             for pos, rail, ron, state in (("h", leg.high, leg.ron_high, bit),
                                           ("l", leg.low, leg.ron_low, f"(1-{bit})")):
                 if rail is None:
                     continue
-                g = 1.0 / (ron if ron > 0 else 1e-6)
-                lines.append(f"b{prefix}{pos}{j} {mid} {c.node(rail)} "
-                             f"I=(v({mid})-v({c.node(rail)}))*{_num(g)}*{state}")
+                a, b = c.node(leg.node), c.node(rail)
+                lines.append(f"b{prefix}{pos}{j} {a} {b} "
+                             f"I=(v({a})-v({b}))*{_num(1.0 / (ohms_leg + ron))}*{state}")
     first, last = (int(codes[0]), int(codes[-1])) if codes.size else (0, 0)
     return "\n".join(lines), (vout, isrc, rout), f"dc vcode {first} {last} 1"
 

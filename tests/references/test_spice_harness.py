@@ -103,3 +103,16 @@ def test_helper_skips_or_fails_without_ngspice(monkeypatch):
     monkeypatch.setenv("CI", "")
     with pytest.raises(pytest.skip.Exception):
         spice.require_ngspice()
+
+
+def test_sweep_sees_every_code_step_at_twelve_bits():
+    # one LSB of a 12-bit output is below ngspice's default relative tolerance (1e-3): the sweep
+    # must still move to the new switch states at every point (tight tolerances in the netlist)
+    design = Design(topology="binary-weighted", output="divider", bits=12, vref=2.5, unit_r=10e3,
+                    ron_high=40.0, ron_low=25.0, ref_r=2.0, load_r=100e3)
+    net = evaluate(design).network
+    codes = np.arange(2000, 2100)  # across the carry into the MSB at 2048
+    copies = spice.simulate(net, codes=codes)
+    sweep = spice.simulate(net, codes=codes, method="sweep")
+    for name in ("vout", "iref", "rout"):
+        spice.assert_agree(getattr(sweep, name), getattr(copies, name), rtol=1e-9, what=name)
