@@ -1,0 +1,97 @@
+"""Crash copies: the open comparison written to a private folder while it has unsaved edits, and
+offered back when the program starts after a crash (no Qt).
+
+Each running program writes ``autosave-<pid>.toml`` (a normal design file; the file it was opened
+from is kept in ``[settings] autosave_of``). A clean exit removes it. At start, copies whose process
+is no longer running are *orphans*: the comparison of a program that stopped without closing.
+"""
+
+from __future__ import annotations
+
+import os
+import re
+from dataclasses import dataclass
+from pathlib import Path
+
+from rungwise.core import designfile
+from rungwise.core.designfile import DesignFile
+from rungwise.core.errors import RungwiseError
+
+SOURCE_KEY = "autosave_of"
+"""``[settings]`` key holding the path of the file the comparison came from."""
+
+_NAME = re.compile(r"^autosave-(\d+)\.toml$")
+
+
+def _running(pid: int) -> bool:
+    """Whether a process with this id exists (POSIX: signal 0 probes without disturbing it)."""
+    if pid == os.getpid():
+        return True
+    if os.name != "posix":
+        return False  # no cheap probe here: every copy left behind counts as an orphan
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except PermissionError:
+        return True
+    except OSError:
+        return False
+    return True
+
+
+@dataclass
+class Recovered:
+    """An orphan copy read back: the comparison, where it came from, and the copy's path."""
+
+    doc: DesignFile
+    source: Path | None
+    copy: Path
+
+
+class Autosave:
+    """This program's crash copy in ``folder``."""
+
+    def __init__(self, folder: Path, pid: int | None = None) -> None:
+        self.folder = Path(folder)
+        self.path = self.folder / f"autosave-{os.getpid() if pid is None else pid}.toml"
+
+    def write(self, doc: DesignFile, source: Path | None) -> None:
+        """Write the crash copy atomically (errors are swallowed: a copy must never stop work)."""
+        settings = dict(doc.settings)
+        if source is not None:
+            settings[SOURCE_KEY] = str(source)
+        copy = DesignFile(doc.candidates, settings, doc.analysis, doc.targets)
+        try:
+            self.folder.mkdir(parents=True, exist_ok=True)
+            designfile.save(self.path, copy)
+        except (OSError, RungwiseError):
+            pass
+
+    def discard(self) -> None:
+        """Remove the crash copy (after a save or a clean exit)."""
+        self.path.unlink(missing_ok=True)
+
+    def orphans(self) -> list[Recovered]:
+        """Readable copies left by programs that are no longer running, newest first.
+
+        Unreadable copies are removed: nothing can be restored from them.
+        """
+        found = []
+        if not self.folder.is_dir():
+            return found
+        for p in self.folder.iterdir():
+            m = _NAME.match(p.name)
+            if not m or p == self.path or _running(int(m[1])):
+                continue
+            try:
+                doc = designfile.load(p)
+            except RungwiseError:
+                p.unlink(missing_ok=True)
+                continue
+            settings = dict(doc.settings)
+            source = settings.pop(SOURCE_KEY, None)
+            doc.settings = settings
+            found.append(Recovered(doc, Path(source) if isinstance(source, str) else None, p))
+        found.sort(key=lambda r: r.copy.stat().st_mtime, reverse=True)
+        return found
