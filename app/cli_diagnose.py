@@ -1,0 +1,159 @@
+"""``rungwise diagnose``: analyse a measured transfer curve against a design; export a correction."""
+
+from __future__ import annotations
+
+import argparse
+import json
+import math
+import sys
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from rungwise.core.diagnose import Diagnosis, diagnose, read_measurement, to_c_header, to_csv
+from rungwise.core.errors import RungwiseError
+from rungwise.core.units import format_value
+
+from .candidates import apply_choices, load_candidates, parse_settings
+
+NAME = "diagnose"
+HELP = ("Analyse a measured curve of a built converter: INL/DNL, bit weights, the part that is "
+        "off, a firmware correction table.")
+
+
+def add_arguments(p: argparse.ArgumentParser) -> None:
+    """Options of ``diagnose``."""
+    p.add_argument("measured", help="measurement file: lines 'code, output' (CSV or spaces; "
+                   "codes decimal, 0x hex, 0b binary; outputs in V, mV or µV)")
+    p.add_argument("--design", help="design file; its first candidate is the design that was "
+                   "built (default: the built-in demo's first candidate)")
+    p.add_argument("--set", dest="settings", action="append", metavar="KEY=VALUE",
+                   help="change a design value, e.g. bits=10 or unit_r=4k7 (repeatable)")
+    p.add_argument("--topology", metavar="TOPOLOGY[:OUTPUT]",
+                   help="the topology that was built, with the first candidate's values")
+    p.add_argument("--format", choices=("json", "table"), default="table")
+    p.add_argument("--absolute", action="store_true", help="trust the measured offset and gain "
+                   "(calibrated meter and reference) when blaming parts")
+    p.add_argument("--levels", type=int, metavar="N", help="wanted levels in the correction table "
+                   "(default: one per code between the lowest and highest measured code)")
+    p.add_argument("--correction-csv", metavar="FILE", help="write the correction table as CSV")
+    p.add_argument("--correction-header", metavar="FILE.h",
+                   help="write the correction table as a C array in a header file")
+    p.add_argument("--save-as-built", metavar="FILE.toml", help="write a design file with the "
+                   "design and its as-built version (the best suspect at its fitted value)")
+
+
+def _design(args: argparse.Namespace):
+    base = load_candidates(args.design)
+    chosen = apply_choices(base[:1], parse_settings(args.settings),
+                           [args.topology] if args.topology else None)
+    return chosen[0]
+
+
+def _write(path: str, text: str) -> None:
+    try:
+        Path(path).write_text(text, encoding="utf-8")
+    except OSError as exc:
+        raise RungwiseError(f"cannot write {path}: {exc.strerror}") from None
+
+
+def render_table(d: Diagnosis) -> str:
+    """Aligned text: findings, bit weights and the ranked suspects."""
+    out = d.to_dict()
+    s = out["summary"]
+    meas = out["measurement"]
+
+    def lsb(x: Any) -> str:
+        return "—" if x is None else f"{x:.3f} LSB"
+
+    lines = [
+        f"Measurement  {meas['source']}: {meas['n_readings']} readings of "
+        f"{meas['n_codes_measured']} codes ({meas['n_codes_missing']} missing, "
+        f"{meas['n_codes_repeated']} repeated)",
+        f"Design       {out['design']['name']}, {out['design']['bits']} bits",
+        "",
+        f"Endpoint LSB                {format_value(s['lsb'], 'V')}",
+        f"Offset error                {format_value(s['offset_error'], 'V')}",
+        f"Gain error                  {s['gain_error'] * 100:.4g} % ({s['gain_error_lsb']:.3g} LSB"
+        " at full scale)",
+        f"Max |INL|, endpoint         {lsb(s['max_abs_inl_endpoint'])}   (design predicts "
+        f"{lsb(s['predicted_max_abs_inl_endpoint'])})",
+        f"Max |INL|, best fit         {lsb(s['max_abs_inl_bestfit'])}",
+        f"Max |DNL|                   {lsb(s['max_abs_dnl'])}",
+        f"Monotonic                   {'yes' if out['monotonic'] else 'NO'}",
+        f"Meter noise (repeats)       {lsb(s['noise_rms_lsb'])} rms",
+        f"Not linear in the bits      {lsb(out['superposition_residual_rms_lsb'])} rms "
+        f"(design alone {lsb(out['design_superposition_residual_rms_lsb'])})",
+        "",
+        "Bit weights (error against the fitted gain, LSB; bit 0 = LSB)",
+    ]
+    for i, (w, e, ed) in enumerate(zip(out["bit_weights"], out["bit_weight_error_lsb"],
+                                       out["bit_weight_error_vs_design_lsb"], strict=True)):
+        if w is None:
+            lines.append(f"  bit{i:<3} not identifiable from the measured codes")
+        else:
+            lines.append(f"  bit{i:<3} {format_value(w, 'V'):>12}  error {e:+.3f}  "
+                         f"vs design {ed:+.3f}")
+    lines += ["", "Suspects (each part alone fitted to the curve; best first)",
+              f"  {'part':<10}{'deviation':>12}{'±':>10}{'left, rms':>14}{'explained':>11}"]
+    for row in out["suspects"][:8]:
+        if not row["identifiable"]:
+            lines.append(f"  {row['id']:<10}  only changes the gain: cannot be told from a "
+                         "reference error")
+            continue
+        lines.append(f"  {row['id']:<10}{row['deviation'] * 100:>+11.3f}%"
+                     f"{(row['deviation_stderr'] or 0) * 100:>9.3f}%"
+                     f"{row['residual_rms_lsb']:>10.4f} LSB{row['explained'] * 100:>10.1f}%")
+    corr = out["correction"]
+    if out["equivalent_suspects"]:
+        lines.append(f"  the curve cannot tell {out['suspects'][0]['id']} from "
+                     + ", ".join(out["equivalent_suspects"]) + " (they fit equally well)")
+    lines += [
+        f"  (with no part changed: {lsb(out['nominal_residual_rms_lsb'])} rms; noise floor "
+        f"{lsb(s['noise_floor_rms_lsb'])} rms)",
+        "",
+        f"Correction   {corr['n_levels']} levels; max |INL| {corr['max_abs_inl_before']:.3f} LSB "
+        f"as built, {corr['max_abs_inl_after']:.3f} LSB after correction (bound "
+        f"{corr['bound_lsb']:.3f} LSB); {len(corr['skip_codes'])} measured codes never used; "
+        f"{corr['n_estimated_used']} entries use an estimated unmeasured code",
+    ]
+    return "\n".join(lines)
+
+
+def _finite(obj: Any) -> Any:
+    if isinstance(obj, float) and not math.isfinite(obj):
+        return None
+    if isinstance(obj, dict):
+        return {k: _finite(v) for k, v in obj.items()}
+    if isinstance(obj, list):
+        return [_finite(v) for v in obj]
+    if isinstance(obj, np.generic):
+        return _finite(obj.item())
+    return obj
+
+
+def run(args: argparse.Namespace) -> int:
+    """Diagnose and print; returns the exit code."""
+    design = _design(args)
+    result = diagnose(read_measurement(args.measured), design, absolute=args.absolute,
+                      correction_levels=args.levels)
+    if args.correction_csv:
+        _write(args.correction_csv, to_csv(result.correction))
+    if args.correction_header:
+        stem = Path(args.correction_header).stem
+        _write(args.correction_header, to_c_header(result.correction, stem,
+                                                   note=f"measured: {result.measurement.source}"))
+    if args.save_as_built:
+        if result.as_built is None:
+            raise RungwiseError("no part explains the curve, so there is no as-built design")
+        from rungwise.core import designfile
+
+        designfile.save(Path(args.save_as_built),
+                        designfile.DesignFile(candidates=[design, result.as_built]))
+    if args.format == "json":
+        text = json.dumps(_finite(result.to_dict()), indent=1, allow_nan=False)
+    else:
+        text = render_table(result)
+    sys.stdout.write(text.rstrip("\n") + "\n")
+    return 0

@@ -1,0 +1,250 @@
+"""Which part's deviation best explains a measured curve, and by how much.
+
+The engine itself gives the sensitivities: one batched :func:`~rungwise.core.solve.solve` with
+per-part ohms arrays of shape (n_trials, 1) — trial t changes one part and keeps the others — gives
+every part's effect on the output at every measured code at once. For each part alone the model
+
+    V_meas(c) ≈ a + s · V_net(c; R_p = R_p0 · (1 + d))
+
+is fitted by least squares in (a, s, d): a and s take out an unknown offset and gain (reference
+voltage, meter calibration, buffer gain) so that only the *shape* of the curve blames a part; d is
+found by a few Gauss–Newton steps on the exact network (each step is one batched solve). With
+``absolute=True`` a = 0 and s = 1: the measured volts are trusted as they are.
+
+Parts are ranked by the residual left after their fit; the best one's residual is what a single
+part of the network cannot explain (several parts off, switch or load effects, noise). A part whose
+only effect is a gain (a divider's terminator, an amplifier's feedback resistor) cannot be told
+apart from a reference error with a free gain: it is listed last with no deviation.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..design import Design
+from ..network import Network
+from ..solve import solve
+from ..topologies import build
+from .reading import MeasurementError
+
+STEP = 1e-4
+"""Relative change of a part used for finite-difference sensitivities (fraction)."""
+
+ITERATIONS = 5
+"""Gauss–Newton steps per part."""
+
+TIE_MARGIN = 0.05
+"""Relative margin on the residual RMS within which another part ties with the best one."""
+
+DEVIATION_LIMITS = (-0.9, 9.0)
+"""Deviations a fit may reach (fraction); a part needing more does not explain the curve."""
+
+
+@dataclass(frozen=True)
+class Suspect:
+    """One part's fit.
+
+    Attributes
+    ----------
+    id, role : str — part id and role
+    nominal_ohms, fitted_ohms : float — ohms (``fitted_ohms`` NaN when not identifiable)
+    deviation, deviation_stderr : float — fitted_ohms / nominal_ohms − 1 and its standard error
+    residual_rms_lsb : float — what this part's fit leaves unexplained, RMS in LSB
+    explained : float — 1 − residual² / (residual² with no part changed), fraction
+    identifiable : bool — False when the part's effect is only a gain or offset (or nothing)
+    """
+
+    id: str
+    role: str
+    nominal_ohms: float
+    fitted_ohms: float
+    deviation: float
+    deviation_stderr: float
+    residual_rms_lsb: float
+    explained: float
+    identifiable: bool
+
+
+@dataclass(frozen=True, eq=False)
+class SuspectFit:
+    """Ranked suspects and the reference fit with every part nominal.
+
+    Attributes
+    ----------
+    suspects : list[Suspect] — best explanation first
+    equivalent : list[str] — other parts that explain the curve as well as the first (residual
+        within :data:`TIE_MARGIN`): the curve cannot tell them apart (in an R-2R ladder, the MSB
+        leg and the last series resistor both only change the MSB's weight against the rest)
+    nominal_residual_rms_lsb : float — RMS residual with every part nominal, LSB
+    offset, gain : float — the best suspect's fitted offset (volts) and gain (a fraction, s − 1)
+    best_curve : ndarray, shape (n,), volts — the network with the best suspect's value, at the
+        measured codes, before offset and gain
+    """
+
+    suspects: list[Suspect]
+    nominal_residual_rms_lsb: float
+    equivalent: list[str]
+    offset: float
+    gain: float
+    best_curve: np.ndarray
+
+
+def _element_ids(net: Network) -> set[str]:
+    return {r.part_id for r in net.resistors} | {leg.part_id for leg in net.legs}
+
+
+def trial_curves(design: Design, part_ids: list[str], factors: np.ndarray, codes: np.ndarray
+                 ) -> np.ndarray:
+    """Output at ``codes`` with, in trial t, part ``part_ids[t]`` multiplied by ``factors[t]``.
+
+    Parameters
+    ----------
+    design : Design — values of every other part (its ``parts`` overrides included)
+    part_ids : list[str], length n_trials
+    factors : ndarray, shape (n_trials,)
+    codes : ndarray of int, shape (n_codes,)
+
+    Returns
+    -------
+    ndarray, shape (n_trials, n_codes), volts
+        One batched solve. An amplifier's feedback resistor only scales a virtual-ground output
+        (V = −R_f · I_sum, and I_sum does not depend on R_f), so it is applied as that factor.
+    """
+    net = build(design)
+    nominal = {p.part_id: p.ohms for p in net.parts}
+    elements = _element_ids(net)
+    factors = np.asarray(factors, dtype=float)
+    n_trials = len(part_ids)
+    ohms: dict[str, np.ndarray] = {}
+    scale = np.ones((n_trials, 1))
+    for t, (pid, f) in enumerate(zip(part_ids, factors, strict=True)):
+        if pid in elements:
+            arr = ohms.setdefault(pid, np.full((n_trials, 1), nominal[pid]))
+            arr[t, 0] = nominal[pid] * f
+        elif pid == "feedback" and net.output.kind == "virtual-ground":
+            scale[t, 0] = f
+        else:
+            raise MeasurementError(f"part {pid!r} is not in the {design.topology} network")
+    if not ohms:  # a solve without per-trial arrays returns one row; broadcast it
+        v = solve(net, codes=codes).vout[None, :] * np.ones((n_trials, 1))
+    else:
+        v = solve(net, ohms=ohms, codes=codes).vout
+        v = np.broadcast_to(v, (n_trials, len(codes)))
+    return v * scale
+
+
+def _project_fit(y: np.ndarray, base: np.ndarray, sens: np.ndarray | None, absolute: bool):
+    """Least squares of y on [1, base] (+ sens): (coefficients, residual, ‖sens ⟂ nuisance‖)."""
+    if absolute:
+        if sens is None:
+            return np.zeros(0), y - base, 0.0
+        t = float(sens @ (y - base) / (sens @ sens)) if sens @ sens > 0 else 0.0
+        return np.array([t]), y - base - t * sens, float(np.sqrt(sens @ sens))
+    nuis = np.column_stack([np.ones_like(base), base])
+    q, _ = np.linalg.qr(nuis)
+    if sens is None:
+        coef, *_ = np.linalg.lstsq(nuis, y, rcond=None)
+        return coef, y - nuis @ coef, 0.0
+    perp = sens - q @ (q.T @ sens)
+    norm = float(np.sqrt(perp @ perp))
+    x = np.column_stack([nuis, sens])
+    coef, *_ = np.linalg.lstsq(x, y, rcond=None)
+    return coef, y - x @ coef, norm
+
+
+def fit_suspects(design: Design, codes: np.ndarray, volts: np.ndarray, lsb: float,
+                 absolute: bool = False) -> SuspectFit:
+    """Fit each part's deviation alone to the measured curve and rank the parts.
+
+    Parameters
+    ----------
+    design : Design — the network as designed (values in ``design.parts`` count as nominal)
+    codes : ndarray of int, shape (n,) — measured codes
+    volts : ndarray, shape (n,), volts — measured outputs (means of repeats)
+    lsb : float — volts per LSB used to express residuals
+    absolute : bool — trust offset and gain of the measurement (see the module docstring)
+
+    Returns
+    -------
+    SuspectFit
+    """
+    net = build(design)
+    parts = list(net.parts)
+    ids = [p.part_id for p in parts]
+    y = np.asarray(volts, dtype=float)
+    n = y.size
+    n_par = 1 if absolute else 3
+    scale = abs(lsb)
+    nominal_curve = trial_curves(design, ids[:1], np.ones(1), codes)[0]
+    _, r0, _ = _project_fit(y, nominal_curve, None, absolute)
+    ssr0 = float(r0 @ r0)
+    d = np.zeros(len(ids))
+    norms = np.zeros(len(ids))
+    active = np.ones(len(ids), dtype=bool)
+    for _ in range(ITERATIONS):
+        f = 1.0 + d
+        both = trial_curves(design, ids + ids, np.concatenate([f, f * (1.0 + STEP)]), codes)
+        base, pert = both[: len(ids)], both[len(ids):]
+        sens = (pert - base) / (f * STEP)[:, None]
+        largest = 0.0
+        for j in np.flatnonzero(active):
+            coef, _, norm = _project_fit(y, base[j], sens[j], absolute)
+            norms[j] = norm
+            if norm <= 1e-9 * max(float(np.sqrt(sens[j] @ sens[j])), 1e-300) or norm == 0.0:
+                active[j] = False
+                continue
+            step = coef[-1] / (1.0 if absolute else coef[1])
+            new = float(np.clip(d[j] + step, *DEVIATION_LIMITS))
+            largest = max(largest, abs(new - d[j]))
+            d[j] = new
+        if largest < 1e-10:
+            break
+    final = trial_curves(design, ids, 1.0 + d, codes)
+    rows: list[tuple[float, Suspect, np.ndarray]] = []
+    for j, p in enumerate(parts):
+        if not active[j]:
+            rows.append((np.inf, Suspect(p.part_id, p.role, p.ohms, float("nan"), float("nan"),
+                                         float("nan"), float(np.sqrt(ssr0 / n) / scale), 0.0,
+                                         False), np.zeros(0)))
+            continue
+        coef, r, _ = _project_fit(y, final[j], None, absolute)
+        ssr = float(r @ r)
+        dof = max(n - n_par, 1)
+        gain = 1.0 if absolute else abs(float(coef[1])) or 1.0
+        stderr = float(np.sqrt(ssr / dof) / (norms[j] * gain)) if n > n_par else float("nan")
+        explained = 1.0 - ssr / ssr0 if ssr0 > 0 else 0.0
+        rows.append((ssr, Suspect(p.part_id, p.role, p.ohms, p.ohms * (1.0 + d[j]), float(d[j]),
+                                  stderr, float(np.sqrt(ssr / n) / scale), explained, True),
+                     coef))
+    order = sorted(range(len(rows)), key=lambda i: rows[i][0])
+    best = order[0]
+    coef = rows[best][2]
+    offset = float(coef[0]) if not absolute and coef.size else 0.0
+    gain = float(coef[1]) - 1.0 if not absolute and coef.size else 0.0
+    ranked = [rows[i][1] for i in order]
+    first = ranked[0]
+    ties = [s.id for s in ranked[1:] if s.identifiable and first.identifiable
+            and s.residual_rms_lsb <= first.residual_rms_lsb * (1.0 + TIE_MARGIN) + 1e-12]
+    return SuspectFit(
+        suspects=ranked, equivalent=ties,
+        nominal_residual_rms_lsb=float(np.sqrt(ssr0 / n) / scale),
+        offset=offset, gain=gain,
+        best_curve=final[best] if rows[best][1].identifiable else nominal_curve,
+    )
+
+
+def as_built(design: Design, suspect: Suspect) -> Design:
+    """``design`` with the suspect part at its fitted value (an as-built candidate).
+
+    Raises
+    ------
+    MeasurementError
+        The suspect has no fitted value (its effect is only a gain).
+    """
+    if not suspect.identifiable or not np.isfinite(suspect.fitted_ohms):
+        raise MeasurementError(f"part {suspect.id} has no fitted value (its effect is only a gain)")
+    parts = {**design.parts, suspect.id: suspect.fitted_ohms}
+    name = f"{design.label}, as built ({suspect.id} {suspect.deviation * 100:+.2f} %)"
+    return design.replace(parts=parts, name=name)

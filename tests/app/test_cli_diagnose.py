@@ -1,0 +1,83 @@
+"""``rungwise diagnose``: exit codes, the promised JSON keys and the exported files."""
+
+from __future__ import annotations
+
+import json
+import re
+from pathlib import Path
+
+import pytest
+
+from rungwise.app.cli import run_cli
+from rungwise.core import designfile
+from rungwise.core.diagnose.synthetic import sensor_bias_example
+
+PROMISED = ("inl_endpoint", "inl_bestfit", "dnl", "monotonic", "bit_weight_error_lsb", "suspects")
+
+
+@pytest.fixture
+def example(tmp_path) -> Path:
+    path = tmp_path / "board.csv"
+    path.write_text(sensor_bias_example(), encoding="utf-8")
+    return path
+
+
+def test_json_holds_the_promised_keys(example, capsys):
+    assert run_cli(["diagnose", str(example), "--format", "json"]) == 0
+    out = json.loads(capsys.readouterr().out)
+    for key in PROMISED:
+        assert key in out
+    n = out["measurement"]["n_codes_measured"]
+    assert len(out["codes"]) == len(out["inl_endpoint"]) == len(out["inl_bestfit"]) == n
+    assert len(out["dnl"]) == n
+    assert out["dnl"][-1] is None
+    assert len(out["bit_weight_error_lsb"]) == 8
+    assert out["monotonic"] is True
+    top = out["suspects"][0]
+    assert top["id"] == "leg5"
+    assert 0.0165 < top["deviation"] < 0.0195
+    assert all({"id", "deviation"} <= set(s) for s in out["suspects"])
+    assert out["measurement"]["missing_codes"] == [17, 18, 200]
+
+
+def test_table_and_exports(example, tmp_path, capsys):
+    csv_path, header, built = tmp_path / "c.csv", tmp_path / "ladder_fix.h", tmp_path / "b.toml"
+    rc = run_cli(["diagnose", str(example), "--levels", "128", "--correction-csv", str(csv_path),
+                  "--correction-header", str(header), "--save-as-built", str(built)])
+    assert rc == 0
+    text = capsys.readouterr().out
+    assert "leg5" in text
+    assert "Monotonic" in text
+    assert len(csv_path.read_text().splitlines()) == 129
+    assert re.search(r"static const uint8_t ladder_fix\[LADDER_FIX_LEN\]", header.read_text())
+    doc = designfile.load(built)
+    assert len(doc.candidates) == 2
+    assert "leg5" in doc.candidates[1].parts
+
+
+def test_topology_and_settings_choose_the_design(example, capsys):
+    rc = run_cli(["diagnose", str(example), "--topology", "r2r-voltage:buffer", "--set",
+                  "unit_r=4k7", "--format", "json"])
+    assert rc == 0
+    out = json.loads(capsys.readouterr().out)
+    assert out["design"]["output"] == "buffer"
+
+
+@pytest.mark.parametrize(("args", "message"), [
+    (["--set", "bits=4"], "beyond the 4-bit design"),
+    (["--topology", "nonsense"], "unknown topology"),
+    (["--levels", "1"], "levels"),
+])
+def test_bad_input_exits_2(example, capsys, args, message):
+    assert run_cli(["diagnose", str(example), *args]) == 2
+    assert message in capsys.readouterr().err
+
+
+def test_unreadable_file_exits_2_naming_the_line(tmp_path, capsys):
+    bad = tmp_path / "bad.csv"
+    bad.write_text("0,0.0\n1,0.01\n2,zero\n")
+    assert run_cli(["diagnose", str(bad)]) == 2
+    err = capsys.readouterr().err
+    assert "bad.csv, line 3" in err
+    assert "Traceback" not in err
+    assert run_cli(["diagnose", str(tmp_path / "missing.csv")]) == 2
