@@ -27,5 +27,7 @@ class ViewEntry:
     cls: str
 
 
-VIEWS: list[ViewEntry] = []
+VIEWS: list[ViewEntry] = [
+    ViewEntry("stats_pane", "Statistics", "rungwise.app.stats_view", "StatisticsPane"),
+]
 """Registered views, in tab order."""

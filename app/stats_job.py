@@ -1,0 +1,86 @@
+"""The statistics view's background job, without Qt: each candidate's Monte Carlo run at the chosen
+grade, then its yield-against-grade curve, reported chunk by chunk as ``workers.Progress``.
+"""
+
+from __future__ import annotations
+
+import threading
+from collections.abc import Iterator
+from dataclasses import dataclass, field
+from typing import Any
+
+from rungwise.core import Design, iter_monte_carlo
+from rungwise.core.errors import DesignError
+from rungwise.core.grades import STANDARD_GRADES, YieldCurve, iter_yield_vs_tolerance, with_tolerance
+from rungwise.core.mismatch import MismatchModel
+from rungwise.core.stats_result import MonteCarloResult
+from rungwise.core.targets import Targets
+
+
+@dataclass(frozen=True)
+class StatsRequest:
+    """What to run: candidates, trials, seed, an optional grade for every part, the decision rule."""
+
+    designs: tuple[Design, ...]
+    trials: int = 2000
+    seed: int = 1
+    grade: float | None = None
+    criterion: str = "monotonic"
+    target_yield: float = 0.99
+    targets: Targets = field(default_factory=Targets)
+
+
+@dataclass
+class StatsOutcome:
+    """Per candidate: the run at the chosen grade and the yield curve (``None`` where it has none)."""
+
+    request: StatsRequest
+    results: list[MonteCarloResult | None]
+    curves: list[YieldCurve | None]
+    notes: list[str]
+
+    def loosest(self, i: int) -> float | None:
+        """Loosest standard grade meeting the target yield for candidate ``i``."""
+        curve = self.curves[i]
+        return None if curve is None else curve.loosest(self.request.target_yield)
+
+
+def _at_grade(design: Design, grade: float | None) -> tuple[Design, str]:
+    if grade is None:
+        return design, ""
+    try:
+        return with_tolerance(design, grade), ""
+    except DesignError as exc:
+        return design, exc.reason
+
+
+def statistics_job(request: StatsRequest) -> Any:
+    """A ``JobRunner`` job: ``job(cancel)`` yielding ``Progress`` and finally a ``StatsOutcome``."""
+    from .workers import Progress
+
+    def job(cancel: threading.Event) -> Iterator[Any]:
+        n = len(request.designs)
+        steps = 1 + len(STANDARD_GRADES)
+        total = n * steps * request.trials
+        outcome = StatsOutcome(request, [None] * n, [None] * n, [""] * n)
+        for i, base in enumerate(request.designs):
+            design, note = _at_grade(base, request.grade)
+            outcome.notes[i] = note
+            for partial in iter_monte_carlo(design, request.trials, request.seed, cancel=cancel,
+                                            targets=request.targets, reports=20):
+                outcome.results[i] = partial
+                yield Progress((i * steps) * request.trials + partial.done, total, outcome)
+            if cancel.is_set():
+                return
+            if MismatchModel.of(base).model == "on-chip":
+                outcome.notes[i] = outcome.notes[i] or "on-chip area law: no tolerance grade"
+                continue
+            for curve in iter_yield_vs_tolerance(base, STANDARD_GRADES, request.trials, request.seed,
+                                                 request.targets, request.criterion, cancel):
+                outcome.curves[i] = curve
+                yield Progress((i * steps + 1 + len(curve.yields)) * request.trials, total, outcome)
+            if cancel.is_set():
+                return
+        yield outcome
+
+    return job

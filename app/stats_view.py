@@ -1,0 +1,295 @@
+"""The statistics view: yields, histograms, INL envelope and yield-against-grade curves per candidate.
+
+Follows the view contract of ``view_registry.py``. Work runs on a ``workers.JobRunner`` channel,
+only when asked (Run) or after a finished edit (``set_candidates`` with "Rerun after each edit"
+ticked) — never while a value is being dragged. The seed used is always shown.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pyqtgraph as pg
+from PySide6.QtCore import Qt, Signal
+from PySide6.QtWidgets import (
+    QCheckBox,
+    QComboBox,
+    QDoubleSpinBox,
+    QFormLayout,
+    QGridLayout,
+    QHBoxLayout,
+    QLabel,
+    QLineEdit,
+    QProgressBar,
+    QPushButton,
+    QSpinBox,
+    QTableWidget,
+    QTableWidgetItem,
+    QVBoxLayout,
+    QWidget,
+)
+
+from rungwise.core import Design
+from rungwise.core.grades import STANDARD_GRADES
+from rungwise.core.targets import MAX_SEED
+
+from .stats_job import StatsOutcome, StatsRequest, statistics_job
+from .workers import JobRunner, Progress
+
+CHANNEL = "statistics"
+"""JobRunner channel of this view."""
+
+CRITERIA = {"monotonic": "Monotonic", "dnl": "|DNL| within target", "inl": "|INL| within target",
+            "all": "Every target"}
+"""Decision rules offered, by ``grades.Criterion`` value."""
+
+COLUMNS = ("Candidate", "Engine", "Monotonic", "|DNL| ok", "|INL| ok", "All targets",
+           "Loosest grade for target")
+"""Columns of the results table."""
+
+PENS = ("#1f5fa8", "#c8651b", "#2f8a3a", "#8a2f7c", "#6b6b6b")
+"""Line colours per candidate (our own palette)."""
+
+
+def grade_text(grade: float | None) -> str:
+    """``0.01`` → ``"±1 %"``; ``None`` → ``"tighter than ±0.01 %"``."""
+    if grade is None:
+        return f"tighter than ±{STANDARD_GRADES[0] * 100:g} %"
+    return f"±{grade * 100:g} %"
+
+
+class StatisticsPane(QWidget):
+    """Monte Carlo statistics of the compared candidates, with Run, Cancel, progress and seed.
+
+    Signals
+    -------
+    candidate_requested(object)
+        Not emitted by this view (part of the contract, kept for symmetry).
+    result_changed(object)
+        A finished ``StatsOutcome`` is shown.
+    """
+
+    candidate_requested = Signal(object)
+    result_changed = Signal(object)
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.setObjectName("stats_pane")
+        self._designs: list[Design] = []
+        self._outcome: StatsOutcome | None = None
+        self.runner = JobRunner(self)
+        self.runner.progress.connect(self._on_progress)
+        self.runner.finished.connect(self._on_finished)
+        self.runner.failed.connect(self._on_failed)
+        self.runner.busy_changed.connect(self._on_busy)
+        self._build()
+
+    # --- layout --------------------------------------------------------------------------------
+    def _build(self) -> None:
+        form = QFormLayout()
+        self.combo_grade = QComboBox(objectName="combo_grade")
+        self.combo_grade.addItem("As each design says", None)
+        for g in STANDARD_GRADES:
+            self.combo_grade.addItem(grade_text(g), g)
+        self.combo_criterion = QComboBox(objectName="combo_criterion")
+        for key, label in CRITERIA.items():
+            self.combo_criterion.addItem(label, key)
+        self.spin_target = QDoubleSpinBox(objectName="spin_target", decimals=2, minimum=1.0,
+                                          maximum=99.99, value=99.0, suffix=" %")
+        self.spin_trials = QSpinBox(objectName="spin_trials", minimum=10, maximum=1_000_000,
+                                    value=2000, singleStep=1000)
+        self.edit_seed = QLineEdit("1", objectName="edit_seed")
+        self.button_new_seed = QPushButton("New seed", objectName="button_new_seed")
+        self.button_new_seed.clicked.connect(self._new_seed)
+        seed_row = QHBoxLayout()
+        seed_row.addWidget(self.edit_seed)
+        seed_row.addWidget(self.button_new_seed)
+        form.addRow("Part grade", self.combo_grade)
+        form.addRow("Pass when", self.combo_criterion)
+        form.addRow("Target yield", self.spin_target)
+        form.addRow("Boards (trials)", self.spin_trials)
+        form.addRow("Seed", seed_row)
+        self.check_auto = QCheckBox("Rerun after each finished edit", objectName="check_auto")
+        self.check_auto.setChecked(True)
+        self.button_run = QPushButton("Run", objectName="button_run")
+        self.button_cancel = QPushButton("Cancel", objectName="button_cancel", enabled=False)
+        self.button_run.clicked.connect(self.run)
+        self.button_cancel.clicked.connect(self.cancel)
+        self.progress = QProgressBar(objectName="progress", minimum=0, maximum=1000, value=0)
+        self.label_seed = QLabel("No run yet", objectName="label_seed")
+        self.label_status = QLabel("", objectName="label_status", wordWrap=True)
+        buttons = QHBoxLayout()
+        for w in (self.button_run, self.button_cancel, self.progress):
+            buttons.addWidget(w)
+        self.table = QTableWidget(0, len(COLUMNS), objectName="table_results")
+        self.table.setHorizontalHeaderLabels(list(COLUMNS))
+        self.table.setEditTriggers(QTableWidget.EditTrigger.NoEditTriggers)
+        self.table.horizontalHeader().setStretchLastSection(True)
+        self.combo_candidate = QComboBox(objectName="combo_candidate")
+        self.combo_candidate.currentIndexChanged.connect(self._show_candidate)
+        self.plot_hist = pg.PlotWidget(objectName="plot_hist", title="Boards by worst error")
+        self.plot_hist.setLabel("bottom", "max |error| (LSB)")
+        self.plot_hist.setLabel("left", "boards")
+        self.plot_hist.addLegend()
+        self.plot_envelope = pg.PlotWidget(objectName="plot_envelope", title="INL spread against code")
+        self.plot_envelope.setLabel("bottom", "code")
+        self.plot_envelope.setLabel("left", "INL (LSB)")
+        self.plot_envelope.getAxis("left").enableAutoSIPrefix(False)
+        self.plot_yield = pg.PlotWidget(objectName="plot_yield", title="Yield against part grade")
+        self.plot_yield.setLogMode(x=True, y=False)
+        self.plot_yield.setLabel("bottom", "part tolerance ± (%)")
+        self.plot_yield.setLabel("left", "yield (%)")
+        self.plot_yield.addLegend()
+        plots = QGridLayout()
+        plots.addWidget(self.plot_yield, 0, 0, 1, 2)
+        plots.addWidget(self.plot_hist, 1, 0)
+        plots.addWidget(self.plot_envelope, 1, 1)
+        top = QVBoxLayout(self)
+        top.addLayout(form)
+        top.addWidget(self.check_auto)
+        top.addLayout(buttons)
+        top.addWidget(self.label_seed)
+        top.addWidget(self.label_status)
+        top.addWidget(self.table)
+        pick = QHBoxLayout()
+        pick.addWidget(QLabel("Histogram and INL spread of"))
+        pick.addWidget(self.combo_candidate, 1)
+        top.addLayout(pick)
+        top.addLayout(plots, 1)
+
+    # --- the view contract ---------------------------------------------------------------------
+    def set_candidates(self, designs: list[Design]) -> None:
+        """New candidates after a finished edit; reruns at once when "Rerun" is ticked."""
+        designs = list(designs)
+        changed = designs != self._designs
+        self._designs = designs
+        if changed and self.check_auto.isChecked() and designs:
+            self.run()
+
+    def shutdown(self) -> None:
+        """Cancel the running job and wait for the worker thread."""
+        self.runner.shutdown()
+
+    # --- actions -------------------------------------------------------------------------------
+    def request(self) -> StatsRequest | None:
+        """The request the controls describe (``None`` with a message when the seed is unreadable)."""
+        text = self.edit_seed.text().strip()
+        if not text.isdigit() or int(text) > MAX_SEED:
+            self.label_status.setText(f"Seed: a whole number from 0 to {MAX_SEED}")
+            return None
+        return StatsRequest(tuple(self._designs), self.spin_trials.value(), int(text),
+                            self.combo_grade.currentData(), self.combo_criterion.currentData(),
+                            self.spin_target.value() / 100.0)
+
+    def run(self) -> None:
+        """Start a run with the current controls (cancels a running one)."""
+        req = self.request()
+        if req is None or not req.designs:
+            return
+        self.label_seed.setText(f"Seed {req.seed} · {req.trials} boards per candidate and grade")
+        self.label_status.setText("Running…")
+        self.progress.setValue(0)
+        self.runner.submit(CHANNEL, statistics_job(req))
+
+    def cancel(self) -> None:
+        """Stop the running job between chunks."""
+        if self.runner.is_busy(CHANNEL):
+            self.runner.cancel(CHANNEL)
+            self.label_status.setText("Cancelled")
+
+    def _new_seed(self) -> None:
+        self.edit_seed.setText(str(int(np.random.SeedSequence().entropy % 2**32)))
+
+    # --- results -------------------------------------------------------------------------------
+    def _on_busy(self, channel: str, busy: bool) -> None:
+        if channel == CHANNEL:
+            self.button_cancel.setEnabled(busy)
+
+    def _on_progress(self, channel: str, p: Progress) -> None:
+        if channel != CHANNEL:
+            return
+        self.progress.setValue(int(1000 * p.done / max(p.total, 1)))
+        if isinstance(p.partial, StatsOutcome):
+            self._fill_table(p.partial)
+
+    def _on_failed(self, channel: str, message: str) -> None:
+        if channel == CHANNEL:
+            self.label_status.setText(f"Could not run: {message}")
+
+    def _on_finished(self, channel: str, outcome: object) -> None:
+        if channel != CHANNEL or not isinstance(outcome, StatsOutcome):
+            return
+        self._outcome = outcome
+        self.progress.setValue(1000)
+        self.label_status.setText(self._verdict(outcome))
+        self._fill_table(outcome)
+        self._plot_yield(outcome)
+        self.combo_candidate.blockSignals(True)
+        self.combo_candidate.clear()
+        self.combo_candidate.addItems([d.label for d in outcome.request.designs])
+        self.combo_candidate.blockSignals(False)
+        self._show_candidate(0)
+        self.result_changed.emit(outcome)
+
+    def _verdict(self, outcome: StatsOutcome) -> str:
+        req = outcome.request
+        rule = CRITERIA[req.criterion].lower()
+        lines = []
+        for i, d in enumerate(req.designs):
+            r = outcome.results[i]
+            y = getattr(r, f"yield_{req.criterion}") if r is not None else None
+            ok = y is not None and y.value >= req.target_yield
+            need = grade_text(outcome.loosest(i)) if outcome.curves[i] is not None else "—"
+            lines.append(f"{d.label}: {'meets' if ok else 'misses'} {req.target_yield * 100:g} % "
+                         f"({rule}); loosest grade that meets it: {need}"
+                         + (f" ({outcome.notes[i]})" if outcome.notes[i] else ""))
+        return "\n".join(lines)
+
+    def _fill_table(self, outcome: StatsOutcome) -> None:
+        designs = outcome.request.designs
+        self.table.setRowCount(len(designs))
+        for i, d in enumerate(designs):
+            r = outcome.results[i]
+            cells = [d.label, r.engine if r else "…"]
+            for key in ("yield_monotonic", "yield_dnl", "yield_inl", "yield_all"):
+                cells.append(getattr(r, key).text() if r is not None and r.done else "…")
+            curve = outcome.curves[i]
+            full = curve is not None and len(curve.yields) == len(curve.steps)
+            cells.append(grade_text(outcome.loosest(i)) if full else (outcome.notes[i] or "…"))
+            for j, text in enumerate(cells):
+                item = QTableWidgetItem(text)
+                item.setTextAlignment(Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignVCenter)
+                self.table.setItem(i, j, item)
+
+    def _plot_yield(self, outcome: StatsOutcome) -> None:
+        self.plot_yield.clear()
+        for i, curve in enumerate(outcome.curves):
+            if curve is None or not curve.yields:
+                continue
+            steps = curve.steps[:len(curve.yields)]
+            self.plot_yield.plot(steps * 100, curve.values * 100, pen=pg.mkPen(PENS[i % len(PENS)], width=2),
+                                 symbol="o", name=outcome.request.designs[i].label)
+        target = outcome.request.target_yield * 100
+        dashed = pg.mkPen("#888", style=Qt.PenStyle.DashLine)
+        self.plot_yield.addItem(pg.InfiniteLine(target, angle=0, pen=dashed))
+
+    def _show_candidate(self, index: int) -> None:
+        outcome = self._outcome
+        if outcome is None or not (0 <= index < len(outcome.results)):
+            return
+        r = outcome.results[index]
+        self.plot_hist.clear()
+        self.plot_envelope.clear()
+        if r is None or r.done == 0:
+            return
+        for values, name, colour in ((r.max_abs_dnl, "max |DNL|", PENS[0]),
+                                     (r.max_abs_inl, f"max |INL| ({r.targets.inl_line})", PENS[1])):
+            counts, edges = np.histogram(values, bins=40)
+            self.plot_hist.plot(edges, counts, stepMode="center", fillLevel=0,
+                                brush=pg.mkBrush(colour + "60"), pen=pg.mkPen(colour), name=name)
+        env = r.inl_envelope
+        codes = r.envelope_codes.astype(float)
+        for row, style in zip(env, (Qt.PenStyle.DashLine, Qt.PenStyle.SolidLine, Qt.PenStyle.DashLine),
+                              strict=True):
+            self.plot_envelope.plot(codes, row, pen=pg.mkPen(PENS[2], width=1.5, style=style))
+        self.plot_envelope.setTitle(f"INL spread against code: 1 %, 50 %, 99 % of "
+                                    f"{r.envelope_trials} boards")
