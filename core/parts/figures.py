@@ -8,6 +8,7 @@ from typing import Any
 import numpy as np
 
 from ..metrics import amplifier, noise, settling
+from ..metrics.drift import drift
 from ..metrics.power import ElementPower, worst_case
 from ..network import Network
 from ..solve import Solution
@@ -23,6 +24,12 @@ SUMMARY_KEYS: dict[str, tuple[str, str]] = {
     "noise_density": ("Thermal noise density, worst code", "V/√Hz"),
     "noise_rms": ("Thermal noise over the bandwidth", "V"),
     "noise_rms_lsb": ("  relative to the LSB", "LSB"),
+    "drift_gain_error_low": ("Gain error at the cold end", "fraction"),
+    "drift_gain_error_high": ("Gain error at the hot end", "fraction"),
+    "drift_offset_low": ("Offset at the cold end", "V"),
+    "drift_offset_high": ("Offset at the hot end", "V"),
+    "drift_inl_low": ("Max |INL| at the cold end", "LSB"),
+    "drift_inl_high": ("Max |INL| at the hot end", "LSB"),
     "amp_offset_error": ("Amplifier: offset error", "V"),
     "amp_gain_error": ("Amplifier: gain error", "fraction"),
     "amp_inl_added": ("Amplifier: INL added", "LSB"),
@@ -63,6 +70,11 @@ def part_figures(design: Any, net: Network, sol: Solution
         "noise_rms": noise_rms,
         "noise_rms_lsb": noise_rms / lsb if lsb else float("nan"),
     }
+    ends = drift(design, net, [board_value(design, "temp_low_c"), board_value(design, "temp_high_c")])
+    for i, end in enumerate(("low", "high")):
+        out[f"drift_gain_error_{end}"] = float(ends.gain_error[i])
+        out[f"drift_offset_{end}"] = float(ends.offset_error[i])
+        out[f"drift_inl_{end}"] = float(ends.max_abs_inl[i])
     out.update(_amplifier_entries(design, net, sol))
     return out, elements
 

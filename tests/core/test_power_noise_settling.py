@@ -141,3 +141,23 @@ def test_settling_convention():
     assert loaded.summary["settling_tau"] == pytest.approx(50e-9, rel=1e-12)
     buffered = evaluate(Design(bits=8, output="buffer", load_c=10e-12))
     assert math.isnan(buffered.summary["settling_time"])
+
+
+def test_drift_at_the_range_ends():
+    # common practice: equal coefficients on every part leave a ratio-metric ladder unchanged;
+    # legs and series from different batches (100 vs 25 ppm/K) give a code-dependent error
+    same = evaluate(Design(bits=8, mismatch={"tempco": 100e-6}, board={"temp_low_c": -40,
+                                                                       "temp_high_c": 125}))
+    assert abs(same.summary["drift_gain_error_high"]) < 1e-12
+    assert same.summary["drift_inl_high"] < 1e-9
+    mixed = evaluate(Design(bits=8, mismatch={"tempco": 100e-6, "tempco_parts": {
+        f"series{k}": 25e-6 for k in range(7)}}, board={"temp_low_c": -40, "temp_high_c": 125}))
+    assert mixed.summary["drift_inl_high"] > 0.05
+    assert mixed.summary["drift_inl_low"] > 0.05
+    # R(T) = R0·(1 + α(T − T0)): a lone 10 kΩ at 100 ppm/K from 25 to 85 °C is 10.060 kΩ [common
+    # practice]; a terminated binary divider with only the terminator drifting changes gain only
+    from rungwise.core.metrics.drift import part_ohms_at
+
+    d = Design(topology="binary-weighted", output="terminated-divider", bits=4, unit_r=10e3,
+               mismatch={"tempco_parts": {"bit3": 100e-6}, "reference_c": 25.0})
+    assert part_ohms_at(d, build(d), np.array([85.0]))["bit3"][0, 0] == pytest.approx(10.06e3)

@@ -28,6 +28,7 @@ digits. Runs are batched (``CODES_PER_RUN`` codes per ngspice process for the co
 from __future__ import annotations
 
 import os
+import re
 import shutil
 import subprocess
 import tempfile
@@ -395,3 +396,65 @@ def assert_agree(actual: np.ndarray, expected: np.ndarray, rtol: float = 1e-9, w
     scale = float(np.max(np.abs(expected[finite]), initial=0.0))
     np.testing.assert_allclose(actual[finite], expected[finite], rtol=rtol, atol=1e-15 * scale,
                                err_msg=what)
+
+
+# ------------------------------------------------------------------------------------------------
+# temperature coefficients and transients (real-part checks)
+
+
+def with_tempco(body: str, net: Network, tc1: Mapping[str, float], temp_c: float, tnom_c: float
+                ) -> str:
+    """``body`` (from :func:`copies_netlist`) with a first-order coefficient ``tc1`` (1/K) on each
+    named resistor and leg, analysed at ``temp_c`` with the values given at ``tnom_c`` (°C).
+
+    ngspice: R(T) = R·(1 + tc1·(T − TNOM)); its default TNOM is 27 °C, so it is always set here.
+    Switch on-resistances keep no coefficient.
+    """
+    ids = {"r": [r.part_id for r in net.resistors], "l": [g.part_id for g in net.legs]}
+    element = re.compile(r"^r\w+?_([rl])(\d+)\s")  # r<copy prefix>_r<j> resistor, _l<j> leg
+    title, *rest = body.splitlines()  # ngspice reads the first line as the title
+    lines = [title, f".options tnom={_num(tnom_c)}", f".temp {_num(temp_c)}"]
+    for line in rest:
+        m = element.match(line)
+        alpha = tc1.get(ids[m.group(1)][int(m.group(2))], 0.0) if m else 0.0
+        lines.append(f"{line} tc1={_num(alpha)}" if alpha else line)
+    return "\n".join(lines)
+
+
+def simulate_at(net: Network, codes: np.ndarray, tc1: Mapping[str, float], temp_c: float,
+                tnom_c: float) -> np.ndarray:
+    """Output voltage at ``codes`` with temperature coefficients, volts, shape (n_codes,)."""
+    codes = np.asarray(codes, dtype=np.int64)
+    body, vectors = copies_netlist(net, codes)
+    vec = run_netlist(with_tempco(body, net, tc1, temp_c, tnom_c), "op")
+    return np.array([vec[v][0] for v, _, _ in vectors])
+
+
+def full_scale_step(net: Network, load_c: float, t_stop: float, t_step: float
+                    ) -> tuple[np.ndarray, np.ndarray]:
+    """Transient of an unbuffered output loaded by ``load_c`` after a step from code 0 to the last
+    code at t = 0 (1 ps edge).
+
+    With equal switch resistances and an ideal reference, code 0 is the full-scale circuit with
+    its source at 0 V, so the step is the source rising from 0 to Vref.
+
+    Returns
+    -------
+    time : ndarray, seconds
+    vout : ndarray, volts (same shape)
+    """
+    legs_equal = all(g.ron_high == g.ron_low for g in net.legs)
+    if net.output.kind != "node" or net.output.buffered or not legs_equal:
+        raise ValueError("a full-scale step is modelled for unbuffered outputs with equal switch "
+                         "resistances only")
+    vals = _values(net, None)
+    lines = ["* rungwise reference: full-scale step into a capacitive load"]
+    drive = net.decode(np.array([net.n_codes - 1]))[0]
+    vout, src = _operating_copy(net, vals, drive, "o_", lines)
+    source_el = src[2:-1]
+    vref = net.fixed[net.source]
+    lines = [f"{ln.split(' DC ')[0]} PWL(0 0 1e-12 {_num(vref)})" if ln.split()[0] == source_el
+             else ln for ln in lines]
+    lines.append(f"co_load {vout[2:-1]} 0 {_num(load_c)} IC=0")
+    vec = run_netlist("\n".join(lines), f"tran {_num(t_step)} {_num(t_stop)} 0 {_num(t_step)} uic")
+    return vec["time"], vec[vout.lower()]
