@@ -48,12 +48,9 @@ def part_ohms_at(design: Any, net: Network, temperatures_c: np.ndarray) -> dict[
     dict part id → ndarray, shape (n_temps, 1), ohms
     """
     base = MismatchModel.of(design)
-    out = {}
-    for p in net.parts:
-        f = [temperature_factor(dataclasses.replace(base, temperature_c=float(t)), p.part_id)
-             for t in temperatures_c]
-        out[p.part_id] = (p.ohms * np.asarray(f, dtype=float))[:, None]
-    return out
+    models = [dataclasses.replace(base, temperature_c=float(t)) for t in temperatures_c]
+    return {p.part_id: (p.ohms * np.array([temperature_factor(m, p.part_id) for m in models]))[:, None]
+            for p in net.parts}
 
 
 def drift(design: Any, net: Network, temperatures_c: np.ndarray | list[float]) -> DriftResult:

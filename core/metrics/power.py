@@ -123,7 +123,8 @@ def worst_case(net: Network) -> tuple[list[ElementPower], dict[str, float]]:
     balance = 0.0
     for start in range(0, net.n_codes, CODE_CHUNK):
         codes = np.arange(start, min(start + CODE_CHUNK, net.n_codes))
-        sol = solve(net, codes=codes, keep_nodes=True)
+        whole = net.n_codes <= CODE_CHUNK  # all codes at once lets the solver take its fastest path
+        sol = solve(net, codes=None if whole else codes, keep_nodes=True)
         volts = {k: np.broadcast_to(v, codes.shape) for k, v in sol.node_voltages.items()}
         drive = net.decode(codes).astype(bool)
         legs = {f"switch:{g.part_id}": col for col, g in enumerate(net.legs)}
