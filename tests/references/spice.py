@@ -383,19 +383,22 @@ def simulate(net: Network, codes: np.ndarray | None = None, ohms: Mapping[str, f
                        _unshunt(table[:, 2], _values(net, ohms).shunt))
 
 
-def assert_agree(actual: np.ndarray, expected: np.ndarray, rtol: float = 1e-9, what: str = "") -> None:
+def assert_agree(actual: np.ndarray, expected: np.ndarray, rtol: float = 1e-9, what: str = "",
+                 floor: float | None = None) -> None:
     """Per-code agreement to ``rtol`` relative; infinities must sit at the same codes.
 
-    Exact zeros are compared with a floor of 1e-15 of the largest finite magnitude (double
-    rounding), so a code whose true value is 0 does not demand bit-identical noise.
+    Exact zeros are compared with an absolute ``floor`` (default 1e-15 of the largest finite
+    magnitude: double rounding), so a code whose true value is 0 does not demand bit-identical
+    noise. A current that is zero at every code needs an explicit floor, e.g. a few ulp of the
+    reference over the smallest resistance.
     """
     actual, expected = np.asarray(actual, float), np.asarray(expected, float)
     assert actual.shape == expected.shape, what
     np.testing.assert_array_equal(np.isinf(actual), np.isinf(expected), err_msg=f"{what}: open codes")
     finite = np.isfinite(expected)
     scale = float(np.max(np.abs(expected[finite]), initial=0.0))
-    np.testing.assert_allclose(actual[finite], expected[finite], rtol=rtol, atol=1e-15 * scale,
-                               err_msg=what)
+    atol = 1e-15 * scale if floor is None else floor
+    np.testing.assert_allclose(actual[finite], expected[finite], rtol=rtol, atol=atol, err_msg=what)
 
 
 # ------------------------------------------------------------------------------------------------
