@@ -35,7 +35,8 @@ def johnson_density(ohms: np.ndarray | float, temperature_c: float) -> np.ndarra
     return np.sqrt(4.0 * BOLTZMANN * t * np.asarray(ohms, dtype=float))
 
 
-def output_density(net: Network, rout: np.ndarray, temperature_c: float) -> np.ndarray:
+def output_density(net: Network, rout: np.ndarray, temperature_c: float,
+                   feedback_ohms: float | None = None) -> np.ndarray:
     """Output thermal noise density at every code.
 
     Parameters
@@ -43,6 +44,8 @@ def output_density(net: Network, rout: np.ndarray, temperature_c: float) -> np.n
     net : Network
     rout : ndarray, shape (n_codes,), ohms — the solver's output resistance (load excluded)
     temperature_c : float, °C
+    feedback_ohms : float, optional
+        Overrides the network's feedback resistor, ohms.
 
     Returns
     -------
@@ -51,7 +54,7 @@ def output_density(net: Network, rout: np.ndarray, temperature_c: float) -> np.n
     o = net.output
     rout = np.asarray(rout, dtype=float)
     if o.kind == "virtual-ground":
-        rf = o.feedback_ohms
+        rf = o.feedback_ohms if feedback_ohms is None else feedback_ohms
         with np.errstate(divide="ignore"):
             ratio = np.where(np.isfinite(rout), rf / rout, 0.0)
         return johnson_density(rf * (1.0 + ratio), temperature_c)

@@ -8,6 +8,8 @@ Values span the decades from 1 Ω to 10 MΩ.
 
 from __future__ import annotations
 
+from functools import cache
+
 import numpy as np
 
 from ..errors import DesignError
@@ -53,6 +55,11 @@ def mantissas(series: str) -> np.ndarray:
 
 def values(series: str) -> np.ndarray:
     """Every preferred value of ``series`` from 1 Ω to 10 MΩ, ohms, increasing, shape (n·7 + 1,)."""
+    return _values(series).copy()
+
+
+@cache
+def _values(series: str) -> np.ndarray:
     m = mantissas(series)
     decades = 10.0 ** np.arange(7)
     all_values = (decades[:, None] * m[None, :]).ravel()
@@ -82,8 +89,8 @@ def snap(ohms: np.ndarray | float, series: str, field: str = "series") -> np.nda
     x = np.asarray(ohms, dtype=float)
     if series == "exact":
         return x.copy()
-    table = values(series)
-    logs = np.log(table)
+    table = _values(series)
+    logs = _logs(series)
     step = logs[1] - logs[0]
     lx = np.log(x)
     if np.any(lx < logs[0] - step / 2) or np.any(lx > logs[-1] + step / 2):
@@ -91,7 +98,12 @@ def snap(ohms: np.ndarray | float, series: str, field: str = "series") -> np.nda
         raise DesignError(field, f"{bad:.6g} Ω lies outside the {series} values offered "
                           f"(1 Ω … 10 MΩ); choose another unit_r, a build style of units, or "
                           "series = exact")
-    hi = np.clip(np.searchsorted(logs, lx), 1, len(logs) - 1)
+    hi = np.minimum(np.maximum(np.searchsorted(logs, lx), 1), len(logs) - 1)
     lo = hi - 1
     pick_hi = (logs[hi] - lx) <= (lx - logs[lo]) + 1e-12
     return np.where(pick_hi, table[hi], table[lo])
+
+
+@cache
+def _logs(series: str) -> np.ndarray:
+    return np.log(_values(series))

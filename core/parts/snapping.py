@@ -11,13 +11,17 @@ from __future__ import annotations
 
 import dataclasses
 
+import numpy as np
+
 from ..build_style import unit_ohms
+from ..errors import DesignError
 from ..network import Network
 from .eseries import snap
 
 
-def compose(unit_ohms: float, units: int, joined: str) -> float:
-    """The value of ``units`` equal resistors of ``unit_ohms`` joined as ``joined``, ohms."""
+def compose(unit_ohms, units: int, joined: str):
+    """The value of ``units`` equal resistors of ``unit_ohms`` (float or ndarray) joined as
+    ``joined``, ohms."""
     if joined == "series":
         return unit_ohms * units
     if joined == "parallel":
@@ -44,11 +48,15 @@ def snap_network(design, net: Network) -> Network:
     if design.series == "exact":
         return net
     targets = set(snapped_ids(design, net))
-    new: dict[str, float] = {}
-    for part in net.parts:
-        if part.part_id in targets:
-            unit = float(snap(unit_ohms(part), design.series, field=f"series ({part.part_id})"))
-            new[part.part_id] = compose(unit, part.units, part.joined)
+    chosen = [p for p in net.parts if p.part_id in targets]
+    nominal = np.array([unit_ohms(p) for p in chosen])
+    try:
+        units = snap(nominal, design.series)
+    except DesignError:  # say which part
+        for p, x in zip(chosen, nominal, strict=True):
+            snap(x, design.series, field=f"series ({p.part_id})")
+        raise
+    new = {p.part_id: compose(float(u), p.units, p.joined) for p, u in zip(chosen, units, strict=True)}
     net.parts = [dataclasses.replace(p, ohms=new.get(p.part_id, p.ohms)) for p in net.parts]
     net.resistors = [dataclasses.replace(r, ohms=new.get(r.part_id, r.ohms)) for r in net.resistors]
     net.legs = [dataclasses.replace(g, ohms=new.get(g.part_id, g.ohms)) for g in net.legs]
