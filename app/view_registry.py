@@ -29,5 +29,6 @@ class ViewEntry:
 
 VIEWS: list[ViewEntry] = [
     ViewEntry("stats_pane", "Statistics", "rungwise.app.stats_view", "StatisticsPane"),
+    ViewEntry("diagnose_pane", "Built board", "rungwise.app.diagnose_view", "DiagnosePane"),
 ]
 """Registered views, in tab order."""

@@ -1,0 +1,90 @@
+"""The built-board view on its own: load, analyse off the GUI thread, suspects, candidate, exports."""
+
+from __future__ import annotations
+
+import importlib
+
+import pytest
+
+from rungwise.app.view_registry import VIEWS
+from rungwise.core.demo import DEMO_BASE, demo_candidates
+from rungwise.core.diagnose.synthetic import sensor_bias_example
+
+pytest.importorskip("pytestqt")
+
+
+@pytest.fixture
+def pane(qtbot):
+    from rungwise.app.diagnose_view import DiagnosePane
+
+    view = DiagnosePane()
+    qtbot.addWidget(view)
+    yield view
+    view.shutdown()
+    assert view.runner.active_count() == 0
+
+
+@pytest.fixture
+def example(tmp_path):
+    path = tmp_path / "board.csv"
+    path.write_text(sensor_bias_example(), encoding="utf-8")
+    return path
+
+
+def test_registered_once_and_importable():
+    entries = [e for e in VIEWS if e.key == "diagnose_pane"]
+    assert len(entries) == 1
+    cls = getattr(importlib.import_module(entries[0].module), entries[0].cls)
+    assert cls.__name__ == "DiagnosePane"
+
+
+def test_load_names_the_part_and_offers_the_as_built_candidate(pane, qtbot, example):
+    pane.set_candidates(demo_candidates())
+    assert not pane.button_use.isEnabled()
+    with qtbot.waitSignal(pane.diagnosis_changed, timeout=20000) as sig:
+        assert pane.load_measurement(example)
+    assert sig.args[0] is pane.diagnosis
+    assert pane.table_suspects.item(0, 0).text() == "leg5"
+    assert pane.table_suspects.item(0, 1).text().startswith("+1.8")
+    assert "leg5" in pane.label_status.text()
+    assert pane.table_findings.rowCount() > 5
+    assert pane.button_use.isEnabled()
+    with qtbot.waitSignal(pane.candidate_requested, timeout=2000) as asked:
+        pane.button_use.click()
+    built = asked.args[0]
+    assert built.topology == DEMO_BASE.topology
+    assert "leg5" in built.parts
+
+
+def test_choosing_another_candidate_reanalyses(pane, qtbot, example):
+    with qtbot.waitSignal(pane.diagnosis_changed, timeout=20000):
+        pane.load_measurement(example)
+    with qtbot.waitSignal(pane.diagnosis_changed, timeout=20000) as sig:
+        pane.combo_design.setCurrentIndex(1)
+    assert sig.args[0].design.topology == "binary-weighted"
+
+
+def test_exports_write_the_correction_table(pane, qtbot, example, tmp_path):
+    with qtbot.waitSignal(pane.diagnosis_changed, timeout=20000):
+        pane.load_measurement(example)
+    pane.export_correction_csv(tmp_path / "c.csv")
+    pane.export_correction_header(tmp_path / "fix.h")
+    assert len((tmp_path / "c.csv").read_text().splitlines()) == 257
+    assert "static const uint8_t fix[FIX_LEN]" in (tmp_path / "fix.h").read_text()
+
+
+def test_unreadable_file_is_explained_not_raised(pane, tmp_path):
+    bad = tmp_path / "bad.csv"
+    bad.write_text("0,0\n1,oops\n")
+    assert not pane.load_measurement(bad)
+    assert "bad.csv, line 2" in pane.label_status.text()
+    assert pane.diagnosis is None
+
+
+def test_refused_analysis_is_shown(pane, qtbot, example):
+    pane.set_candidates([DEMO_BASE.replace(bits=4)])
+    with qtbot.waitSignal(pane.diagnosis_changed, timeout=20000) as sig:
+        pane.load_measurement(example)
+    assert sig.args[0] is None
+    assert "beyond the 4-bit design" in pane.label_status.text()
+    assert not pane.button_csv.isEnabled()
