@@ -30,5 +30,6 @@ class ViewEntry:
 VIEWS: list[ViewEntry] = [
     ViewEntry("stats_pane", "Statistics", "rungwise.app.stats_view", "StatisticsPane"),
     ViewEntry("diagnose_pane", "Built board", "rungwise.app.diagnose_view", "DiagnosePane"),
+    ViewEntry("parts_pane", "Parts", "rungwise.app.parts_view", "PartsPane"),
 ]
 """Registered views, in tab order."""

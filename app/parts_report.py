@@ -1,0 +1,136 @@
+"""The parts view's computation and words, without Qt: what a candidate becomes when built from
+real parts (snapping, bill of materials, ratings, settling, noise, drift, amplifier)."""
+
+from __future__ import annotations
+
+import math
+import threading
+from dataclasses import dataclass
+from typing import Any
+
+from rungwise.core import Design, Evaluation, evaluate
+from rungwise.core.metrics.settling import CONVENTION
+from rungwise.core.parts.board import board_value
+from rungwise.core.parts.bom import BomLine, bill_of_materials
+from rungwise.core.parts.suggest import Limits, Suggestion, suggest
+from rungwise.core.units import format_value
+
+
+@dataclass
+class PartsOutcome:
+    """One candidate built from real parts, and the same candidate with exact values."""
+
+    design: Design
+    built: Evaluation
+    exact: Evaluation
+    bom: list[BomLine]
+
+    @property
+    def flagged(self) -> list[BomLine]:
+        """BOM lines over a rating or limit."""
+        return [ln for ln in self.bom if ln.flagged]
+
+
+def parts_job(design: Design):
+    """A ``workers`` job: evaluate ``design`` as built and exact, and its bill of materials."""
+
+    def job(cancel: threading.Event) -> PartsOutcome | None:
+        built = evaluate(design)
+        if cancel.is_set():
+            return None
+        exact = evaluate(design.replace(series="exact")) if design.series != "exact" else built
+        return PartsOutcome(design, built, exact, bill_of_materials(built))
+
+    return job
+
+
+def suggest_job(design: Design, limits: Limits, series: str | None, top: int = 12):
+    """A ``workers`` job: the ranked unit values for ``design``."""
+
+    def job(cancel: threading.Event) -> list[Suggestion]:
+        return suggest(design, limits, series=series, top=top)
+
+    return job
+
+
+def _v(x: float, unit: str) -> str:
+    return "—" if x is None or (isinstance(x, float) and math.isnan(x)) else format_value(x, unit)
+
+
+def _pct(x: float) -> str:
+    return "—" if math.isnan(x) else f"{x * 100:.4g} %"
+
+
+def summary_lines(out: PartsOutcome) -> list[tuple[str, str]]:
+    """(label, text) rows for the view's figures, in display order."""
+    s, e, d = out.built.summary, out.exact.summary, out.design
+    rows = [
+        ("Values", f"{d.series} preferred values" if d.series != "exact" else "exact (no snapping)"),
+        ("Max |INL| built / exact", f"{s['max_abs_inl_endpoint']:.3g} / {e['max_abs_inl_endpoint']:.3g} LSB"),
+        ("Max |DNL| built / exact", f"{s['max_abs_dnl']:.3g} / {e['max_abs_dnl']:.3g} LSB"),
+        ("Monotonic as built", "yes" if s["monotonic"] else "NO"),
+        ("Reference current, max", _v(s["iref_max"], "A")),
+        ("Reference power, max", _v(s["ref_power_max"], "W")),
+        ("Power in the network, max", f"{_v(s['power_total_max'], 'W')} at code "
+                                      f"{s['power_total_max_code']}"),
+        ("Switch current, max", _v(s["switch_current_max"], "A")),
+    ]
+    if math.isnan(s["settling_time"]):
+        rows.append(("Settling to ½ LSB", "set by the amplifier (not modelled)"))
+    else:
+        rows.append(("Settling to ½ LSB", f"{_v(s['settling_time'], 's')} (τ = "
+                     f"{_v(s['settling_tau'], 's')}; {CONVENTION})"))
+    rows += [
+        ("Thermal noise", f"{_v(s['noise_density'], 'V/√Hz')} worst code at {d.temperature_c:g} °C; "
+                          f"{_v(s['noise_rms'], 'V')} rms over {_v(d.bandwidth, 'Hz')} = "
+                          f"{s['noise_rms_lsb']:.3g} LSB"),
+    ]
+    for end, key in (("cold", "temp_low_c"), ("hot", "temp_high_c")):
+        tag = "low" if end == "cold" else "high"
+        rows.append((f"Drift at {board_value(d, key):g} °C",
+                     f"gain error {_pct(s[f'drift_gain_error_{tag}'])}, offset "
+                     f"{_v(s[f'drift_offset_{tag}'], 'V')}, max |INL| {s[f'drift_inl_{tag}']:.3g} LSB"))
+    if "amp_offset_error" in s:
+        rows.append(("Amplifier", f"offset {_v(s['amp_offset_error'], 'V')}, gain error "
+                                  f"{_pct(s['amp_gain_error'])}, INL added {s['amp_inl_added']:.3g} "
+                                  f"LSB, {s['amp_codes_clipped']} codes beyond the rails"))
+    return rows
+
+
+def bom_cells(line: BomLine) -> list[str]:
+    """Text of one BOM line for the table's columns (:data:`BOM_COLUMNS`)."""
+    value = "—" if math.isnan(line.ohms) else format_value(line.ohms, "Ω")
+    tol = "" if math.isnan(line.tolerance) else f"±{line.tolerance * 100:g} %"
+    tc = "" if math.isnan(line.tempco) else f"{line.tempco * 1e6:g} ppm/K"
+    need = ("" if math.isnan(line.power_needed) else
+            format_value(line.power_needed, "A" if line.kind == "switch" else "W"))
+    qty = str(line.quantity) + (f" (+{line.leftover} spare)" if line.leftover else "")
+    return [line.designators, line.kind, value, line.series, tol, tc, need, qty,
+            " ".join(line.part_ids), line.note]
+
+
+BOM_COLUMNS = ("Designators", "Kind", "Value", "Series", "Tolerance", "Temp. coeff.",
+               "Rating needed", "Quantity", "Parts", "Note")
+"""Columns of the view's bill-of-materials table."""
+
+
+def suggestion_cells(s: Suggestion) -> list[str]:
+    """Text of one suggestion for the table's columns (:data:`SUGGEST_COLUMNS`)."""
+    return [format_value(s.unit_r, "Ω"), _v(s.iref_max, "A"), _v(s.rout_max, "Ω"),
+            _v(s.settling_time, "s"), f"{s.noise_lsb:.3g}", f"{s.max_abs_inl:.3g}", s.reason]
+
+
+SUGGEST_COLUMNS = ("Unit R", "Ref. current", "Output R", "Settling", "Noise (LSB)",
+                   "Max |INL|", "Why this rank")
+"""Columns of the view's suggestions table."""
+
+
+def limits_from_text(texts: dict[str, str]) -> Limits:
+    """Limits from typed fields (empty = no limit); engineering notation accepted."""
+    from rungwise.core.units import parse_value
+
+    values: dict[str, Any] = {}
+    for key, text in texts.items():
+        text = text.strip()
+        values[key] = parse_value(text, key) if text else None
+    return Limits(**values)

@@ -1,0 +1,100 @@
+"""The parts view on its own (pytest-qt): figures, bill of materials, flags, export, suggestions."""
+
+from __future__ import annotations
+
+import csv
+import importlib
+
+import pytest
+
+from rungwise.app.view_registry import VIEWS
+from rungwise.core import Design, evaluate
+from rungwise.core.parts.bom import CAUTION
+
+LADDER = Design(bits=8, unit_r=33e3, load_c=10e-12, name="Ladder")
+HOT = Design(topology="binary-weighted", output="terminated-divider", bits=6, vref=24.0, unit_r=100.0,
+             series="E24", name="Hot divider")
+
+
+@pytest.fixture
+def pane(qtbot):
+    from rungwise.app.parts_view import PartsPane
+
+    view = PartsPane()
+    qtbot.addWidget(view)
+    yield view
+    view.shutdown()
+    assert view.runner.active_count() == 0
+
+
+def _shown(qtbot, pane, action, timeout=30000):
+    with qtbot.waitSignal(pane.result_changed, timeout=timeout) as blocker:
+        action()
+    return blocker.args[0]
+
+
+def _figure(pane, label):
+    for row in range(pane.table_figures.rowCount()):
+        if pane.table_figures.item(row, 0).text() == label:
+            return pane.table_figures.item(row, 1).text()
+    raise KeyError(label)
+
+
+def test_registered_with_the_window_contract():
+    entry = next(v for v in VIEWS if v.key == "parts_pane")
+    cls = getattr(importlib.import_module(entry.module), entry.cls)
+    assert callable(cls.set_candidates)
+    assert callable(cls.shutdown)
+
+
+def test_snapping_to_e12_shows_a_non_monotonic_ladder_and_e96_fixes_it(qtbot, pane):
+    _shown(qtbot, pane, lambda: pane.set_candidates([LADDER]))
+    assert _figure(pane, "Values") == "exact (no snapping)"
+    out = _shown(qtbot, pane, lambda: pane.combo_series.setCurrentText("E12"))
+    assert _figure(pane, "Monotonic as built") == "NO"
+    assert {ln.ohms for ln in out.bom if ln.kind == "resistor"} == {68e3, 33e3}
+    _shown(qtbot, pane, lambda: pane.combo_series.setCurrentText("E96"))
+    assert _figure(pane, "Monotonic as built") == "yes"
+    ev = evaluate(LADDER.replace(series="E96"))
+    assert pane.table_bom.item(0, 2).text() == "66.5 kΩ"
+    assert "ln(2·(2^N − 1))" in _figure(pane, "Settling to ½ LSB")
+    assert f"{ev.summary['noise_rms_lsb']:.3g} LSB" in _figure(pane, "Thermal noise")
+    assert not pane.label_caution.isVisibleTo(pane)
+
+
+def test_overloads_are_flagged_with_the_caution_and_export(qtbot, pane, tmp_path):
+    out = _shown(qtbot, pane, lambda: pane.set_candidates([HOT]))
+    assert out.flagged
+    assert pane.label_caution.isVisibleTo(pane)
+    assert pane.label_caution.text() == CAUTION
+    row = next(i for i, ln in enumerate(out.bom) if ln.flagged)
+    assert "datasheet" in pane.table_bom.item(row, 0).toolTip()
+    path = tmp_path / "parts.csv"
+    pane.export_csv(path)
+    rows = list(csv.reader(path.read_text(encoding="utf-8").splitlines()))
+    assert rows[0][:3] == ["candidate", "designators", "kind"]
+    assert rows[-1] == ["caution", CAUTION]
+
+
+def test_suggestions_and_adding_a_candidate(qtbot, pane):
+    _shown(qtbot, pane, lambda: pane.set_candidates([LADDER.replace(series="E24", ron_high=40.0,
+                                                                    ron_low=25.0, load_c=20e-12)]))
+    pane.limit_edits["iref_max"].setText("1m")
+    pane.limit_edits["settling_max"].setText("1u")
+    with qtbot.waitSignal(pane.suggestions_changed, timeout=30000) as blocker:
+        pane.button_suggest.click()
+    found = blocker.args[0]
+    assert pane.table_suggest.rowCount() == len(found)
+    assert pane.table_suggest.item(0, 0).text() == "7.5 kΩ"
+    pane.table_suggest.selectRow(0)
+    with qtbot.waitSignal(pane.candidate_requested) as req:
+        pane.button_use_value.click()
+    assert req.args[0].unit_r == 7.5e3
+    assert req.args[0].series == "E24"
+
+
+def test_bad_limit_is_explained(qtbot, pane):
+    _shown(qtbot, pane, lambda: pane.set_candidates([LADDER]))
+    pane.limit_edits["rout_max"].setText("lots")
+    pane.button_suggest.click()
+    assert "rout_max" in pane.label_status.text()
