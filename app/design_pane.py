@@ -1,0 +1,190 @@
+"""The values pane: every setting of the candidate being edited, typed in engineering notation.
+
+Widgets are built from ``core.design.FIELDS`` and ``core.types`` and bound by name
+(:mod:`rungwise.app.binding`). A refused entry is marked at its field with the allowed range and
+never reaches the design.
+"""
+
+from __future__ import annotations
+
+from PySide6.QtCore import Qt, QTimer, Signal
+from PySide6.QtWidgets import (
+    QComboBox,
+    QFormLayout,
+    QHBoxLayout,
+    QLabel,
+    QLineEdit,
+    QSpinBox,
+    QVBoxLayout,
+    QWidget,
+)
+
+from rungwise.core.design import FIELDS, Design
+from rungwise.core.errors import DesignError
+from rungwise.core.types import OUTPUTS_BY_TOPOLOGY, TOPOLOGIES
+
+from .binding import FieldBinder
+
+COMMIT_DELAY_MS = 450
+"""A moving spin box counts as a finished edit after this pause, ms."""
+
+HINTS: dict[str, str] = {
+    "ref_r": "Resistance of the reference source itself (0 = ideal).",
+    "ron_high": "On-resistance of the switch or port pin that drives a leg to the reference.",
+    "ron_low": "On-resistance of the switch or port pin that drives a leg to ground.",
+    "load_r": "Resistance the output drives; type 'open' for none.",
+    "gain": "Gain of the buffer amplifier (buffered outputs only).",
+    "feedback_r": "Feedback resistor of the summing or transimpedance amplifier; empty = the value "
+                  "giving the ideal full scale.",
+}
+"""Tooltips for fields whose meaning is not obvious from the label."""
+
+REFUSED_STYLE = "*[refused=\"true\"] { border: 2px solid #c23b3b; border-radius: 3px; }"
+"""How a field holding a refused entry is marked."""
+
+
+class DesignPane(QWidget):
+    """Edits one design; emits the new design after each accepted entry.
+
+    Signals
+    -------
+    design_edited(Design, str) — an accepted, finished entry with its description;
+    design_previewed(Design) — a value that is still moving (spin box), for live curves only.
+    """
+
+    design_edited = Signal(object, str)
+    design_previewed = Signal(object)
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.setObjectName("design_pane")
+        self._design: Design | None = None
+        self._pending: tuple[str, str] | None = None
+        self._build()
+        self.setStyleSheet(REFUSED_STYLE)
+        self.binder = FieldBinder(self)
+        self.binder.set_choices("topology", [(t, t) for t in TOPOLOGIES])
+        self.binder.entry_finished.connect(self._on_finished)
+        self.binder.entry_changing.connect(self._on_changing)
+        self._commit_timer = QTimer(self, singleShot=True, interval=COMMIT_DELAY_MS)
+        self._commit_timer.timeout.connect(self.commit_pending)
+
+    def _build(self) -> None:
+        outer = QVBoxLayout(self)
+        outer.setContentsMargins(0, 0, 0, 0)
+        self.heading = QLabel(self, objectName="label_heading")
+        self.heading.setWordWrap(True)
+        outer.addWidget(self.heading)
+        form = QFormLayout()
+        form.setFieldGrowthPolicy(QFormLayout.FieldGrowthPolicy.AllNonFixedFieldsGrow)
+        form.setRowWrapPolicy(QFormLayout.RowWrapPolicy.WrapLongRows)
+        outer.addLayout(form)
+        outer.addStretch(1)
+        for key, label in (("topology", "Network"), ("output", "Output")):
+            combo = QComboBox(self, objectName=f"combo_{key}")
+            combo.setMinimumContentsLength(14)
+            self._add_row(form, key, label, combo, "")
+        for key, spec in FIELDS.items():
+            if spec.integer:
+                w: QWidget = QSpinBox(self, objectName=f"spin_{key}")
+                w.setRange(int(spec.low), int(spec.high))
+                w.setKeyboardTracking(False)
+                unit = spec.unit
+            else:
+                w = QLineEdit(self, objectName=f"edit_{key}")
+                w.setPlaceholderText(f"default, {spec.unit}" if spec.optional else spec.unit)
+                w.setMinimumWidth(w.fontMetrics().horizontalAdvance("0.000000 kΩ"))
+                unit = ""  # the text itself carries the unit (``10 kΩ``)
+            w.setToolTip(HINTS.get(key, ""))
+            self._add_row(form, key, spec.label, w, unit)
+
+    def _add_row(self, form: QFormLayout, key: str, label: str, w: QWidget, unit: str) -> None:
+        box = QWidget(self)
+        col = QVBoxLayout(box)
+        col.setContentsMargins(0, 0, 0, 0)
+        col.setSpacing(1)
+        row = QHBoxLayout()
+        row.addWidget(w, 1)
+        if unit:
+            row.addWidget(QLabel(unit, box, objectName=f"unit_{key}"))
+        col.addLayout(row)
+        err = QLabel(box, objectName=f"error_{key}")
+        err.setWordWrap(True)
+        err.setStyleSheet("color: #c23b3b;")
+        err.setVisible(False)
+        col.addWidget(err)
+        caption = QLabel(label, self)
+        caption.setToolTip(HINTS.get(key, ""))
+        caption.setBuddy(w)
+        form.addRow(caption, box)
+
+    # --- model → widgets -------------------------------------------------------------------------
+    @property
+    def design(self) -> Design | None:
+        """The design shown."""
+        return self._design
+
+    def set_design(self, design: Design, same_candidate: bool = True) -> None:
+        """Show ``design``; on the same candidate, refused entries keep their text."""
+        self._commit_timer.stop()
+        self._pending = None
+        self._design = design
+        self.binder.set_choices("output", [(o, o) for o in OUTPUTS_BY_TOPOLOGY[design.topology]])
+        self.binder.show(design, keep_refused=same_candidate)
+        self.heading.setText(f"<b>{design.label}</b>")
+
+    # --- widgets → model -------------------------------------------------------------------------
+    def _try(self, key: str, text: str) -> Design | None:
+        assert self._design is not None
+        try:
+            if key == "topology":
+                return self._design.replace(topology=text)
+            return self._design.with_settings({key: text})
+        except DesignError as exc:
+            label = FIELDS[key].label if key in FIELDS else key
+            self.binder.mark_error(key, f"{label}: {exc.reason}")
+            return None
+
+    def _on_finished(self, key: str, text: str) -> None:
+        self._commit_timer.stop()
+        self._pending = None
+        if self._design is None:
+            return
+        new = self._try(key, text)
+        if new is None:
+            return
+        self.binder.clear_error(key)
+        if new.to_dict() == self._design.to_dict():
+            self.binder.show(new, keep_refused=True)
+            return
+        label = FIELDS[key].label if key in FIELDS else key
+        self.design_edited.emit(new, f"{label} of {new.label} = {text}")
+
+    def _on_changing(self, key: str, text: str) -> None:
+        if self._design is None:
+            return
+        self._pending = (key, text)
+        try:
+            preview = self._design.with_settings({key: text})
+        except DesignError:
+            return
+        self.design_previewed.emit(preview)
+        self._commit_timer.start()
+
+    def commit_pending(self) -> None:
+        """Finish a moving value now (called after a pause, or by tests)."""
+        self._commit_timer.stop()
+        if self._pending is not None:
+            key, text = self._pending
+            self._pending = None
+            self._on_finished(key, text)
+
+    def has_pending(self) -> bool:
+        """Whether a moving value waits to be committed."""
+        return self._pending is not None
+
+    def focus_field(self, key: str) -> None:
+        """Put the keyboard focus in ``key``'s widget."""
+        w = self.binder.inputs.get(key)
+        if w is not None:
+            w.setFocus(Qt.FocusReason.OtherFocusReason)

@@ -1,0 +1,86 @@
+"""Candidates added and removed reach the curves and the table; stale results are dropped."""
+
+from __future__ import annotations
+
+import threading
+
+from rungwise.app.comparison_state import MAX_CANDIDATES
+from rungwise.app.live_results import CHANNEL, LiveResults, ResultSet, nominal_job
+from rungwise.app.workers import run_sync
+from rungwise.core.demo import demo_candidates
+
+
+def _curve_count(window) -> int:
+    counts = {len(c) for c in window.plots.curves.values()}
+    assert len(counts) == 1  # every plot draws every candidate
+    return counts.pop()
+
+
+def test_add_and_remove_update_curves_and_table(window, qtbot):
+    state = window.model.state
+    assert _curve_count(window) == 2
+    assert window.table.columnCount() == 2
+    with qtbot.waitSignal(window.live.results_changed, timeout=10000):
+        window.candidates_pane.button_add.click()
+    assert len(state.candidates) == 3
+    assert state.selected == 2
+    assert _curve_count(window) == 3
+    assert window.table.columnCount() == 3
+    added = state.candidates[2]
+    assert window.table.horizontalHeaderItem(2).text().endswith(added.name)
+    # the new curve is drawn in the new candidate's colour with its data
+    curve = window.plots.curves["output"][2]
+    assert curve.opts["pen"].color().name() == added.colour
+    x, _y = curve.getOriginalDataset()
+    assert len(x) == 2 ** added.design.bits
+    with qtbot.waitSignal(window.live.results_changed, timeout=10000):
+        window.candidates_pane.button_remove.click()
+    assert _curve_count(window) == 2
+    assert window.table.columnCount() == 2
+    assert [window.table.horizontalHeaderItem(i).text()[2:] for i in range(2)] == [
+        c.name for c in state.candidates]
+
+
+def test_at_most_four_candidates(window, qtbot):
+    state = window.model.state
+    while state.can_add():
+        window.candidates_pane.button_duplicate.click()
+    assert len(state.candidates) == MAX_CANDIDATES
+    assert not window.candidates_pane.button_add.isEnabled()
+    assert len({c.name for c in state.candidates}) == MAX_CANDIDATES
+    assert len({c.colour for c in state.candidates}) == MAX_CANDIDATES
+    qtbot.waitUntil(lambda: window.table.columnCount() == MAX_CANDIDATES, timeout=10000)
+
+
+def test_superseded_results_are_dropped(qtbot):
+    live = LiveResults()
+    got: list[ResultSet] = []
+    live.results_changed.connect(got.append)
+    old = [d.replace(bits=14) for d in demo_candidates()]
+    new = [d.replace(bits=5) for d in demo_candidates()]
+    live.request(old, now=True)
+    live.request(new, now=True)
+    qtbot.waitUntil(lambda: not live.runner.is_busy(CHANNEL), timeout=10000)
+    assert live.shutdown()
+    assert len(got) == 1
+    assert [r.design.bits for r in got[0].results] == [5, 5]
+
+
+def test_nominal_job_reuses_cache_and_stops_when_cancelled():
+    designs = demo_candidates()
+    first = run_sync(nominal_job(designs, {}))
+    assert first.computed == 2
+    cache = dict(zip(first.keys, first.results, strict=True))
+    again = run_sync(nominal_job([designs[0], designs[1].replace(bits=6)], cache))
+    assert again.computed == 1
+    assert again.results[0] is first.results[0]
+    cancel = threading.Event()
+    cancel.set()
+    assert run_sync(nominal_job(designs, {}), cancel) is None
+
+
+def test_error_curve_is_output_minus_ideal_line():
+    res = run_sync(nominal_job(demo_candidates()[:1], {})).results[0]
+    ev = res.evaluation
+    k = 200
+    assert res.error_v[k] == ev.vout[k] - ev.summary["ideal_lsb"] * k
