@@ -25,6 +25,7 @@ fast is worthless).
 from __future__ import annotations
 
 import argparse
+import os
 import sys
 import time
 from pathlib import Path
@@ -177,6 +178,9 @@ def main(argv: list[str] | None = None) -> int:
     use_spice = not args.no_spice and spice.ngspice_path() is not None
     print(f"Rungwise engine benchmark: {args.bits} bits = {n_codes} codes; best of {args.repeat}; "
           f"target {TARGET_MS:g} ms for solve+lin")
+    load = os.getloadavg()[0] if hasattr(os, "getloadavg") else float("nan")
+    print(f"machine: {os.cpu_count()} cores, load average {load:.1f} at the start "
+          "(other work on the machine slows every column)")
     print(f"dense numpy.linalg.solve baseline timed on {n_dense} codes and scaled ×"
           f"{n_codes / n_dense:g}" + ("" if n_dense < n_codes else " (all codes)"))
     if use_spice:
