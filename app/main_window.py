@@ -96,12 +96,14 @@ class MainWindow(QMainWindow):
 
         self.plots = CodePlotsView(self)
         self.tabs = QTabWidget(self, objectName="tabs_analysis")
+        self.tabs.setMinimumWidth(420)
         self.tabs.addTab(self.plots, "Curves")
         for entry in VIEWS:
             self._add_view(entry)
 
         self.table = CompareTable(self)
         right = QGroupBox("Figures", self, objectName="group_figures")
+        right.setMinimumWidth(330)
         lay = QVBoxLayout(right)
         lay.addWidget(self.table)
         note = QLabel(f"{'◆'} marks the best value in a row (hover for the rule).", right)
@@ -139,7 +141,11 @@ class MainWindow(QMainWindow):
             view = QLabel(f"This view could not be opened:\n{type(exc).__name__}: {exc}")
             view.setAlignment(Qt.AlignmentFlag.AlignCenter)
         view.setObjectName(entry.key)
-        self.tabs.addTab(view, entry.title)
+        holder = QScrollArea(self.tabs, objectName=f"scroll_{entry.key}")
+        holder.setWidget(view)  # a view's own minimum size must not squeeze the other panels
+        holder.setWidgetResizable(True)
+        holder.setFrameShape(QScrollArea.Shape.NoFrame)
+        self.tabs.addTab(holder, entry.title)
         self.views[entry.key] = view
         signal = getattr(view, "candidate_requested", None)
         if signal is not None:
