@@ -87,8 +87,10 @@ def paint_plot(painter: QPainter, rect: QRectF, spec: PlotSpec) -> None:
     painter.setPen(frame)
     painter.drawRect(area)
     for i, s in enumerate(spec.series):
-        pen = QPen(QColor(PALETTE[i % len(PALETTE)]))
+        pen = QPen(QColor(PALETTE[(i if s.colour is None else s.colour) % len(PALETTE)]))
         pen.setWidthF(unit * 0.12)
+        if s.dashed:
+            pen.setStyle(Qt.PenStyle.DashLine)
         painter.setPen(pen)
         for rx, ry in _runs(np.asarray(s.x, float), np.asarray(s.y, float)):
             if rx.size < 2:

@@ -16,11 +16,16 @@ from rungwise.core import Evaluation
 
 @dataclass(frozen=True)
 class Series:
-    """One curve: ``x`` and ``y`` of equal length (non-finite points are left out of the line)."""
+    """One curve: ``x`` and ``y`` of equal length (non-finite points are left out of the line).
+
+    ``colour`` picks the palette entry (default: the curve's position); ``dashed`` draws it dashed.
+    """
 
     label: str
     x: np.ndarray
     y: np.ndarray
+    colour: int | None = None
+    dashed: bool = False
 
 
 @dataclass(frozen=True)
@@ -51,6 +56,24 @@ def comparison_plots(evs: Sequence[Evaluation]) -> list[PlotSpec]:
         PlotSpec("dnl", "DNL after each code", "code", "DNL (LSB)", per_code("dnl")),
         PlotSpec("rout", "Output resistance against code", "code", "Rout (Ω)", per_code("rout")),
     ]
+
+
+def spread_plot(evs: Sequence[Evaluation], stats: Sequence[object | None]) -> PlotSpec | None:
+    """INL bands over the Monte Carlo trials (1 %, 50 %, 99 % per code) of each candidate with
+    statistics, or ``None`` when none has them."""
+    series = []
+    for i, (ev, s) in enumerate(zip(evs, stats, strict=True)):
+        if s is None:
+            continue
+        bands = np.asarray(s.inl_envelope, dtype=float)
+        codes = np.asarray(s.envelope_codes, dtype=float)
+        for pct, row in zip((1, 50, 99), bands, strict=True):
+            series.append(Series(f"{ev.design.label} {pct} %", codes, row, colour=i,
+                                 dashed=pct != 50))
+    if not series:
+        return None
+    return PlotSpec("inl_spread", "INL over the random trials (1 %, 50 %, 99 % at each code)", "code",
+                    "INL (LSB)", tuple(series))
 
 
 def nice_ticks(lo: float, hi: float, target: int = 6) -> np.ndarray:

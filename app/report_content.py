@@ -21,7 +21,7 @@ from rungwise.core.review import Recommendation, cautions, describe_targets, rec
 from rungwise.core.units import format_value
 
 from .export_table import table_html_fragment
-from .plot_specs import PlotSpec, comparison_plots
+from .plot_specs import PlotSpec, comparison_plots, spread_plot
 
 MAX_PART_ROWS = 40
 """Parts listed per candidate in the report; the rest are counted (all are in the exports)."""
@@ -52,8 +52,9 @@ class ReviewData:
 
     @property
     def plots(self) -> list[PlotSpec]:
-        """The plots the report embeds."""
-        return comparison_plots(self.evs)
+        """The plots the report embeds (the INL spread only when statistics were run)."""
+        spread = spread_plot(self.evs, self.stats)
+        return comparison_plots(self.evs) + ([spread] if spread is not None else [])
 
 
 def gather(doc: DesignFile, title: str = "Design review", with_stats: bool = True) -> ReviewData:

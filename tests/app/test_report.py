@@ -64,19 +64,26 @@ def test_report_text_matches_the_engine(tmp_path: Path, qapp, capsys):
     assert rec.text.split(" — ")[0] in capsys.readouterr().err
 
 
-def test_report_embeds_the_four_plots(tmp_path: Path, qapp):
+def _images(pdf: Path) -> list[list[str]]:
+    listing = subprocess.run(["pdfimages", "-list", str(pdf)], capture_output=True, text=True,
+                             check=True).stdout.splitlines()[2:]
+    return [ln.split() for ln in listing if ln.split()[2] == "image"]
+
+
+@pytest.mark.parametrize(("stats", "plots"), [(False, 4), (True, 5)])
+def test_report_embeds_each_plot_once(tmp_path: Path, qapp, stats, plots):
     if shutil.which("pdfimages") is None:
         pytest.skip("pdfimages (poppler-utils) not installed")
     path, _ = _design(tmp_path)
     pdf = tmp_path / "review.pdf"
-    assert run_cli(["report", str(path), "-o", str(pdf), "--no-stats"]) == 0
-    listing = subprocess.run(["pdfimages", "-list", str(pdf)], capture_output=True, text=True,
-                             check=True).stdout.splitlines()[2:]
-    images = [ln.split() for ln in listing if ln.split()[2] == "image"]
-    # four plots, each drawn once (a plot cut by a page break would be listed twice)
-    assert len(images) == 4
-    assert len({img[10] for img in images}) == 4
-    assert "Statistics were not computed" in _pdf_text(pdf)
+    assert run_cli(["report", str(path), "-o", str(pdf), *([] if stats else ["--no-stats"])]) == 0
+    images = _images(pdf)
+    # four comparison plots (+ the INL spread with statistics), each drawn once: a plot cut by a
+    # page break would be listed twice
+    assert len(images) == plots
+    assert len({img[10] for img in images}) == plots
+    text = _pdf_text(pdf)
+    assert ("Statistics were not computed" in text) is not stats
 
 
 def test_report_says_plainly_when_no_candidate_meets(tmp_path: Path, qapp):
