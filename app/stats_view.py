@@ -76,6 +76,7 @@ class StatisticsPane(QWidget):
         self.setObjectName("stats_pane")
         self._designs: list[Design] = []
         self._outcome: StatsOutcome | None = None
+        self._stale = False
         self.runner = JobRunner(self)
         self.runner.progress.connect(self._on_progress)
         self.runner.finished.connect(self._on_finished)
@@ -86,19 +87,19 @@ class StatisticsPane(QWidget):
     # --- layout --------------------------------------------------------------------------------
     def _build(self) -> None:
         form = QFormLayout()
-        self.combo_grade = QComboBox(objectName="combo_grade")
+        self.combo_grade = QComboBox(objectName="combo_stats_grade")
         self.combo_grade.addItem("As each design says", None)
         for g in STANDARD_GRADES:
             self.combo_grade.addItem(grade_text(g), g)
-        self.combo_criterion = QComboBox(objectName="combo_criterion")
+        self.combo_criterion = QComboBox(objectName="combo_stats_criterion")
         for key, label in CRITERIA.items():
             self.combo_criterion.addItem(label, key)
-        self.spin_target = QDoubleSpinBox(objectName="spin_target", decimals=2, minimum=1.0,
+        self.spin_target = QDoubleSpinBox(objectName="spin_stats_target", decimals=2, minimum=1.0,
                                           maximum=99.99, value=99.0, suffix=" %")
-        self.spin_trials = QSpinBox(objectName="spin_trials", minimum=10, maximum=1_000_000,
+        self.spin_trials = QSpinBox(objectName="spin_stats_trials", minimum=10, maximum=1_000_000,
                                     value=2000, singleStep=1000)
-        self.edit_seed = QLineEdit("1", objectName="edit_seed")
-        self.button_new_seed = QPushButton("New seed", objectName="button_new_seed")
+        self.edit_seed = QLineEdit("1", objectName="edit_stats_seed")
+        self.button_new_seed = QPushButton("New seed", objectName="button_stats_new_seed")
         self.button_new_seed.clicked.connect(self._new_seed)
         seed_row = QHBoxLayout()
         seed_row.addWidget(self.edit_seed)
@@ -108,33 +109,36 @@ class StatisticsPane(QWidget):
         form.addRow("Target yield", self.spin_target)
         form.addRow("Boards (trials)", self.spin_trials)
         form.addRow("Seed", seed_row)
-        self.check_auto = QCheckBox("Rerun after each finished edit", objectName="check_auto")
+        self.check_auto = QCheckBox("Rerun after each finished edit", objectName="check_stats_auto")
         self.check_auto.setChecked(True)
-        self.button_run = QPushButton("Run", objectName="button_run")
-        self.button_cancel = QPushButton("Cancel", objectName="button_cancel", enabled=False)
+        self.button_run = QPushButton("Run", objectName="button_stats_run")
+        self.button_cancel = QPushButton("Cancel", objectName="button_stats_cancel", enabled=False)
         self.button_run.clicked.connect(self.run)
         self.button_cancel.clicked.connect(self.cancel)
-        self.progress = QProgressBar(objectName="progress", minimum=0, maximum=1000, value=0)
-        self.label_seed = QLabel("No run yet", objectName="label_seed")
-        self.label_status = QLabel("", objectName="label_status", wordWrap=True)
+        self.progress = QProgressBar(objectName="progress_stats", minimum=0, maximum=1000, value=0)
+        self.label_seed = QLabel("No run yet", objectName="label_stats_seed")
+        self.label_status = QLabel("", objectName="label_stats_status", wordWrap=True)
         buttons = QHBoxLayout()
         for w in (self.button_run, self.button_cancel, self.progress):
             buttons.addWidget(w)
-        self.table = QTableWidget(0, len(COLUMNS), objectName="table_results")
+        self.table = QTableWidget(0, len(COLUMNS), objectName="table_stats")
         self.table.setHorizontalHeaderLabels(list(COLUMNS))
         self.table.setEditTriggers(QTableWidget.EditTrigger.NoEditTriggers)
         self.table.horizontalHeader().setStretchLastSection(True)
-        self.combo_candidate = QComboBox(objectName="combo_candidate")
+        self.combo_candidate = QComboBox(objectName="combo_stats_candidate")
         self.combo_candidate.currentIndexChanged.connect(self._show_candidate)
-        self.plot_hist = pg.PlotWidget(objectName="plot_hist", title="Boards by worst error")
+        self.plot_hist = pg.PlotWidget(title="Boards by worst error")
+        self.plot_hist.setObjectName("plot_stats_hist")
         self.plot_hist.setLabel("bottom", "max |error| (LSB)")
         self.plot_hist.setLabel("left", "boards")
         self.plot_hist.addLegend()
-        self.plot_envelope = pg.PlotWidget(objectName="plot_envelope", title="INL spread against code")
+        self.plot_envelope = pg.PlotWidget(title="INL spread against code")
+        self.plot_envelope.setObjectName("plot_stats_envelope")
         self.plot_envelope.setLabel("bottom", "code")
         self.plot_envelope.setLabel("left", "INL (LSB)")
         self.plot_envelope.getAxis("left").enableAutoSIPrefix(False)
-        self.plot_yield = pg.PlotWidget(objectName="plot_yield", title="Yield against part grade")
+        self.plot_yield = pg.PlotWidget(title="Yield against part grade")
+        self.plot_yield.setObjectName("plot_stats_yield")
         self.plot_yield.setLogMode(x=True, y=False)
         self.plot_yield.setLabel("bottom", "part tolerance ± (%)")
         self.plot_yield.setLabel("left", "yield (%)")
@@ -158,11 +162,20 @@ class StatisticsPane(QWidget):
 
     # --- the view contract ---------------------------------------------------------------------
     def set_candidates(self, designs: list[Design]) -> None:
-        """New candidates after a finished edit; reruns at once when "Rerun" is ticked."""
+        """New candidates after a finished edit; reruns when "Rerun" is ticked — at once if the
+        view is on screen, else as soon as it is shown (no work for a hidden tab)."""
         designs = list(designs)
-        changed = designs != self._designs
+        if designs == self._designs:
+            return
         self._designs = designs
-        if changed and self.check_auto.isChecked() and designs:
+        self._stale = bool(designs) and self.check_auto.isChecked()
+        if self._stale and self.isVisible():
+            self.run()
+
+    def showEvent(self, event) -> None:
+        """Run the rerun a finished edit asked for while the view was hidden."""
+        super().showEvent(event)
+        if self._stale and self.check_auto.isChecked():
             self.run()
 
     def shutdown(self) -> None:
@@ -185,6 +198,7 @@ class StatisticsPane(QWidget):
         req = self.request()
         if req is None or not req.designs:
             return
+        self._stale = False
         self.label_seed.setText(f"Seed {req.seed} · {req.trials} boards per candidate and grade")
         self.label_status.setText("Running…")
         self.progress.setValue(0)

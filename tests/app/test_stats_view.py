@@ -84,12 +84,22 @@ def test_cancel_stops_the_run_and_leaves_no_worker(qtbot, pane):
 
 
 def test_finished_edit_reruns_only_when_asked(qtbot, pane):
+    pane.show()
     pane.set_candidates([LADDER])
     assert not pane.runner.is_busy("statistics")
     pane.check_auto.setChecked(True)
     with qtbot.waitSignal(pane.result_changed, timeout=60000):
         pane.set_candidates([LADDER.replace(bits=6)])
     assert pane.table.item(0, 0).text() == "Ladder"
+
+
+def test_a_hidden_view_waits_until_shown(qtbot, pane):
+    pane.check_auto.setChecked(True)
+    pane.set_candidates([LADDER.replace(bits=5)])
+    assert not pane.runner.is_busy("statistics")
+    with qtbot.waitSignal(pane.result_changed, timeout=60000):
+        pane.show()
+    assert pane.table.rowCount() == 1
 
 
 def test_bad_seed_is_refused_in_words(qtbot, pane):
@@ -112,3 +122,10 @@ def test_job_runs_synchronously_and_reports_progress():
                                                    trials=50, grade=0.01)))
     assert on_chip.curves[0] is None
     assert "area law" in on_chip.notes[0]
+
+
+def test_object_names_are_unique_and_prefixed(pane):
+    from PySide6.QtWidgets import QWidget
+
+    names = [w.objectName() for w in pane.findChildren(QWidget) if w.objectName().count("_stats")]
+    assert len(names) == len(set(names)) == 17
