@@ -71,18 +71,22 @@ def fit_bit_weights(codes: np.ndarray, volts: np.ndarray, bits: int) -> BitFit:
     weights = np.full(bits, np.nan)
     stderr = np.full(bits, np.nan)
     identifiable = toggles.copy()
-    if np.linalg.matrix_rank(x) < x.shape[1]:
+    q, r = np.linalg.qr(x) if n >= x.shape[1] else (None, None)
+    diag = np.abs(np.diag(r)) if r is not None else np.zeros(1)
+    if r is None or diag.min() <= 1e-9 * diag.max():
         identifiable[:] = False
         coef = np.array([np.mean(v)])
         x = np.ones((n, 1))
+        r_inv = None
     else:
-        coef, *_ = np.linalg.lstsq(x, v, rcond=None)
+        r_inv = np.linalg.inv(r)
+        coef = r_inv @ (q.T @ v)
         weights[toggles] = coef[1:]
     residual = v - x @ coef
     dof = n - x.shape[1]
-    if dof > 0 and identifiable.any():
+    if dof > 0 and r_inv is not None and identifiable.any():
         s2 = float(residual @ residual) / dof
-        cov = s2 * np.linalg.inv(x.T @ x)
+        cov = s2 * (r_inv @ r_inv.T)  # (XᵀX)⁻¹ = R⁻¹R⁻ᵀ
         stderr[identifiable] = np.sqrt(np.diag(cov)[1:])
     lsb = float(np.sum(weights) / (2 ** bits - 1)) if identifiable.all() else float("nan")
     if lsb == 0 or not np.isfinite(lsb):

@@ -8,7 +8,8 @@ every part's effect on the output at every measured code at once. For each part 
 
 is fitted by least squares in (a, s, d): a and s take out an unknown offset and gain (reference
 voltage, meter calibration, buffer gain) so that only the *shape* of the curve blames a part; d is
-found by a few Gauss–Newton steps on the exact network (each step is one batched solve). With
+found by Gauss–Newton steps on the exact network (each step is one batched solve): the first
+step for every part, further ones for the :data:`REFINE` best. With
 ``absolute=True`` a = 0 and s = 1: the measured volts are trusted as they are.
 
 Parts are ranked by the residual left after their fit; the best one's residual is what a single
@@ -32,8 +33,22 @@ from .reading import MeasurementError
 STEP = 1e-4
 """Relative change of a part used for finite-difference sensitivities (fraction)."""
 
-ITERATIONS = 5
-"""Gauss–Newton steps per part."""
+ITERATIONS = 6
+"""Most Gauss–Newton steps per part."""
+
+REFINE = 6
+"""After the first step (all parts), only this many best-fitting parts are refined further and
+solved exactly; the rest keep their one-step (linearised) fit."""
+
+CONVERGED = 1e-8
+"""A deviation step smaller than this (fraction) ends the refinement."""
+
+FULL_RANGE_SHARE = 4
+"""Solve every code (then pick the measured ones) when at most this many codes exist per measured
+code; otherwise solve only the measured codes."""
+
+TRIAL_CODE_ELEMENTS = 1 << 20
+"""Largest trials × codes solved in one call on the every-code path."""
 
 TIE_MARGIN = 0.05
 """Relative margin on the residual RMS within which another part ties with the best one."""
@@ -127,12 +142,20 @@ def trial_curves(design: Design, part_ids: list[str], factors: np.ndarray, codes
             scale[t, 0] = f
         else:
             raise MeasurementError(f"part {pid!r} is not in the {design.topology} network")
+    codes = np.asarray(codes, dtype=np.int64)
     if not ohms:  # a solve without per-trial arrays returns one row; broadcast it
-        v = solve(net, codes=codes).vout[None, :] * np.ones((n_trials, 1))
-    else:
-        v = solve(net, ohms=ohms, codes=codes).vout
-        v = np.broadcast_to(v, (n_trials, len(codes)))
-    return v * scale
+        return solve(net, codes=codes).vout[None, :] * np.ones((n_trials, 1)) * scale
+    if net.n_codes > FULL_RANGE_SHARE * len(codes):
+        return np.broadcast_to(solve(net, ohms=ohms, codes=codes).vout,
+                               (n_trials, len(codes))) * scale
+    # most codes measured: solve every code (the solver's fastest exact layout) in trial chunks
+    step = max(1, TRIAL_CODE_ELEMENTS // net.n_codes)
+    rows = []
+    for start in range(0, n_trials, step):
+        part = {pid: arr[start:start + step] for pid, arr in ohms.items()}
+        v = solve(net, ohms=part, codes=None).vout
+        rows.append(np.broadcast_to(v, (len(next(iter(part.values()))), net.n_codes))[:, codes])
+    return np.concatenate(rows, axis=0) * scale
 
 
 def _project_fit(y: np.ndarray, base: np.ndarray, sens: np.ndarray | None, absolute: bool):
@@ -182,26 +205,40 @@ def fit_suspects(design: Design, codes: np.ndarray, volts: np.ndarray, lsb: floa
     ssr0 = float(r0 @ r0)
     d = np.zeros(len(ids))
     norms = np.zeros(len(ids))
+    ssr_lin = np.full(len(ids), np.inf)
+    coef_lin: dict[int, np.ndarray] = {}
     active = np.ones(len(ids), dtype=bool)
-    for _ in range(ITERATIONS):
-        f = 1.0 + d
-        both = trial_curves(design, ids + ids, np.concatenate([f, f * (1.0 + STEP)]), codes)
-        base, pert = both[: len(ids)], both[len(ids):]
+    refine = list(range(len(ids)))
+    for iteration in range(ITERATIONS):
+        sel = [j for j in refine if active[j]]
+        if not sel:
+            break
+        f = 1.0 + d[sel]
+        chosen = [ids[j] for j in sel]
+        both = trial_curves(design, chosen + chosen, np.concatenate([f, f * (1.0 + STEP)]), codes)
+        base, pert = both[: len(sel)], both[len(sel):]
         sens = (pert - base) / (f * STEP)[:, None]
         largest = 0.0
-        for j in np.flatnonzero(active):
-            coef, _, norm = _project_fit(y, base[j], sens[j], absolute)
+        for i, j in enumerate(sel):
+            coef, r, norm = _project_fit(y, base[i], sens[i], absolute)
             norms[j] = norm
-            if norm <= 1e-9 * max(float(np.sqrt(sens[j] @ sens[j])), 1e-300) or norm == 0.0:
+            if norm <= 1e-9 * max(float(np.sqrt(sens[i] @ sens[i])), 1e-300) or norm == 0.0:
                 active[j] = False
                 continue
+            ssr_lin[j] = float(r @ r)
+            coef_lin[j] = coef[:-1] if not absolute else np.zeros(0)
             step = coef[-1] / (1.0 if absolute else coef[1])
             new = float(np.clip(d[j] + step, *DEVIATION_LIMITS))
             largest = max(largest, abs(new - d[j]))
             d[j] = new
-        if largest < 1e-10:
+        if iteration == 0:
+            refine = [int(j) for j in np.argsort(ssr_lin, kind="stable") if active[j]][:REFINE]
+        if largest < CONVERGED:
             break
-    final = trial_curves(design, ids, 1.0 + d, codes)
+    exact = [j for j in refine if active[j]]
+    final_rows = trial_curves(design, [ids[j] for j in exact], 1.0 + d[exact], codes) if exact \
+        else np.zeros((0, n))
+    final = dict(zip(exact, final_rows, strict=True))
     rows: list[tuple[float, Suspect, np.ndarray]] = []
     for j, p in enumerate(parts):
         if not active[j]:
@@ -209,8 +246,11 @@ def fit_suspects(design: Design, codes: np.ndarray, volts: np.ndarray, lsb: floa
                                          float("nan"), float(np.sqrt(ssr0 / n) / scale), 0.0,
                                          False), np.zeros(0)))
             continue
-        coef, r, _ = _project_fit(y, final[j], None, absolute)
-        ssr = float(r @ r)
+        if j in final:
+            coef, r, _ = _project_fit(y, final[j], None, absolute)
+            ssr = float(r @ r)
+        else:  # ranked below the refined parts: the one-step (linearised) fit is kept
+            coef, ssr = coef_lin[j], float(ssr_lin[j])
         dof = max(n - n_par, 1)
         gain = 1.0 if absolute else abs(float(coef[1])) or 1.0
         stderr = float(np.sqrt(ssr / dof) / (norms[j] * gain)) if n > n_par else float("nan")
@@ -231,7 +271,7 @@ def fit_suspects(design: Design, codes: np.ndarray, volts: np.ndarray, lsb: floa
         suspects=ranked, equivalent=ties,
         nominal_residual_rms_lsb=float(np.sqrt(ssr0 / n) / scale),
         offset=offset, gain=gain,
-        best_curve=final[best] if rows[best][1].identifiable else nominal_curve,
+        best_curve=final.get(best, nominal_curve),
     )
 
 
