@@ -19,9 +19,9 @@ from PySide6.QtWidgets import (
     QComboBox,
     QFileDialog,
     QGridLayout,
-    QHBoxLayout,
     QLabel,
     QPushButton,
+    QSizePolicy,
     QSpinBox,
     QSplitter,
     QTableWidget,
@@ -158,14 +158,19 @@ class DiagnosePane(QWidget):
         self.spin_levels.setSpecialValueText("one per code")
         self.spin_levels.setToolTip("Wanted output levels in the correction table")
         self.spin_levels.editingFinished.connect(self._recompute)
-        top = QHBoxLayout()
-        top.addWidget(self.button_load)
-        top.addWidget(self.label_source, 1)
-        top.addWidget(QLabel("Built design:"))
-        top.addWidget(self.combo_design)
-        top.addWidget(self.check_absolute)
-        top.addWidget(QLabel("Correction levels:"))
-        top.addWidget(self.spin_levels)
+        self.label_source.setSizePolicy(QSizePolicy.Policy.Ignored, QSizePolicy.Policy.Preferred)
+        self.combo_design.setSizeAdjustPolicy(
+            QComboBox.SizeAdjustPolicy.AdjustToMinimumContentsLengthWithIcon)
+        self.combo_design.setMinimumContentsLength(8)
+        top = QGridLayout()
+        top.addWidget(self.button_load, 0, 0)
+        top.addWidget(self.label_source, 0, 1, 1, 3)
+        top.addWidget(QLabel("Built:"), 1, 0, Qt.AlignmentFlag.AlignRight)
+        top.addWidget(self.combo_design, 1, 1)
+        top.addWidget(QLabel("Levels:"), 1, 2, Qt.AlignmentFlag.AlignRight)
+        top.addWidget(self.spin_levels, 1, 3)
+        top.addWidget(self.check_absolute, 2, 0, 1, 4)
+        top.setColumnStretch(1, 1)
 
         self.label_status = QLabel("Load a file of 'code, output' readings to begin.")
         self.label_status.setObjectName("label_status")
@@ -191,26 +196,34 @@ class DiagnosePane(QWidget):
         self.label_equivalent = QLabel("")
         self.label_equivalent.setObjectName("label_equivalent")
         self.label_equivalent.setWordWrap(True)
-        self.button_use = QPushButton("Use as-built design as a candidate")
+        self.button_use = QPushButton("Use as candidate")
+        self.button_use.setToolTip("Add the as-built design (the best suspect at its fitted value) "
+                                   "to the compared candidates")
         self.button_use.setObjectName("button_use_candidate")
         self.button_use.clicked.connect(self.use_as_candidate)
-        self.button_csv = QPushButton("Export correction CSV…")
+        self.button_csv = QPushButton("Export CSV…")
+        self.button_csv.setToolTip("Export the correction table as CSV")
         self.button_csv.setObjectName("button_export_csv")
         self.button_csv.clicked.connect(lambda: self._ask_export("csv"))
-        self.button_header = QPushButton("Export correction C header…")
+        self.button_header = QPushButton("Export C header…")
+        self.button_header.setToolTip("Export the correction table as a C array in a header file")
         self.button_header.setObjectName("button_export_header")
         self.button_header.clicked.connect(lambda: self._ask_export("h"))
         side = QWidget()
         grid = QGridLayout(side)
         grid.setContentsMargins(0, 0, 0, 0)
         grid.addWidget(self.table_findings, 0, 0, 1, 2)
-        grid.addWidget(QLabel("Which part explains the curve (best first)"), 1, 0, 1, 2)
+        title = QLabel("Which part explains the curve (best first)")
+        title.setWordWrap(True)
+        grid.addWidget(title, 1, 0, 1, 2)
         grid.addWidget(self.table_suspects, 2, 0, 1, 2)
         grid.addWidget(self.label_equivalent, 3, 0, 1, 2)
         grid.addWidget(self.button_use, 4, 0, 1, 2)
         grid.addWidget(self.button_csv, 5, 0)
         grid.addWidget(self.button_header, 5, 1)
 
+        for table in (self.table_findings, self.table_suspects):
+            table.setMinimumWidth(120)
         split = QSplitter(Qt.Orientation.Horizontal)
         split.addWidget(plots)
         split.addWidget(side)
@@ -228,6 +241,7 @@ class DiagnosePane(QWidget):
         w.setBackground("w")
         w.showGrid(x=True, y=True, alpha=0.3)
         w.setLabel("left", f"{label} ({unit})")
+        w.getAxis("left").enableAutoSIPrefix(False)
         w.setLabel("bottom", "Code")
         w.addLegend(offset=(8, 8))
         return w
