@@ -43,7 +43,7 @@ CRITERIA = {"monotonic": "Monotonic", "dnl": "|DNL| within target", "inl": "|INL
 """Decision rules offered, by ``grades.Criterion`` value."""
 
 COLUMNS = ("Candidate", "Engine", "Monotonic", "|DNL| ok", "|INL| ok", "All targets",
-           "Loosest grade for target")
+           "Loosest passing grade")
 """Columns of the results table."""
 
 PENS = ("#1f5fa8", "#c8651b", "#2f8a3a", "#8a2f7c", "#6b6b6b")
@@ -117,7 +117,9 @@ class StatisticsPane(QWidget):
         self.button_cancel.clicked.connect(self.cancel)
         self.progress = QProgressBar(objectName="progress_stats", minimum=0, maximum=1000, value=0)
         self.label_seed = QLabel("No run yet", objectName="label_stats_seed")
-        self.label_status = QLabel("", objectName="label_stats_status", wordWrap=True)
+        self.label_status = QLabel("", objectName="label_stats_status")  # lines end in "\n"
+        self.label_status.setAlignment(Qt.AlignmentFlag.AlignTop | Qt.AlignmentFlag.AlignLeft)
+        self.label_status.setMinimumHeight(4 * self.label_status.fontMetrics().lineSpacing())
         buttons = QHBoxLayout()
         for w in (self.button_run, self.button_cancel, self.progress):
             buttons.addWidget(w)
@@ -125,6 +127,7 @@ class StatisticsPane(QWidget):
         self.table.setHorizontalHeaderLabels(list(COLUMNS))
         self.table.setEditTriggers(QTableWidget.EditTrigger.NoEditTriggers)
         self.table.horizontalHeader().setStretchLastSection(True)
+        self.table.setMaximumHeight(160)
         self.combo_candidate = QComboBox(objectName="combo_stats_candidate")
         self.combo_candidate.currentIndexChanged.connect(self._show_candidate)
         self.plot_hist = pg.PlotWidget(title="Boards by worst error")
@@ -305,5 +308,4 @@ class StatisticsPane(QWidget):
         for row, style in zip(env, (Qt.PenStyle.DashLine, Qt.PenStyle.SolidLine, Qt.PenStyle.DashLine),
                               strict=True):
             self.plot_envelope.plot(codes, row, pen=pg.mkPen(PENS[2], width=1.5, style=style))
-        self.plot_envelope.setTitle(f"INL spread against code: 1 %, 50 %, 99 % of "
-                                    f"{r.envelope_trials} boards")
+        self.plot_envelope.setTitle(f"INL spread, 1/50/99 % of {r.envelope_trials} boards")
