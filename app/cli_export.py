@@ -64,9 +64,7 @@ def run(args: argparse.Namespace) -> int:
         if args.plots:
             from .export_plots import export_plots  # imports Qt: only when plots are asked for
 
-            folder = Path(args.plots)
-            folder.mkdir(parents=True, exist_ok=True)
-            written += export_plots(evs, folder, formats)
+            written += export_plots(evs, Path(args.plots), formats)
     except OSError as exc:
         raise RungwiseError(f"cannot write {exc.filename or 'the export'}: "
                             f"{exc.strerror or exc}") from None

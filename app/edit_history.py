@@ -119,6 +119,10 @@ class EditHistory(QObject):
         """The present state is what the file holds."""
         self.stack.setClean()
 
+    def mark_unsaved(self) -> None:
+        """No state in the history matches a file (for example restored from a crash copy)."""
+        self.stack.resetClean()
+
     def is_clean(self) -> bool:
         """Whether the state matches the last save (or the start)."""
         return self.stack.isClean()

@@ -13,8 +13,10 @@ from .qt_headless import gui_application
 
 def export_plots(evs: Sequence[Evaluation], folder: Path, formats: Sequence[str] = ("png", "svg")
                  ) -> list[Path]:
-    """Write every plot of ``comparison_plots(evs)`` as ``<folder>/<name>.<fmt>``; returns the paths."""
+    """Write every plot of ``comparison_plots(evs)`` as ``<folder>/<name>.<fmt>`` (the folder is
+    created if missing); returns the paths."""
     gui_application()
+    Path(folder).mkdir(parents=True, exist_ok=True)
     from .plot_paint import save_png, save_svg  # after the platform is chosen
 
     writers = {"png": save_png, "svg": save_svg}

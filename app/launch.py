@@ -28,4 +28,5 @@ def launch_window(args: list[str]) -> int:
     if target is not None:
         window.open_file(target)
     window.show()
+    window.files.offer_recovery()  # a comparison left unsaved by a crash
     return app.exec()

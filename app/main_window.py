@@ -38,6 +38,7 @@ from .design_pane import DesignPane
 from .live_results import LiveResults, ResultSet
 from .plot_views import PLOTS, CodePlotsView
 from .view_registry import VIEWS, ViewEntry
+from .window_files import install as install_file_features
 from .window_memory import load_memory, save_memory
 from .window_texts import ABOUT_HTML, APP_TITLE
 
@@ -69,6 +70,7 @@ class MainWindow(QMainWindow):
         self._build()
         self._build_menus()
         self._connect()
+        self.files = install_file_features(self)  # undo/redo, recent files, crash copies, exports
         self._memory = load_memory() if remember else {}
         self._restore_memory()
         self.pane.set_design(self.model.state.current.design, same_candidate=False)
@@ -316,6 +318,7 @@ class MainWindow(QMainWindow):
     def new_from_demo(self) -> None:
         """Start again from the built-in demo comparison."""
         self.model.replace_all(with_colours(demo_candidates()), None, "new comparison from the demo")
+        self.files.opened(None, None)
 
     def open_dialog(self) -> None:
         """Ask for a design file and open it."""
@@ -329,11 +332,13 @@ class MainWindow(QMainWindow):
         try:
             doc = designfile.load(Path(path))
         except RungwiseError as exc:
+            self.files.open_failed(Path(path))
             self.show_problem(f"Could not open {path}:\n{exc}")
             return False
         colours = doc.settings.get("colours", []) if isinstance(doc.settings, dict) else []
         self.model.replace_all(with_colours(doc.candidates[:4], colours if isinstance(colours, list)
                                             else []), Path(path), f"open {Path(path).name}")
+        self.files.opened(Path(path), doc)
         if len(doc.candidates) > 4:
             self.show_problem(f"{path} lists {len(doc.candidates)} candidates; the first four are "
                               "compared.")
@@ -353,15 +358,14 @@ class MainWindow(QMainWindow):
 
     def save_to(self, path: Path) -> bool:
         """Write the comparison atomically to ``path``; errors are shown, never raised."""
-        state = self.model.state
-        doc = designfile.DesignFile(candidates=state.designs,
-                                    settings={"colours": [c.colour for c in state.candidates]})
+        doc = self.files.document()  # keeps the open file's analysis settings and targets
         try:
             designfile.save(Path(path), doc)
         except (OSError, RungwiseError) as exc:
             self.show_problem(f"Could not save {path}:\n{exc}")
             return False
         self.model.set_file(Path(path), modified=False)
+        self.files.saved(Path(path))
         self.status_text.setText(f"Saved {path}")
         return True
 
@@ -452,9 +456,10 @@ class MainWindow(QMainWindow):
 
     def closeEvent(self, event: QCloseEvent) -> None:
         """Offer to save unsaved edits, remember the window, stop the workers."""
-        if self.ask_before_closing and self.model.modified and self.model.path is not None:
+        if self.ask_before_closing and self.model.modified:
+            where = f"to {self.model.path.name}" if self.model.path else "to this comparison in a file"
             answer = QMessageBox.question(
-                self, APP_TITLE, f"Save the changes to {self.model.path.name}?",
+                self, APP_TITLE, f"Save the changes {where}?",
                 QMessageBox.StandardButton.Save | QMessageBox.StandardButton.Discard
                 | QMessageBox.StandardButton.Cancel)
             if answer == QMessageBox.StandardButton.Cancel or (
@@ -463,5 +468,6 @@ class MainWindow(QMainWindow):
                 return
         if self.remember:
             save_memory(self.memory())
+        self.files.closed()
         self.shutdown()
         event.accept()

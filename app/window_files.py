@@ -1,0 +1,284 @@
+"""The main window's file features: undo/redo of finished edits, recent files, crash copies, the
+exports and the design-review report, as menu actions.
+
+``MainWindow`` creates one :class:`FileFeatures` and tells it when a file was opened or saved and
+when the window closes; everything else hooks onto the comparison state's one edit path.
+"""
+
+from __future__ import annotations
+
+from dataclasses import replace
+from pathlib import Path
+
+import platformdirs
+from PySide6.QtCore import QObject, Qt, QTimer
+from PySide6.QtGui import QAction, QGuiApplication, QKeySequence
+from PySide6.QtWidgets import QFileDialog, QMenu, QMessageBox, QWidget
+
+from rungwise.core import evaluate
+from rungwise.core.designfile import DesignFile
+from rungwise.core.errors import RungwiseError
+
+from .autosave import Autosave, Recovered
+from .comparison_state import with_colours
+from .edit_history import EditHistory
+from .recent_files import RecentFiles
+from .window_memory import CONFIG_ENV, config_dir
+
+AUTOSAVE_DELAY_MS = 1500
+"""A crash copy is written this long after the last finished edit, ms."""
+
+TABLE_FILTER = ("Excel workbook (*.xlsx);;CSV (*.csv);;Markdown (*.md);;HTML page (*.html)")
+
+
+def state_folder() -> Path:
+    """Where crash copies live: beside the settings when ``RUNGWISE_CONFIG_DIR`` is set (tests),
+    else the user state folder (platformdirs)."""
+    import os
+
+    if os.environ.get(CONFIG_ENV):
+        return config_dir() / "autosave"
+    return Path(platformdirs.user_state_dir("rungwise", appauthor=False)) / "autosave"
+
+
+class FileFeatures(QObject):
+    """Undo/redo, recent files, crash copies, exports and the report for ``window``.
+
+    ``folder`` holds the recent-files list; ``autosave_folder`` the crash copies (``None``: the
+    window does not remember anything, so neither is kept).
+    """
+
+    def __init__(self, window, folder: Path | None, autosave_folder: Path | None) -> None:
+        super().__init__(window)
+        self.window = window
+        self.analysis_targets: DesignFile | None = None  # analysis and targets of the open file
+        state = window.model.state
+        self.history = EditHistory(lambda: (state.candidates, state.selected), self._restore, self)
+        state.subscribe(self._on_state)
+        self.history.clean_changed.connect(self._on_clean)
+        self.recent = RecentFiles(folder) if folder is not None else None
+        self.autosave = Autosave(autosave_folder) if autosave_folder is not None else None
+        self._timer = QTimer(self, singleShot=True, interval=AUTOSAVE_DELAY_MS)
+        self._timer.timeout.connect(self.write_crash_copy)
+        self._build_actions()
+
+    # --- edits ---------------------------------------------------------------------------------
+    def _restore(self, snap, description: str) -> None:
+        candidates, selected = snap
+        self.window.model.state.apply_edit(candidates, description, selected=selected)
+
+    def _on_state(self, change: str) -> None:
+        if change == "candidates":
+            self.history.record(self.window.model.state.last_description)
+            if self.autosave is not None:
+                self._timer.start()
+
+    def _on_clean(self, clean: bool) -> None:
+        model = self.window.model
+        if model.modified == clean:
+            model.set_file(model.path, modified=not clean)
+
+    # --- what the window tells us ------------------------------------------------------------
+    def opened(self, path: Path | None, doc: DesignFile | None) -> None:
+        """A file (or the demo, ``path=None``) replaced the comparison: history starts afresh."""
+        self.analysis_targets = doc
+        self.history.reset()
+        if path is not None and self.recent is not None:
+            self.recent.add(path)
+
+    def open_failed(self, path: Path) -> None:
+        """A file could not be opened: drop it from the recent list."""
+        if self.recent is not None:
+            self.recent.remove(path)
+
+    def document(self) -> DesignFile:
+        """The comparison as a design file (keeping the open file's analysis and targets)."""
+        state = self.window.model.state
+        doc = DesignFile(candidates=state.designs,
+                         settings={"colours": [c.colour for c in state.candidates]})
+        if self.analysis_targets is not None:
+            doc = replace(doc, analysis=self.analysis_targets.analysis,
+                          targets=self.analysis_targets.targets)
+        return doc
+
+    def saved(self, path: Path) -> None:
+        """The comparison was written to ``path``."""
+        self.history.mark_saved()
+        if self.recent is not None:
+            self.recent.add(path)
+        if self.autosave is not None:
+            self._timer.stop()
+            self.autosave.discard()
+
+    def closed(self) -> None:
+        """The window closes normally: no crash copy is left behind."""
+        self._timer.stop()
+        if self.autosave is not None:
+            self.autosave.discard()
+
+    # --- crash copies --------------------------------------------------------------------------
+    def write_crash_copy(self) -> None:
+        """Write the crash copy now (only while there are unsaved edits)."""
+        if self.autosave is not None and self.window.model.modified:
+            self.autosave.write(self.document(), self.window.model.path)
+
+    def orphans(self) -> list[Recovered]:
+        """Crash copies left by programs that stopped without closing."""
+        return self.autosave.orphans() if self.autosave is not None else []
+
+    def recover(self, found: Recovered) -> None:
+        """Put a crash copy's comparison in the window (unsaved, tied to its original file)."""
+        colours = found.doc.settings.get("colours", [])
+        self.window.model.replace_all(with_colours(found.doc.candidates[:4],
+                                                   colours if isinstance(colours, list) else []),
+                                      found.source, "restore the unsaved comparison")
+        self.opened(None, found.doc)
+        self.history.mark_unsaved()
+        self.window.model.set_file(found.source, modified=True)
+        found.copy.unlink(missing_ok=True)
+        self.write_crash_copy()
+
+    def offer_recovery(self) -> None:
+        """Ask whether to restore the newest crash copy (others are kept for a later start)."""
+        found = self.orphans()
+        if not found:
+            return
+        newest = found[0]
+        where = f" of {newest.source.name}" if newest.source else ""
+        answer = QMessageBox.question(
+            self.window, "Restore unsaved work",
+            f"Rungwise stopped without closing last time. Restore the unsaved comparison{where}?",
+            QMessageBox.StandardButton.Yes | QMessageBox.StandardButton.Discard)
+        if answer == QMessageBox.StandardButton.Yes:
+            self.recover(newest)
+        else:
+            newest.copy.unlink(missing_ok=True)
+
+    # --- menus ---------------------------------------------------------------------------------
+    def _menu(self, title: str) -> QMenu:
+        for act in self.window.menuBar().actions():
+            if act.menu() is not None and act.text().replace("&", "") == title:
+                return act.menu()
+        return self.window.menuBar().addMenu(title)
+
+    def _build_actions(self) -> None:
+        w = self.window
+        edit = self._menu("Edit")
+        self.action_undo = self.history.stack.createUndoAction(self, "&Undo")
+        self.action_undo.setShortcut(QKeySequence.StandardKey.Undo)
+        self.action_undo.setObjectName("action_undo")
+        self.action_redo = self.history.stack.createRedoAction(self, "&Redo")
+        self.action_redo.setShortcut(QKeySequence.StandardKey.Redo)
+        self.action_redo.setObjectName("action_redo")
+        first = edit.actions()[0] if edit.actions() else None
+        edit.insertActions(first, [self.action_undo, self.action_redo])
+        edit.insertSeparator(first)
+
+        file_menu = self._menu("File")
+        anchor = next((a for a in file_menu.actions() if a.objectName() == "action_save"), None)
+        self.recent_menu = QMenu("Open &recent", w, objectName="menu_recent")
+        self.recent_menu.aboutToShow.connect(self._fill_recent)
+        file_menu.insertMenu(anchor, self.recent_menu)
+        export = QMenu("&Export", w, objectName="menu_export")
+        for text, slot, name in (
+                ("Figures &table (XLSX, CSV, Markdown, HTML)…", self.export_table_dialog,
+                 "action_export_table"),
+                ("&Per-code values (CSV)…", self.export_per_code_dialog, "action_export_per_code"),
+                ("All p&lots to a folder (PNG and SVG)…", self.export_plots_dialog,
+                 "action_export_plots"),
+                ("Design-&review report (PDF)…", self.report_dialog, "action_report")):
+            act = QAction(text, w, objectName=name)
+            act.triggered.connect(slot)
+            export.addAction(act)
+        quit_action = next((a for a in file_menu.actions() if a.objectName() == "action_quit"), None)
+        file_menu.insertMenu(quit_action, export)
+
+    def _fill_recent(self) -> None:
+        self.recent_menu.clear()
+        files = self.recent.files() if self.recent is not None else []
+        for p in files:
+            act = self.recent_menu.addAction(p.name)
+            act.setToolTip(str(p))
+            act.triggered.connect(lambda _c=False, path=p: self.window.open_file(path))
+        if not files:
+            self.recent_menu.addAction("(none)").setEnabled(False)
+
+    # --- exports -------------------------------------------------------------------------------
+    def _evaluations(self):
+        return [evaluate(d) for d in self.window.model.state.designs]
+
+    def _ask(self, title: str, name: str, filters: str) -> Path | None:
+        start = str((self.window.model.path.parent if self.window.model.path else Path.cwd()) / name)
+        path, _ = QFileDialog.getSaveFileName(self.window, title, start, filters)
+        return Path(path) if path else None
+
+    def _run(self, what: str, job) -> bool:
+        QGuiApplication.setOverrideCursor(Qt.CursorShape.WaitCursor)
+        try:
+            job()
+        except (OSError, ValueError, RungwiseError) as exc:
+            self.window.show_problem(f"Could not write {what}:\n{exc}")
+            return False
+        finally:
+            QGuiApplication.restoreOverrideCursor()
+        self.window.status_text.setText(f"Wrote {what}")
+        return True
+
+    def export_table(self, path: Path) -> bool:
+        """Write the figures table; the format follows the extension."""
+        from .export_table import write_table
+
+        return self._run(str(path), lambda: write_table(path, self._evaluations()))
+
+    def export_per_code(self, path: Path) -> bool:
+        """Write every code's values as CSV."""
+        from .export_table import per_code_csv, write_text
+
+        return self._run(str(path), lambda: write_text(path, per_code_csv(self._evaluations())))
+
+    def export_plots(self, folder: Path) -> bool:
+        """Write every plot as PNG and SVG into ``folder``."""
+        from .export_plots import export_plots
+
+        return self._run(str(folder), lambda: export_plots(self._evaluations(), folder))
+
+    def write_report(self, path: Path, with_stats: bool = True) -> bool:
+        """Write the design-review PDF of the comparison (statistics with the file's seed)."""
+        from .report_content import gather
+        from .report_pdf import write_report
+
+        title = f"Design review: {self.window.model.path.stem}" if self.window.model.path \
+            else "Design review"
+        return self._run(str(path), lambda: write_report(
+            path, gather(self.document(), title=title, with_stats=with_stats)))
+
+    def export_table_dialog(self) -> None:
+        """Ask for a file and write the figures table."""
+        path = self._ask("Export the figures table", "comparison.xlsx", TABLE_FILTER)
+        if path is not None:
+            self.export_table(path if path.suffix else path.with_suffix(".xlsx"))
+
+    def export_per_code_dialog(self) -> None:
+        """Ask for a file and write the per-code values."""
+        path = self._ask("Export per-code values", "per-code.csv", "CSV (*.csv)")
+        if path is not None:
+            self.export_per_code(path if path.suffix else path.with_suffix(".csv"))
+
+    def export_plots_dialog(self) -> None:
+        """Ask for a folder and write every plot."""
+        folder = QFileDialog.getExistingDirectory(self.window, "Folder for the plots")
+        if folder:
+            self.export_plots(Path(folder))
+
+    def report_dialog(self) -> None:
+        """Ask for a file and write the design-review report."""
+        path = self._ask("Write the design-review report", "review.pdf", "PDF (*.pdf)")
+        if path is not None:
+            self.write_report(path if path.suffix.lower() == ".pdf" else path.with_suffix(".pdf"))
+
+
+def install(window: QWidget) -> FileFeatures:
+    """Create the file features for ``window`` (persistent folders only when it remembers)."""
+    remember = getattr(window, "remember", False)
+    return FileFeatures(window, config_dir() if remember else None,
+                        state_folder() if remember else None)
