@@ -12,7 +12,7 @@ from typing import Any
 import numpy as np
 
 from rungwise.core.diagnose import Diagnosis, diagnose, read_measurement, to_c_header, to_csv
-from rungwise.core.errors import RungwiseError
+from rungwise.core.errors import DesignError, RungwiseError
 from rungwise.core.units import format_value
 
 from .candidates import apply_choices, load_candidates, parse_settings
@@ -28,6 +28,8 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
                    "codes decimal, 0x hex, 0b binary; outputs in V, mV or µV)")
     p.add_argument("--design", help="design file; its first candidate is the design that was "
                    "built (default: the built-in demo's first candidate)")
+    p.add_argument("--candidate", metavar="NAME|NUMBER", help="which candidate of the design "
+                   "file was built: its name or its number from 1 (default: the first)")
     p.add_argument("--set", dest="settings", action="append", metavar="KEY=VALUE",
                    help="change a design value, e.g. bits=10 or unit_r=4k7 (repeatable)")
     p.add_argument("--topology", metavar="TOPOLOGY[:OUTPUT]",
@@ -44,9 +46,22 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
                    "design and its as-built version (the best suspect at its fitted value)")
 
 
+def _pick(candidates: list, choice: str | None):
+    """The candidate named or numbered (from 1) by ``choice``; the first when ``None``."""
+    if choice is None:
+        return candidates[0]
+    for d in candidates:
+        if d.label == choice:
+            return d
+    if choice.isdigit() and 1 <= int(choice) <= len(candidates):
+        return candidates[int(choice) - 1]
+    names = ", ".join(f"{i}: {d.label}" for i, d in enumerate(candidates, start=1))
+    raise DesignError("candidate", f"no candidate {choice!r}; choose one of {names}")
+
+
 def _design(args: argparse.Namespace):
-    base = load_candidates(args.design)
-    chosen = apply_choices(base[:1], parse_settings(args.settings),
+    base = [_pick(load_candidates(args.design), args.candidate)]
+    chosen = apply_choices(base, parse_settings(args.settings),
                            [args.topology] if args.topology else None)
     return chosen[0]
 

@@ -34,6 +34,7 @@ from rungwise.core import Design
 from rungwise.core.demo import demo_candidates
 from rungwise.core.diagnose import (
     Diagnosis,
+    DiagnosisCancelled,
     Measurement,
     curve_linearity,
     diagnose,
@@ -68,7 +69,10 @@ class _Failure:
 def _job(measurement: Measurement, design: Design, absolute: bool, levels: int | None):
     def run(cancel: threading.Event):
         try:
-            return diagnose(measurement, design, absolute=absolute, correction_levels=levels)
+            return diagnose(measurement, design, absolute=absolute, correction_levels=levels,
+                            cancel=cancel)
+        except DiagnosisCancelled:
+            return None  # superseded: the runner drops it
         except RungwiseError as exc:
             return _Failure(str(exc))
 
@@ -130,6 +134,7 @@ class DiagnosePane(QWidget):
         self._designs: list[Design] = demo_candidates()
         self._measurement: Measurement | None = None
         self._diagnosis: Diagnosis | None = None
+        self._stale = False
         self.runner = JobRunner(self)
         self.runner.finished.connect(self._on_finished)
         self.runner.failed.connect(self._on_failed)
@@ -254,10 +259,22 @@ class DiagnosePane(QWidget):
 
     # --- the view contract --------------------------------------------------------------------
     def set_candidates(self, designs: list[Design]) -> None:
-        """The compared candidates changed: offer them as the built design, re-analyse."""
-        self._designs = list(designs) or demo_candidates()
+        """The compared candidates changed: offer them as the built design and re-analyse — at
+        once when the view is on screen, else when it is next shown."""
+        designs = list(designs) or demo_candidates()
+        if designs == self._designs:
+            return
+        self._designs = designs
         self._fill_designs()
-        self._recompute()
+        self._stale = True
+        if self.isVisible():
+            self._recompute()
+
+    def showEvent(self, event) -> None:
+        """Run the analysis a candidate change asked for while the view was hidden."""
+        super().showEvent(event)
+        if self._stale:
+            self._recompute()
 
     def shutdown(self) -> None:
         """Cancel the running analysis and wait for its thread."""
@@ -314,6 +331,7 @@ class DiagnosePane(QWidget):
         self.combo_design.blockSignals(False)
 
     def _recompute(self, *_: object) -> None:
+        self._stale = False
         if self._measurement is None:
             return
         design = self._designs[max(self.combo_design.currentIndex(), 0)]
@@ -332,7 +350,8 @@ class DiagnosePane(QWidget):
         if isinstance(result, _Failure):
             self._show_refusal(result.message)
             return
-        assert isinstance(result, Diagnosis)
+        if not isinstance(result, Diagnosis):
+            return
         self._diagnosis = result
         self._show(result)
         self._set_ready(True)

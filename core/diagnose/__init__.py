@@ -10,13 +10,21 @@ from .correction import CorrectionTable, correction_table, to_c_header, to_csv
 from .curve import CurveLinearity, curve_linearity, pooled_noise
 from .diagnosis import Diagnosis, diagnose, missing_codes
 from .reading import Measurement, MeasurementError, parse_text, read_measurement
-from .suspects import Suspect, SuspectFit, as_built, fit_suspects, trial_curves
+from .suspects import (
+    DiagnosisCancelled,
+    Suspect,
+    SuspectFit,
+    as_built,
+    fit_suspects,
+    trial_curves,
+)
 
 __all__ = [
     "BitFit",
     "CorrectionTable",
     "CurveLinearity",
     "Diagnosis",
+    "DiagnosisCancelled",
     "Measurement",
     "MeasurementError",
     "Suspect",

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import math
+import threading
 from dataclasses import dataclass
 from typing import Any
 
@@ -59,7 +60,8 @@ class Diagnosis:
 
 
 def diagnose(measurement: Measurement, design: Design, absolute: bool = False,
-             correction_levels: int | None = None) -> Diagnosis:
+             correction_levels: int | None = None, cancel: threading.Event | None = None
+             ) -> Diagnosis:
     """Analyse a measured curve against ``design``.
 
     Parameters
@@ -68,6 +70,8 @@ def diagnose(measurement: Measurement, design: Design, absolute: bool = False,
     design : Design — the network as designed; its resolution fixes the code range
     absolute : bool — trust the measurement's offset and gain when blaming parts
     correction_levels : int, optional — wanted levels of the correction table
+    cancel : threading.Event, optional — stops the part fit between solves
+        (raises ``DiagnosisCancelled``)
 
     Returns
     -------
@@ -89,7 +93,7 @@ def diagnose(measurement: Measurement, design: Design, absolute: bool = False,
     predicted_volts = solve(net, codes=m.codes).vout
     measured = curve_linearity(m.codes, m.volts, net.ideal_lsb, n_codes)
     predicted = curve_linearity(m.codes, predicted_volts, net.ideal_lsb, n_codes)
-    fit = fit_suspects(design, m.codes, m.volts, measured.lsb, absolute=absolute)
+    fit = fit_suspects(design, m.codes, m.volts, measured.lsb, absolute=absolute, cancel=cancel)
     built = None
     built_volts = np.full(m.codes.size, np.nan)
     best = fit.suspects[0]

@@ -20,11 +20,13 @@ apart from a reference error with a free gain: it is listed last with no deviati
 
 from __future__ import annotations
 
+import threading
 from dataclasses import dataclass
 
 import numpy as np
 
 from ..design import Design
+from ..errors import RungwiseError
 from ..network import Network
 from ..solve import solve
 from ..topologies import build
@@ -177,8 +179,12 @@ def _project_fit(y: np.ndarray, base: np.ndarray, sens: np.ndarray | None, absol
     return coef, y - x @ coef, norm
 
 
+class DiagnosisCancelled(RungwiseError):
+    """The caller's cancel event was set; the analysis stopped between steps."""
+
+
 def fit_suspects(design: Design, codes: np.ndarray, volts: np.ndarray, lsb: float,
-                 absolute: bool = False) -> SuspectFit:
+                 absolute: bool = False, cancel: threading.Event | None = None) -> SuspectFit:
     """Fit each part's deviation alone to the measured curve and rank the parts.
 
     Parameters
@@ -188,10 +194,16 @@ def fit_suspects(design: Design, codes: np.ndarray, volts: np.ndarray, lsb: floa
     volts : ndarray, shape (n,), volts — measured outputs (means of repeats)
     lsb : float — volts per LSB used to express residuals
     absolute : bool — trust offset and gain of the measurement (see the module docstring)
+    cancel : threading.Event, optional — checked before every batched solve
 
     Returns
     -------
     SuspectFit
+
+    Raises
+    ------
+    DiagnosisCancelled
+        ``cancel`` was set.
     """
     net = build(design)
     parts = list(net.parts)
@@ -213,6 +225,8 @@ def fit_suspects(design: Design, codes: np.ndarray, volts: np.ndarray, lsb: floa
         sel = [j for j in refine if active[j]]
         if not sel:
             break
+        if cancel is not None and cancel.is_set():
+            raise DiagnosisCancelled("diagnosis cancelled")
         f = 1.0 + d[sel]
         chosen = [ids[j] for j in sel]
         both = trial_curves(design, chosen + chosen, np.concatenate([f, f * (1.0 + STEP)]), codes)

@@ -81,3 +81,12 @@ def test_unreadable_file_exits_2_naming_the_line(tmp_path, capsys):
     assert "bad.csv, line 3" in err
     assert "Traceback" not in err
     assert run_cli(["diagnose", str(tmp_path / "missing.csv")]) == 2
+
+
+def test_candidate_by_name_or_number(example, capsys):
+    assert run_cli(["diagnose", str(example), "--candidate", "2", "--format", "json"]) == 0
+    assert json.loads(capsys.readouterr().out)["design"]["topology"] == "binary-weighted"
+    assert run_cli(["diagnose", str(example), "--candidate", "R-2R ladder", "--format", "json"]) == 0
+    assert json.loads(capsys.readouterr().out)["design"]["topology"] == "r2r-voltage"
+    assert run_cli(["diagnose", str(example), "--candidate", "9"]) == 2
+    assert "no candidate '9'" in capsys.readouterr().err

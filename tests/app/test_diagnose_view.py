@@ -88,3 +88,18 @@ def test_refused_analysis_is_shown(pane, qtbot, example):
     assert sig.args[0] is None
     assert "beyond the 4-bit design" in pane.label_status.text()
     assert not pane.button_csv.isEnabled()
+
+
+def test_a_hidden_view_waits_until_shown(pane, qtbot, example):
+    with qtbot.waitSignal(pane.diagnosis_changed, timeout=20000):
+        pane.load_measurement(example)
+    first = pane.diagnosis
+    pane.set_candidates([demo_candidates()[1], DEMO_BASE])
+    assert not pane.runner.is_busy("diagnose")
+    assert pane.diagnosis is first
+    with qtbot.waitSignal(pane.diagnosis_changed, timeout=20000) as sig:
+        pane.show()
+    assert sig.args[0] is not first
+    # the chosen built design is kept by name although it moved in the list
+    assert pane.combo_design.currentIndex() == 1
+    assert sig.args[0].design.topology == "r2r-voltage"

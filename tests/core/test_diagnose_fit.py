@@ -173,3 +173,30 @@ def test_codes_beyond_the_design_are_refused():
     m = synthesize(Design(bits=4), noise=0.0, seed=0)
     with pytest.raises(MeasurementError, match="beyond the 3-bit design"):
         diagnose(m, Design(bits=3))
+
+
+def test_sparse_codes_and_trial_chunks_give_the_same_curves(monkeypatch):
+    from rungwise.core.diagnose import suspects
+
+    design = CASES[0][0]
+    ids = ["leg5", "series2", "term", "leg0"]
+    factors = np.array([1.02, 0.99, 1.01, 0.97])
+    every = trial_curves(design, ids, factors, np.arange(256))
+    sparse = np.array([0, 9, 100, 255])  # few codes: only those are solved
+    np.testing.assert_allclose(trial_curves(design, ids, factors, sparse), every[:, sparse],
+                               rtol=1e-12)
+    monkeypatch.setattr(suspects, "TRIAL_CODE_ELEMENTS", 512)  # two trials per solve
+    np.testing.assert_allclose(trial_curves(design, ids, factors, np.arange(256)), every,
+                               rtol=1e-12)
+
+
+def test_a_set_cancel_event_stops_the_fit():
+    import threading
+
+    from rungwise.core.diagnose import DiagnosisCancelled
+
+    m = synthesize(LINEAR_R2R, noise=0.0, seed=0)
+    stop = threading.Event()
+    stop.set()
+    with pytest.raises(DiagnosisCancelled):
+        diagnose(m, LINEAR_R2R, cancel=stop)
