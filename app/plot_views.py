@@ -2,8 +2,10 @@
 
 Plots: output (with each candidate's ideal line dashed), error against the ideal line, INL
 (endpoint or best-fit line), DNL (with the −1 LSB monotonicity limit), output resistance and
-reference current. Long curves are decimated by pyqtgraph (peak mode, clipped to the view), so a
-16-bit design draws as fast as an 8-bit one.
+reference current. A 16-bit design draws as fast as an 8-bit one: each curve is drawn from a
+peak-keeping envelope of its visible codes (:mod:`rungwise.app.plot_decimate`), recomputed when the
+code axis is zoomed; ranges are set once per result (no auto-range passes) and the plots take new
+results one per event-loop turn.
 """
 
 from __future__ import annotations
@@ -16,13 +18,14 @@ from typing import Literal
 import numpy as np
 import pyqtgraph as pg
 from pyqtgraph import exporters
-from PySide6.QtCore import QEvent, Qt, Signal
-from PySide6.QtWidgets import QLabel, QSizePolicy, QVBoxLayout, QWidget
+from PySide6.QtCore import QEvent, Qt, QTimer, Signal
+from PySide6.QtWidgets import QGridLayout, QLabel, QSizePolicy, QVBoxLayout, QWidget
 
 from rungwise.core.units import format_value
 
 from .comparison_state import Candidate
 from .live_results import CandidateResult
+from .plot_decimate import envelope, value_range
 from .theme import plot_colours
 
 InlLine = Literal["endpoint", "bestfit"]
@@ -39,19 +42,20 @@ class PlotSpec:
 
     key: str
     title: str
+    short: str
     unit: str
     si_prefix: bool
     values: Callable[[CandidateResult, InlLine], np.ndarray]
 
 
 PLOTS: tuple[PlotSpec, ...] = (
-    PlotSpec("output", "Output", "V", True, lambda r, _m: r.evaluation.vout),
-    PlotSpec("error", "Error against ideal line", "V", True, lambda r, _m: r.error_v),
-    PlotSpec("inl", "INL", "LSB", False,
+    PlotSpec("output", "Output", "Output", "V", True, lambda r, _m: r.evaluation.vout),
+    PlotSpec("error", "Error against ideal line", "Error", "V", True, lambda r, _m: r.error_v),
+    PlotSpec("inl", "INL", "INL", "LSB", False,
              lambda r, m: r.evaluation.inl_endpoint if m == "endpoint" else r.evaluation.inl_bestfit),
-    PlotSpec("dnl", "DNL", "LSB", False, lambda r, _m: _dnl(r)),
-    PlotSpec("rout", "Output resistance", "Ω", True, lambda r, _m: r.evaluation.rout),
-    PlotSpec("iref", "Reference current", "A", True, lambda r, _m: r.evaluation.iref),
+    PlotSpec("dnl", "DNL", "DNL", "LSB", False, lambda r, _m: _dnl(r)),
+    PlotSpec("rout", "Output resistance", "R out", "Ω", True, lambda r, _m: r.evaluation.rout),
+    PlotSpec("iref", "Reference current", "I ref", "A", True, lambda r, _m: r.evaluation.iref),
 )
 """The plots in reading order (two columns)."""
 
@@ -66,12 +70,18 @@ under the plots names every candidate in its colour as well."""
 class CodePlotsView(QWidget):
     """Per-code curves of every candidate.
 
+    Each plot is its own ``pg.PlotWidget``; new results are applied one plot per event-loop turn
+    (each painted at once), so no single turn redraws all six plots. Code axes are linked here, in
+    code, so a zoom on one plot follows on all.
+
     Signals
     -------
-    code_hovered(int) — the code under the cursor (−1 when the cursor leaves).
+    code_hovered(int) — the code under the cursor (−1 when the cursor leaves);
+    drawn() — every plot shows the latest results.
     """
 
     code_hovered = Signal(int)
+    drawn = Signal()
 
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__(parent)
@@ -79,9 +89,21 @@ class CodePlotsView(QWidget):
         self.inl_line: InlLine = "endpoint"
         self._candidates: list[Candidate] = []
         self._results: list[CandidateResult] = []
-        self.graphics = pg.GraphicsLayoutWidget(self)
-        self.graphics.setObjectName("curves_graphics")
-        self.graphics.ci.setSpacing(4)
+        self._full: dict[str, list[np.ndarray | None]] = {}
+        self._queue: list[str] = []
+        self._styles: dict[str, list[tuple[str, str]]] = {}
+        self._user_zoomed = False
+        self._syncing = False
+        self.widgets: dict[str, pg.PlotWidget] = {}
+        self.plots: dict[str, pg.PlotItem] = {}
+        self.curves: dict[str, list[pg.PlotDataItem]] = {spec.key: [] for spec in PLOTS}
+        self.ideal_curves: list[pg.PlotDataItem] = []
+        self.cursors: dict[str, pg.InfiniteLine] = {}
+        grid = QGridLayout()
+        grid.setSpacing(2)
+        for i, spec in enumerate(PLOTS):
+            w = self._make_plot(spec, last_row=i // COLUMNS == (len(PLOTS) - 1) // COLUMNS)
+            grid.addWidget(w, i // COLUMNS, i % COLUMNS)
         self.readout = QLabel(self, objectName="label_readout")
         self.readout.setTextFormat(Qt.TextFormat.RichText)
         self.readout.setSizePolicy(QSizePolicy.Policy.Preferred, QSizePolicy.Policy.Fixed)
@@ -89,63 +111,58 @@ class CodePlotsView(QWidget):
         self.readout.setAlignment(Qt.AlignmentFlag.AlignTop | Qt.AlignmentFlag.AlignLeft)
         layout = QVBoxLayout(self)
         layout.setContentsMargins(0, 0, 0, 0)
-        layout.addWidget(self.graphics, 1)
+        layout.addLayout(grid, 1)
         layout.addWidget(self.readout)
-        self.plots: dict[str, pg.PlotItem] = {}
-        self.curves: dict[str, list[pg.PlotDataItem]] = {}
-        self.ideal_curves: list[pg.PlotDataItem] = []
-        self.cursors: dict[str, pg.InfiniteLine] = {}
-        self._build_plots()
-        self._hover_proxy = pg.SignalProxy(self.graphics.scene().sigMouseMoved, rateLimit=30,
-                                           slot=self._on_mouse)
+        self._step_timer = QTimer(self, singleShot=True, interval=0)
+        self._step_timer.timeout.connect(self._step)
         self.apply_palette()
         self.show_readout(-1)
 
     # --- construction ---------------------------------------------------------------------------
-    def _build_plots(self) -> None:
-        first: pg.PlotItem | None = None
-        for i, spec in enumerate(PLOTS):
-            row, col = divmod(i, COLUMNS)
-            p = self.graphics.addPlot(row=row, col=col)
-            p.setObjectName(f"plot_{spec.key}")
-            p.setTitle(spec.title, size="9pt")
-            p.setLabel("left", units=spec.unit if spec.si_prefix else None,
-                       text=None if spec.si_prefix else spec.unit)
-            p.getAxis("left").enableAutoSIPrefix(spec.si_prefix)
-            p.getAxis("left").setWidth(58)
-            if row == (len(PLOTS) - 1) // COLUMNS:
-                p.setLabel("bottom", "Code")
-            p.setMenuEnabled(False)
-            p.hideButtons()
-            if spec.key == LEGEND_PLOT:
-                p.addLegend(offset=(6, 4), labelTextSize="8pt", verSpacing=-6)
-            if first is None:
-                first = p
-            else:
-                p.setXLink(first)
-            cursor = pg.InfiniteLine(angle=90, movable=False)
-            cursor.setVisible(False)
-            p.addItem(cursor, ignoreBounds=True)
-            self.cursors[spec.key] = cursor
-            self.plots[spec.key] = p
-            self.curves[spec.key] = []
-        self.dnl_limit = pg.InfiniteLine(pos=-1.0, angle=0, movable=False,
-                                         label="−1 LSB: below this, not monotonic",
-                                         labelOpts={"position": 0.98, "anchors": [(1, 1), (1, 1)]})
-        self.plots["dnl"].addItem(self.dnl_limit)
+    def _make_plot(self, spec: PlotSpec, last_row: bool) -> pg.PlotWidget:
+        w = pg.PlotWidget(self)
+        w.setObjectName(f"plot_{spec.key}")
+        w.setMinimumSize(200, 140)
+        p = w.getPlotItem()
+        p.setLabel("left", units=spec.unit if spec.si_prefix else None,
+                   text=None if spec.si_prefix else spec.unit)
+        p.getAxis("left").enableAutoSIPrefix(spec.si_prefix)
+        p.getAxis("left").setWidth(58)
+        if last_row:
+            p.setLabel("bottom", "Code")
+        p.setMenuEnabled(False)
+        p.hideButtons()
+        if spec.key == LEGEND_PLOT:
+            p.addLegend(offset=(6, 4), labelTextSize="8pt", verSpacing=-6)
+        cursor = pg.InfiniteLine(angle=90, movable=False)
+        cursor.setVisible(False)
+        p.addItem(cursor, ignoreBounds=True)
+        p.vb.disableAutoRange()
+        p.vb.sigXRangeChanged.connect(lambda _vb, rng, k=spec.key: self._on_x_range(k, rng))
+        p.vb.sigRangeChangedManually.connect(lambda *_a: self._on_manual_range())
+        w.scene().sigMouseMoved.connect(lambda pos, k=spec.key: self._on_mouse(k, pos))
+        if spec.key == "dnl":
+            self.dnl_limit = pg.InfiniteLine(pos=-1.0, angle=0, movable=False,
+                                             label="−1 LSB: below this, not monotonic",
+                                             labelOpts={"position": 0.98, "anchors": [(1, 1), (1, 1)]})
+            p.addItem(self.dnl_limit)
+        self.cursors[spec.key] = cursor
+        self.widgets[spec.key] = w
+        self.plots[spec.key] = p
+        return w
 
     def apply_palette(self) -> None:
         """Take background, text and grid colours from the current palette."""
         colours = plot_colours(self.palette())
-        self.graphics.setBackground(colours.background)
         fg = pg.mkColor(colours.foreground)
         for spec in PLOTS:
+            self.widgets[spec.key].setBackground(colours.background)
             p = self.plots[spec.key]
             for name in ("left", "bottom"):
                 axis = p.getAxis(name)
                 axis.setPen(fg)
                 axis.setTextPen(fg)
-            p.titleLabel.setText(spec.title, size="9pt", color=colours.foreground)
+            p.setTitle(self._title(spec), size="9pt", color=colours.foreground)
             p.showGrid(x=True, y=True, alpha=colours.grid_alpha)
             if p.legend is not None:
                 p.legend.setLabelTextColor(fg)
@@ -164,80 +181,161 @@ class CodePlotsView(QWidget):
             self.apply_palette()
         super().changeEvent(event)
 
+    def _title(self, spec: PlotSpec) -> str:
+        if spec.key == "inl":
+            return "INL from the " + ("endpoint line" if self.inl_line == "endpoint" else "best-fit line")
+        return spec.title
+
     # --- data -------------------------------------------------------------------------------------
     def set_inl_line(self, line: InlLine) -> None:
         """Measure INL from the endpoint or the best-fit line."""
         self.inl_line = line
-        self.plots["inl"].setTitle("INL, " + ("endpoint line" if line == "endpoint" else
-                                             "best-fit line"), size="9pt",
+        spec = next(s for s in PLOTS if s.key == "inl")
+        self.plots["inl"].setTitle(self._title(spec), size="9pt",
                                    color=plot_colours(self.palette()).foreground)
-        self._draw()
+        self._start()
 
     def set_results(self, candidates: Sequence[Candidate], results: Sequence[CandidateResult]) -> None:
         """Draw ``results`` (one per candidate, same order) in the candidates' colours."""
         self._candidates = list(candidates)
         self._results = list(results)
-        self._draw()
+        self._start()
 
-    def _ensure_curves(self, n: int) -> None:
-        for spec in PLOTS:
-            p, curves = self.plots[spec.key], self.curves[spec.key]
-            while len(curves) < n:
-                c = p.plot([], [], name=f"c{len(curves)}")
-                c.setDownsampling(auto=True, method="peak")
-                c.setClipToView(True)
-                curves.append(c)
-            while len(curves) > n:
-                c = curves.pop()
-                p.removeItem(c)
-        while len(self.ideal_curves) < n:
-            c = self.plots["output"].plot([], [])
-            c.setDownsampling(auto=True, method="peak")
-            c.setClipToView(True)
-            self.ideal_curves.append(c)
-        while len(self.ideal_curves) > n:
-            self.plots["output"].removeItem(self.ideal_curves.pop())
+    def _start(self) -> None:
+        self._full = {spec.key: [None if r.evaluation is None else spec.values(r, self.inl_line)
+                                 for r in self._results] for spec in PLOTS}
+        self._queue = [spec.key for spec in PLOTS]
+        self.show_readout(-1)
+        self._step_timer.start()
 
-    def _draw(self) -> None:
+    def _step(self) -> None:
+        """Apply the latest results to the next plot and paint it."""
+        if not self._queue:
+            return
+        key = self._queue.pop(0)
+        self._apply(key)
+        w = self.widgets[key]
+        if w.isVisible():
+            w.repaint()
+        if self._queue:
+            self._step_timer.start()
+        else:
+            self.drawn.emit()
+
+    def flush(self) -> None:
+        """Apply every pending plot update now (tests, export)."""
+        self._step_timer.stop()
+        while self._queue:
+            self._apply(self._queue.pop(0))
+        self.drawn.emit()
+
+    def is_drawing(self) -> bool:
+        """Whether some plots still show older results."""
+        return bool(self._queue)
+
+    def _apply(self, key: str) -> None:
+        p = self.plots[key]
+        curves = self.curves[key]
         n = len(self._results)
-        self._ensure_curves(n)
-        for spec in PLOTS:
-            p = self.plots[spec.key]
-            for i, (cand, res) in enumerate(zip(self._candidates, self._results, strict=True)):
-                curve = self.curves[spec.key][i]
-                curve.setPen(pg.mkPen(cand.colour, width=2))
-                if res.evaluation is None:
-                    curve.setData([], [])
-                else:
-                    curve.setData(res.evaluation.codes, spec.values(res, self.inl_line))
+        while len(curves) < n:
+            curves.append(p.plot([], [], name=f"c{len(curves)}"))
+        while len(curves) > n:
+            p.removeItem(curves.pop())
+        style = [(cand.colour, _legend_name(cand, res))
+                 for cand, res in zip(self._candidates, self._results, strict=True)]
+        if style != self._styles.get(key):  # pens and legend only when they change
+            self._styles[key] = style
+            if p.legend is not None:
+                p.legend.clear()
+            for curve, (colour, name) in zip(curves, style, strict=True):
+                curve.setPen(pg.mkPen(colour, width=2))
                 if p.legend is not None:
-                    p.legend.removeItem(curve)
-                    p.legend.addItem(curve, _legend_name(cand, res))
-            p.enableAutoRange()
-        for i, (cand, res) in enumerate(zip(self._candidates, self._results, strict=True)):
-            ideal = self.ideal_curves[i]
+                    p.legend.addItem(curve, name)
+        if key == "output":
+            self._apply_ideal()
+        if not self._user_zoomed:
+            self._fit(key)
+        self._decimate(key)
+
+    def _apply_ideal(self) -> None:
+        p = self.plots["output"]
+        while len(self.ideal_curves) < len(self._results):
+            self.ideal_curves.append(p.plot([], []))
+        while len(self.ideal_curves) > len(self._results):
+            p.removeItem(self.ideal_curves.pop())
+        for ideal, cand, res in zip(self.ideal_curves, self._candidates, self._results, strict=True):
             ideal.setPen(pg.mkPen(cand.colour, width=1, style=Qt.PenStyle.DashLine))
             if res.evaluation is None:
                 ideal.setData([], [])
             else:
-                codes = res.evaluation.codes
-                ideal.setData(codes[[0, -1]], res.evaluation.summary["ideal_lsb"] * codes[[0, -1]])
-        self.show_readout(-1)
+                ends = np.array([0.0, len(res.evaluation.codes) - 1.0])
+                ideal.setData(ends, res.evaluation.summary["ideal_lsb"] * ends)
+
+    def _n_codes(self) -> int:
+        return max((len(r.evaluation.codes) for r in self._results if r.evaluation is not None),
+                   default=2)
+
+    def _fit(self, key: str) -> None:
+        """Set one plot's ranges to its curves (no auto-range passes, no linked repaint)."""
+        arrays = [a for a in self._full.get(key, []) if a is not None]
+        if key == "dnl":
+            arrays.append(np.array([-1.0, 0.0]))
+        if key == "output":
+            arrays += [c.yData for c in self.ideal_curves if c.yData is not None]
+        lo, hi = value_range(arrays) or (0.0, 1.0)
+        if hi - lo <= 1e-12 * max(abs(lo), abs(hi), 1e-30):
+            half = abs(lo) * 0.05 or 1.0
+            lo, hi = lo - half, hi + half
+        self._syncing = True
+        try:
+            vb = self.plots[key].vb
+            vb.setRange(xRange=(0, max(self._n_codes() - 1, 1)), yRange=(lo, hi), padding=0.04)
+        finally:
+            self._syncing = False
+
+    def _decimate(self, key: str) -> None:
+        """Draw the visible part of every curve of one plot, decimated for its width."""
+        vb = self.plots[key].vb
+        x0, x1 = vb.viewRange()[0]
+        budget = max(400, 2 * int(vb.width()))
+        for curve, full in zip(self.curves[key], self._full.get(key, []), strict=False):
+            if full is None:
+                curve.setData([], [])
+            else:
+                x, y = envelope(full, x0, x1, budget)
+                curve.setData(x, y)
+
+    def _on_x_range(self, key: str, rng: Sequence[float]) -> None:
+        """The code axes are linked here: a zoom on one plot is copied to the others."""
+        if self._syncing:
+            return
+        self._syncing = True
+        try:
+            for other, p in self.plots.items():
+                if other != key:
+                    p.vb.setXRange(rng[0], rng[1], padding=0)
+        finally:
+            self._syncing = False
+        for k in self.plots:
+            self._decimate(k)
+
+    def _on_manual_range(self) -> None:
+        self._user_zoomed = True
 
     def auto_range(self) -> None:
-        """Fit every plot to its curves."""
-        for p in self.plots.values():
-            p.enableAutoRange()
+        """Fit every plot to its curves again (and follow new results until the next zoom)."""
+        self._user_zoomed = False
+        for key in self.plots:
+            self._fit(key)
+            self._decimate(key)
 
     # --- crosshair readout ---------------------------------------------------------------------
-    def _on_mouse(self, event: tuple) -> None:
-        pos = event[0]
-        for p in self.plots.values():
-            if p.sceneBoundingRect().contains(pos):
-                x = p.vb.mapSceneToView(pos).x()
-                self.show_readout(round(x))
-                return
-        self.show_readout(-1)
+    def _on_mouse(self, key: str, pos) -> None:
+        p = self.plots[key]
+        if p.vb.sceneBoundingRect().contains(pos):
+            self.show_readout(round(p.vb.mapSceneToView(pos).x()))
+        else:
+            self.show_readout(-1)
 
     def show_readout(self, code: int) -> None:
         """Mark ``code`` on every plot and list every candidate's values there (−1 clears)."""
@@ -259,6 +357,7 @@ class CodePlotsView(QWidget):
     # --- export -----------------------------------------------------------------------------------
     def export_plot(self, key: str, path: Path) -> None:
         """Save one plot as PNG or SVG (by the file's suffix)."""
+        self.flush()
         item = self.plots[key]
         if Path(path).suffix.lower() == ".svg":
             exporter = exporters.SVGExporter(item)
@@ -275,8 +374,7 @@ def _legend_name(cand: Candidate, res: CandidateResult) -> str:
 def readout_html(code: int, candidates: Sequence[Candidate], results: Sequence[CandidateResult],
                  inl_line: InlLine) -> str:
     """Every candidate's values at ``code`` as a small HTML table."""
-    head = "".join(f"<th align='right'>&nbsp;{s.title if s.key != 'error' else 'Error'}&nbsp;</th>"
-                   for s in PLOTS)
+    head = "".join(f"<th align='right'>&nbsp;{s.short}&nbsp;</th>" for s in PLOTS)
     rows = [f"<tr><th align='left'>Code {code}</th>{head}</tr>"]
     for cand, res in zip(candidates, results, strict=True):
         name = f"<span style='color:{cand.colour}'>■</span> {cand.name}"

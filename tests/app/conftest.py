@@ -52,7 +52,8 @@ def window(qtbot):
     qtbot.addWidget(win)
     win.resize(1366, 768)
     win.show()
-    qtbot.waitUntil(lambda: win.live.latest is not None and not win.live.is_busy(), timeout=10000)
+    qtbot.waitUntil(lambda: win.live.latest is not None and not win.live.is_busy()
+                    and not win.plots.is_drawing(), timeout=10000)
     yield win
     win.close()
     assert win.live.runner.active_count() == 0

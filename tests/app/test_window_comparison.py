@@ -20,7 +20,7 @@ def test_add_and_remove_update_curves_and_table(window, qtbot):
     state = window.model.state
     assert _curve_count(window) == 2
     assert window.table.columnCount() == 2
-    with qtbot.waitSignal(window.live.results_changed, timeout=10000):
+    with qtbot.waitSignal(window.plots.drawn, timeout=10000):
         window.candidates_pane.button_add.click()
     assert len(state.candidates) == 3
     assert state.selected == 2
@@ -33,7 +33,7 @@ def test_add_and_remove_update_curves_and_table(window, qtbot):
     assert curve.opts["pen"].color().name() == added.colour
     x, _y = curve.getOriginalDataset()
     assert len(x) == 2 ** added.design.bits
-    with qtbot.waitSignal(window.live.results_changed, timeout=10000):
+    with qtbot.waitSignal(window.plots.drawn, timeout=10000):
         window.candidates_pane.button_remove.click()
     assert _curve_count(window) == 2
     assert window.table.columnCount() == 2

@@ -23,7 +23,8 @@ def test_window_on_demo_renders_text_and_curves(qtbot, tmp_path):
     qtbot.addWidget(win)
     win.resize(1366, 768)
     win.show()
-    qtbot.waitUntil(lambda: win.live.latest is not None and not win.live.is_busy(), timeout=10000)
+    qtbot.waitUntil(lambda: win.live.latest is not None and not win.live.is_busy()
+                    and not win.plots.is_drawing(), timeout=10000)
     path = tmp_path / "window.png"
     assert win.grab().save(str(path))
     img = QImage(str(path))
