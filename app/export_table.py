@@ -145,6 +145,13 @@ def per_code_csv(evs: Sequence[Evaluation]) -> str:
     return buf.getvalue()
 
 
+def bom_csv(evs: Sequence[Evaluation]) -> str:
+    """The bill of materials of every candidate as CSV (``core.parts.bom`` layout)."""
+    from rungwise.core.parts.bom import bill_of_materials, to_csv
+
+    return to_csv([(e.design.label, bill_of_materials(e)) for e in evs])
+
+
 _SHEET_BAD = re.compile(r"[\[\]:*?/\\]")
 
 

@@ -17,6 +17,7 @@ from typing import Any
 
 from rungwise.core import FIELDS, Evaluation, evaluate
 from rungwise.core.designfile import DesignFile
+from rungwise.core.parts.bom import bill_of_materials
 from rungwise.core.review import Recommendation, cautions, describe_targets, recommend
 from rungwise.core.units import format_value
 
@@ -155,7 +156,21 @@ def _parts_section(data: ReviewData) -> str:
         if len(ev.parts) > MAX_PART_ROWS:
             out.append(f"<p>… and {len(ev.parts) - MAX_PART_ROWS} more parts (all are in the "
                        "table and per-code exports).</p>")
+        out.append("<p>Bill of materials (power needed = worst-case power per unit ÷ derating; "
+                   "for switches, the current to source or sink):</p>")
+        out.append(_table(["Designators", "Kind", "Value", "Series", "Tolerance", "Power needed",
+                           "Qty", "Flag"], [_bom_row(ln) for ln in bill_of_materials(ev)],
+                          right_from=2))
     return "\n".join(out)
+
+
+def _bom_row(ln) -> list[str]:
+    nan = math.isnan
+    need = "" if nan(ln.power_needed) else format_value(ln.power_needed,
+                                                        "A" if ln.kind == "switch" else "W")
+    return [ln.designators, ln.kind, "" if nan(ln.ohms) else format_value(ln.ohms, "Ω"), ln.series,
+            "" if nan(ln.tolerance) else f"±{ln.tolerance * 100:g} %", need, str(ln.quantity),
+            ln.note if ln.flagged else ""]
 
 
 METHOD_NOTES: tuple[str, ...] = (

@@ -184,6 +184,7 @@ class FileFeatures(QObject):
                 ("Figures &table (XLSX, CSV, Markdown, HTML)…", self.export_table_dialog,
                  "action_export_table"),
                 ("&Per-code values (CSV)…", self.export_per_code_dialog, "action_export_per_code"),
+                ("&Bill of materials (CSV)…", self.export_bom_dialog, "action_export_bom"),
                 ("All p&lots to a folder (PNG and SVG)…", self.export_plots_dialog,
                  "action_export_plots"),
                 ("Design-&review report (PDF)…", self.report_dialog, "action_report")):
@@ -236,6 +237,12 @@ class FileFeatures(QObject):
 
         return self._run(str(path), lambda: write_text(path, per_code_csv(self._evaluations())))
 
+    def export_bom(self, path: Path) -> bool:
+        """Write the bill of materials of every candidate as CSV."""
+        from .export_table import bom_csv, write_text
+
+        return self._run(str(path), lambda: write_text(path, bom_csv(self._evaluations())))
+
     def export_plots(self, folder: Path) -> bool:
         """Write every plot as PNG and SVG into ``folder``."""
         from .export_plots import export_plots
@@ -263,6 +270,12 @@ class FileFeatures(QObject):
         path = self._ask("Export per-code values", "per-code.csv", "CSV (*.csv)")
         if path is not None:
             self.export_per_code(path if path.suffix else path.with_suffix(".csv"))
+
+    def export_bom_dialog(self) -> None:
+        """Ask for a file and write the bill of materials."""
+        path = self._ask("Export the bill of materials", "bill-of-materials.csv", "CSV (*.csv)")
+        if path is not None:
+            self.export_bom(path if path.suffix else path.with_suffix(".csv"))
 
     def export_plots_dialog(self) -> None:
         """Ask for a folder and write every plot."""

@@ -13,16 +13,13 @@ from dataclasses import dataclass, field
 from typing import Any
 
 from .evaluate import Evaluation
+from .parts.bom import bill_of_materials
 from .targets import Targets
 from .units import format_value
 
 SAFE_DC_VOLTS = 60.0
 """Volts DC above which the review adds a shock-hazard caution (from memory: the usual ripple-free
 DC limit of safety extra-low voltage, IEC 61140 / IEC 60364-4-41)."""
-
-SMALL_PART_WATTS = 0.0625
-"""Watts: the rating of the smallest common chip resistors (0402, from memory); a part dissipating
-more gets a rating caution."""
 
 DEFER = ("Check every rating against the part's datasheet (with derating) and follow local codes "
          "and licensed practice; these figures are design aids, not a safety assessment.")
@@ -145,14 +142,10 @@ def recommend(evs: Sequence[Evaluation], targets: Targets,
 
 
 # --- cautions ------------------------------------------------------------------------------
-def worst_part(ev: Evaluation) -> dict[str, Any] | None:
-    """The resistor with the largest worst-case power (``power_max``, W, at ``power_code``)."""
-    rated = [p for p in ev.parts if math.isfinite(float(p.get("power_max", math.nan)))]
-    return max(rated, key=lambda p: float(p["power_max"])) if rated else None
-
-
 def cautions(evs: Sequence[Evaluation]) -> list[str]:
-    """Cautions for the review, each with its figure; always ends with the datasheet sentence."""
+    """Cautions for the review, each with its figure: voltages above the safe low-voltage limit,
+    parts and switches over their rating (the bill of materials' flags, with the design's
+    ``board`` rating and derating), large reference currents; always ends with :data:`DEFER`."""
     out = []
     for ev in evs:
         label = ev.design.label
@@ -161,11 +154,9 @@ def cautions(evs: Sequence[Evaluation]) -> list[str]:
             out.append(f"{label}: voltages up to {format_value(volts, 'V')} exceed "
                        f"{SAFE_DC_VOLTS:g} V DC, above the usual safety extra-low-voltage limit; "
                        "the circuit needs insulation, spacing and protection by a qualified person.")
-        worst = worst_part(ev)
-        if worst is not None and worst["power_max"] > SMALL_PART_WATTS:
-            out.append(f"{label}: resistor {worst['id']} dissipates up to "
-                       f"{format_value(worst['power_max'], 'W')} (at code {worst['power_code']}), "
-                       f"more than the {SMALL_PART_WATTS:g} W rating of small chip resistors.")
+        for line in bill_of_materials(ev):
+            if line.flagged:
+                out.append(f"{label}: {line.designators} ({line.kind}): {line.note}.")
         iref = float(ev.summary.get("iref_max", math.nan))
         if math.isfinite(iref) and abs(iref) > 0.1:
             out.append(f"{label}: the reference must deliver up to {format_value(iref, 'A')}.")

@@ -92,3 +92,16 @@ def test_export_plots_with_no_display_in_a_fresh_process(tmp_path: Path):
     assert sorted(p.name for p in (tmp_path / "plots").iterdir()) == sorted(
         f"{n}.{e}" for n in ("transfer", "inl", "dnl", "rout") for e in ("png", "svg"))
     assert "Traceback" not in out.stderr
+
+
+def test_export_bom_counts_every_resistor(tmp_path: Path):
+    out = tmp_path / "bom.csv"
+    assert run_cli(["export", "--set", "bits=6", "--bom", str(out)]) == 0
+    rows = list(csv.DictReader(io.StringIO(out.read_text(encoding="utf-8"))))
+    for d in demo_candidates():
+        ev = evaluate(d.replace(bits=6))
+        mine = [r for r in rows if r["candidate"] == ev.design.label and r["kind"] == "resistor"]
+        assert sum(int(r["quantity"]) for r in mine) == ev.summary["n_resistors"]
+        ohms = {p["id"]: p["ohms"] for p in ev.parts}
+        for r in mine:
+            assert {ohms[pid] for pid in r["part_ids"].split()} == {float(r["value_ohms"])}

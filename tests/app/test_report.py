@@ -15,6 +15,7 @@ from rungwise.app.cli import run_cli
 from rungwise.core import designfile, evaluate
 from rungwise.core.demo import demo_candidates
 from rungwise.core.designfile import DesignFile
+from rungwise.core.parts.bom import bill_of_materials
 from rungwise.core.review import DEFER, recommend
 from rungwise.core.targets import AnalysisSettings, Targets
 
@@ -46,6 +47,8 @@ def test_report_text_matches_the_engine(tmp_path: Path, qapp, capsys):
             assert f"{ev.summary[key]:.6g}" in text, key
         worst = max(ev.parts, key=lambda p: p["power_max"])
         assert worst["id"] in text
+        for line in bill_of_materials(ev):
+            assert line.designators in text
     from rungwise.core.montecarlo import monte_carlo
 
     yields = []

@@ -165,11 +165,14 @@ def test_menu_exports_match_the_engine(win, tmp_path: Path, qtbot):
     assert win.files.export_per_code(tmp_path / "c.csv")
     per = list(csv.DictReader(io.StringIO((tmp_path / "c.csv").read_text(encoding="utf-8"))))
     assert len(per) == sum(e.codes.size for e in evs)
+    assert win.files.export_bom(tmp_path / "bom.csv")
+    assert (tmp_path / "bom.csv").read_text(encoding="utf-8").startswith("candidate,designators")
     assert win.files.export_plots(tmp_path / "plots")
     assert len(list((tmp_path / "plots").iterdir())) == 8
     assert win.files.write_report(tmp_path / "r.pdf", with_stats=False)
     assert (tmp_path / "r.pdf").read_bytes().startswith(b"%PDF")
     assert not win.files.export_table(tmp_path / "missing" / "t.csv")  # shown, not raised
-    for name in ("action_export_table", "action_export_per_code", "action_export_plots",
+    for name in ("action_export_table", "action_export_per_code", "action_export_bom",
+                 "action_export_plots",
                  "action_report", "action_undo", "action_redo"):
         assert win.findChild(type(win.files.action_undo), name) is not None, name

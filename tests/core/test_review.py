@@ -6,10 +6,10 @@ import pytest
 
 from rungwise.core import evaluate
 from rungwise.core.demo import demo_candidates
+from rungwise.core.parts.bom import bill_of_materials
 from rungwise.core.review import (
     DEFER,
     SAFE_DC_VOLTS,
-    SMALL_PART_WATTS,
     cautions,
     judge,
     part_count,
@@ -79,10 +79,11 @@ def test_yield_below_target_fails(evs):
 def test_cautions_for_high_voltage_and_power():
     low = evaluate(demo_candidates()[0])
     assert cautions([low]) == [DEFER]
-    hot = evaluate(demo_candidates()[0].replace(vref=120.0, unit_r=100.0))
+    hot = evaluate(demo_candidates()[0].replace(vref=120.0, unit_r=1e3))
     notes = cautions([hot])
     assert notes[-1] == DEFER
     assert any("120 V" in n and f"{SAFE_DC_VOLTS:g} V DC" in n for n in notes)
-    worst = max(hot.parts, key=lambda p: p["power_max"])
-    assert worst["power_max"] > SMALL_PART_WATTS
-    assert any(f"resistor {worst['id']}" in n and f"code {worst['power_code']}" in n for n in notes)
+    flagged = [ln for ln in bill_of_materials(hot) if ln.flagged]
+    assert flagged  # 120 V across 1–2 kΩ is watts, far over a small part's rating
+    for ln in flagged:
+        assert f"{hot.design.label}: {ln.designators} ({ln.kind}): {ln.note}." in notes
