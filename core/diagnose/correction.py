@@ -128,8 +128,13 @@ def c_identifier(text: str) -> str:
     return f"t_{ident}" if ident[0].isdigit() else ident
 
 
+def _rows(values: list[str], per_row: int = 16) -> list[str]:
+    return [", ".join(values[i:i + per_row]) for i in range(0, len(values), per_row)]
+
+
 def to_c_header(table: CorrectionTable, name: str = "dac_correction", note: str = "") -> str:
-    """A C header holding the table as a ``static const`` array indexed by wanted level.
+    """A C header holding the table as a ``static const`` array indexed by wanted level, and the
+    codes it never sends as ``<name>_skip`` (when there are any).
 
     Parameters
     ----------
@@ -142,7 +147,8 @@ def to_c_header(table: CorrectionTable, name: str = "dac_correction", note: str 
     ctype = "uint8_t" if top < 1 << 8 else "uint16_t" if top < 1 << 16 else "uint32_t"
     guard = f"{ident.upper()}_H"
     values = [str(int(x)) for x in table.code]
-    rows = [", ".join(values[i:i + 16]) for i in range(0, len(values), 16)]
+    rows = _rows(values)
+    skip = [str(int(x)) for x in table.skip]
     comment = [
         f"/* Correction table: index = wanted level (0 … {len(values) - 1}), evenly spaced from "
         f"{table.wanted[0]:.6g} V to {table.wanted[-1]:.6g} V;",
@@ -167,6 +173,10 @@ def to_c_header(table: CorrectionTable, name: str = "dac_correction", note: str 
         *[f"    {r}," for r in rows],
         "};",
         "",
+        *(["/* Measured codes the table never sends. */",
+           f"#define {ident.upper()}_SKIP_LEN {len(skip)}u",
+           f"static const {ctype} {ident}_skip[{ident.upper()}_SKIP_LEN] = {{",
+           *[f"    {r}," for r in _rows(skip)], "};", ""] if skip else []),
         f"#endif /* {guard} */",
         "",
     ])

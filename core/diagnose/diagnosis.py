@@ -84,10 +84,14 @@ def diagnose(measurement: Measurement, design: Design, absolute: bool = False,
     """
     m = measurement
     n_codes = 2**design.bits
-    if m.codes[-1] >= n_codes or m.code_bits > design.bits:
+    if m.codes[-1] >= n_codes:
         bad = int(m.codes[-1])
         raise MeasurementError(f"code {bad} is beyond the {design.bits}-bit design "
                                f"(codes 0 … {n_codes - 1}); set the right number of bits",
+                               source=m.source)
+    if m.code_bits > design.bits:
+        raise MeasurementError(f"the file writes codes with {m.code_bits} binary digits but the "
+                               f"design has {design.bits} bits; set the right number of bits",
                                source=m.source)
     net = build(design)
     predicted_volts = solve(net, codes=m.codes).vout

@@ -75,12 +75,23 @@ def test_csv_and_c_header_round_trip():
     assert rows[0] == "wanted_index,wanted_volts,code,output_volts,error_lsb,estimated"
     assert [int(r.split(",")[2]) for r in rows[1:]] == t.code.tolist()
     header = to_c_header(t, "corr-board 7", note="measured: */ board.csv")
-    body = re.search(r"\{(.*)\};", header, re.S).group(1)
-    assert [int(x) for x in body.replace("\n", " ").split(",") if x.strip()] == t.code.tolist()
+    table, skip = re.findall(r"\{(.*?)\};", header, re.S)
+    assert [int(x) for x in table.replace("\n", " ").split(",") if x.strip()] == t.code.tolist()
+    assert [int(x) for x in skip.replace("\n", " ").split(",") if x.strip()] == t.skip.tolist()
     assert "static const uint16_t corr_board_7[CORR_BOARD_7_LEN]" in header
     assert "#define CORR_BOARD_7_LEN 300u" in header
-    assert header.count("*/") == 2  # the note cannot close the comment early
+    assert "/ board.csv" in header
+    assert "*/ board.csv" not in header
     assert c_identifier("8bit") == "t_8bit"
+    assert "_skip" not in to_c_header(correction_table(np.arange(8), V3))  # every code used
+
+
+def test_c_header_lists_the_codes_to_skip():
+    t = correction_table(np.arange(8), V3, n_levels=4)
+    header = to_c_header(t, "fix")
+    assert "static const uint8_t fix_skip[FIX_SKIP_LEN] = {" in header
+    assert "#define FIX_SKIP_LEN 4u" in header
+    assert "    1, 3, 4, 6," in header
 
 
 def test_bad_requests():

@@ -173,6 +173,11 @@ def test_codes_beyond_the_design_are_refused():
     m = synthesize(Design(bits=4), noise=0.0, seed=0)
     with pytest.raises(MeasurementError, match="beyond the 3-bit design"):
         diagnose(m, Design(bits=3))
+    from rungwise.core.diagnose import parse_text
+
+    wide = parse_text("0b00000,0\n0b00011,3\n0b00111,7\n")
+    with pytest.raises(MeasurementError, match="5 binary digits but the design has 3 bits"):
+        diagnose(wide, Design(bits=3))
 
 
 def test_sparse_codes_and_trial_chunks_give_the_same_curves(monkeypatch):
