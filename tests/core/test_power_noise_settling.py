@@ -161,3 +161,21 @@ def test_drift_at_the_range_ends():
     d = Design(topology="binary-weighted", output="terminated-divider", bits=4, unit_r=10e3,
                mismatch={"tempco_parts": {"bit3": 100e-6}, "reference_c": 25.0})
     assert part_ohms_at(d, build(d), np.array([85.0]))["bit3"][0, 0] == pytest.approx(10.06e3)
+
+
+def test_buffer_amplifier_and_rails():
+    # common practice: a non-inverting stage of gain G with open-loop gain A gives G/(1 + G/A), and
+    # its input offset appears at the output times G — a gain and offset error, no INL
+    from rungwise.core.metrics import amplifier
+
+    ev = evaluate(Design(bits=6, output="buffer", gain=2.0, vref=2.0))
+    eff = amplifier.apply(ev.network, ev.vout, ev.rout, 1e-3, 1e3, 0.0, 3.5)
+    expected = (ev.vout + 2.0 * 1e-3) / (1.0 + 2.0 / 1e3)
+    clipped = expected > 3.5
+    np.testing.assert_allclose(eff.vout[~clipped], expected[~clipped], rtol=1e-12)
+    assert eff.codes_clipped == int(np.count_nonzero(clipped)) > 0
+    assert np.all(eff.vout <= 3.5)
+    summary = evaluate(Design(bits=6, output="buffer", gain=2.0, vref=2.0, board={
+        "amp_offset": 1e-3, "amp_open_loop": 1e3, "rail_low": 0, "rail_high": 3.5})).summary
+    assert summary["amp_codes_clipped"] == eff.codes_clipped
+    assert "amp_offset_error" not in evaluate(Design(bits=6)).summary

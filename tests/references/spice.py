@@ -461,3 +461,34 @@ def full_scale_step(net: Network, load_c: float, t_stop: float, t_step: float
     lines.append(f"co_load {vout[2:-1]} 0 {_num(load_c)} IC=0")
     vec = run_netlist("\n".join(lines), f"tran {_num(t_step)} {_num(t_stop)} 0 {_num(t_step)} uic")
     return vec["time"], vec[vout.lower()]
+
+
+def simulate_real_amplifier(net: Network, codes: np.ndarray, offset: float, open_loop: float
+                            ) -> np.ndarray:
+    """Output of a virtual-ground network with a real amplifier, volts, shape (n_codes,).
+
+    The summing node is left free; the amplifier is a voltage-controlled source
+    ``out = A·(v(+) − v(sum))`` with the input offset as a source ``Vos`` on its + input, and the
+    feedback resistor joins ``sum`` and ``out``.
+    """
+    out = net.output
+    if out.kind != "virtual-ground":
+        raise ValueError("needs a virtual-ground output")
+    vals = _values(net, None)
+    drive = net.decode(np.asarray(codes, dtype=np.int64))
+    lines = ["* rungwise reference: real amplifier on the summing node"]
+    vectors = []
+    for k in range(len(codes)):
+        prefix = f"a{k}_"
+        c = _Copy(net, prefix)
+        for j, (name, volts) in enumerate(net.fixed.items()):
+            if name not in (GROUND, out.node):
+                lines.append(f"v{prefix}f{j} {c.node(name)} 0 DC {_num(volts)}")
+        _passive(net, vals, drive[k], c, prefix, lines)
+        s = c.node(out.node)
+        lines += [f"r{prefix}fb {s} {prefix}out {_num(vals.feedback)}",
+                  f"v{prefix}os {prefix}pos 0 DC {_num(offset)}",
+                  f"e{prefix}amp {prefix}out 0 {prefix}pos {s} {_num(open_loop)}"]
+        vectors.append(f"v({prefix}out)")
+    vec = run_netlist("\n".join(lines), "op")
+    return np.array([vec[v][0] for v in vectors])

@@ -64,3 +64,24 @@ def test_drifted_outputs_match_ngspice_tc1(design, temp_c):
     # ngspice: R(T) = R·(1 + tc1·(T − TNOM)) with .options tnom and .temp
     spice.assert_agree(ours, theirs, rtol=1e-9, what=f"vout at {temp_c} °C")
     assert not np.allclose(ours, evaluate(design).vout, rtol=1e-6)  # the drift is really there
+
+
+@pytest.mark.parametrize("design", [
+    Design(topology="r2r-current", bits=4, vref=5.0, unit_r=10e3, ron_high=30.0, ron_low=20.0),
+    Design(topology="binary-weighted", output="summing-amp", bits=4, vref=2.5, unit_r=20e3,
+           ron_low=50.0, ref_r=5.0),
+], ids=["current-ladder", "summing-amp"])
+def test_real_amplifier_matches_ngspice(design):
+    # the summing node left free, the amplifier a controlled source with gain A and offset Vos
+    spice.require_ngspice()
+    from rungwise.core.metrics import amplifier
+
+    ev = evaluate(design)
+    net = ev.network
+    eff = amplifier.apply(net, ev.vout, ev.rout, 2e-3, 2e4, -np.inf, np.inf)
+    theirs = spice.simulate_real_amplifier(net, np.arange(net.n_codes), 2e-3, 2e4)
+    spice.assert_agree(eff.vout, theirs, rtol=1e-9, what="vout with a real amplifier")
+    if design.topology == "r2r-current":
+        # the noise gain changes with the code, so the offset shows up as INL
+        assert eff.inl_added > 1e-4
+        assert eff.noise_gain[0] == 1.0
