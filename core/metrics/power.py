@@ -24,6 +24,9 @@ from ..solve import solve
 CODE_CHUNK = 1 << 15
 """Codes solved per pass when node voltages are kept; bounds working memory."""
 
+WHOLE_CODES = 1 << 16
+"""Up to this many codes are solved in one pass (the solver's fastest path), above in chunks."""
+
 FROM_AMPLIFIER = ("feedback",)
 """Elements the amplifier feeds, left out of the reference's power balance."""
 
@@ -121,9 +124,10 @@ def worst_case(net: Network) -> tuple[list[ElementPower], dict[str, float]]:
     tot_best = [-1.0, 0]
     ref_best = [-1.0, 0]
     balance = 0.0
-    for start in range(0, net.n_codes, CODE_CHUNK):
-        codes = np.arange(start, min(start + CODE_CHUNK, net.n_codes))
-        whole = net.n_codes <= CODE_CHUNK  # all codes at once lets the solver take its fastest path
+    whole = net.n_codes <= WHOLE_CODES
+    step = net.n_codes if whole else CODE_CHUNK
+    for start in range(0, net.n_codes, step):
+        codes = np.arange(start, min(start + step, net.n_codes))
         sol = solve(net, codes=None if whole else codes, keep_nodes=True)
         volts = {k: np.broadcast_to(v, codes.shape) for k, v in sol.node_voltages.items()}
         drive = net.decode(codes).astype(bool)
