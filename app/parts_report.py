@@ -73,7 +73,9 @@ def summary_lines(out: PartsOutcome) -> list[tuple[str, str]]:
         ("Reference power, max", _v(s["ref_power_max"], "W")),
         ("Power in the network, max", f"{_v(s['power_total_max'], 'W')} at code "
                                       f"{s['power_total_max_code']}"),
-        ("Switch current, max", _v(s["switch_current_max"], "A")),
+        ("Switch current, max", f"{_v(s['switch_current_max'], 'A')} (sourced "
+                                f"{_v(s['switch_source_max'], 'A')}, sunk {_v(s['switch_sink_max'], 'A')}; "
+                                f"limit {_v(board_value(d, 'switch_limit'), 'A')})"),
     ]
     if math.isnan(s["settling_time"]):
         rows.append(("Settling to ½ LSB", "set by the amplifier (not modelled)"))
@@ -134,3 +136,29 @@ def limits_from_text(texts: dict[str, str]) -> Limits:
         text = text.strip()
         values[key] = parse_value(text, key) if text else None
     return Limits(**values)
+
+
+DRIFT_ROLES = ("leg", "series", "termination", "bit", "feedback")
+"""Part roles whose temperature coefficient the view sets as a batch (roles a design lacks are
+ignored)."""
+
+
+def with_drift_choices(design: Design, role_tempcos: dict[str, float],
+                       temp_low_c: float | None, temp_high_c: float | None) -> Design:
+    """``design`` with every part of each role given ``role_tempcos[role]`` (1/K, as
+    ``mismatch.tempco_parts``) and the drift range's ends (``board.temp_low_c``/``temp_high_c``)."""
+    from rungwise.core.topologies import build
+
+    mismatch = design.to_dict()["mismatch"]
+    per_part = dict(mismatch.get("tempco_parts", {}))
+    for part in build(design).parts:
+        if part.role in role_tempcos:
+            per_part[part.part_id] = role_tempcos[part.role]
+    if per_part:
+        mismatch["tempco_parts"] = per_part
+    board = dict(design.board)
+    if temp_low_c is not None:
+        board["temp_low_c"] = temp_low_c
+    if temp_high_c is not None:
+        board["temp_high_c"] = temp_high_c
+    return design.replace(mismatch=mismatch, board=board)

@@ -34,6 +34,7 @@ from rungwise.core.types import SERIES
 
 from .parts_report import (
     BOM_COLUMNS,
+    DRIFT_ROLES,
     SUGGEST_COLUMNS,
     PartsOutcome,
     bom_cells,
@@ -42,6 +43,7 @@ from .parts_report import (
     suggest_job,
     suggestion_cells,
     summary_lines,
+    with_drift_choices,
 )
 from .workers import JobRunner
 
@@ -91,7 +93,8 @@ class PartsPane(QWidget):
         self.combo_candidate = QComboBox(objectName="combo_candidate")
         self.combo_series = QComboBox(objectName="combo_series")
         self.combo_series.addItems([AS_DESIGNED, *SERIES])
-        self.button_use_series = QPushButton("Add as candidate", objectName="button_use_series")
+        self.button_use_series = QPushButton("Add these choices as a candidate",
+                                             objectName="button_use_series")
         for w in (QLabel("Candidate"), self.combo_candidate, QLabel("Values"), self.combo_series,
                   self.button_use_series):
             top.addWidget(w)
@@ -109,8 +112,10 @@ class PartsPane(QWidget):
         self.table_bom.horizontalHeader().setStretchLastSection(True)
         self.button_export = QPushButton("Export parts list (CSV)…", objectName="button_export")
         self._build_suggest()
+        self._build_drift()
         lay = QVBoxLayout(self)
         lay.addLayout(top)
+        lay.addWidget(self.box_drift)
         lay.addWidget(self.label_status)
         lay.addWidget(self.table_figures, 2)
         lay.addWidget(self.label_caution)
@@ -121,6 +126,44 @@ class PartsPane(QWidget):
         self.combo_series.currentIndexChanged.connect(lambda _: self.refresh())
         self.button_use_series.clicked.connect(self._request_series)
         self.button_export.clicked.connect(self._export_dialog)
+
+    def _build_drift(self) -> None:
+        self.box_drift = QGroupBox("Temperature coefficients by part role, and the drift range")
+        row = QHBoxLayout(self.box_drift)
+        self.tempco_edits: dict[str, QLineEdit] = {}
+        for role in DRIFT_ROLES:
+            edit = QLineEdit(objectName=f"edit_tempco_{role}")
+            edit.setPlaceholderText("ppm/K")
+            edit.setToolTip(f"Temperature coefficient of every '{role}' part: 100 (ppm/K), 100 ppm or 1e-4; "
+                            "empty keeps the design's")
+            edit.setMaximumWidth(90)
+            edit.editingFinished.connect(self.refresh)
+            self.tempco_edits[role] = edit
+            row.addWidget(QLabel(role))
+            row.addWidget(edit)
+        self.edit_temp_low = QLineEdit(objectName="edit_temp_low")
+        self.edit_temp_high = QLineEdit(objectName="edit_temp_high")
+        for label, edit in (("from °C", self.edit_temp_low), ("to °C", self.edit_temp_high)):
+            edit.setPlaceholderText("design's")
+            edit.setMaximumWidth(70)
+            edit.editingFinished.connect(self.refresh)
+            row.addWidget(QLabel(label))
+            row.addWidget(edit)
+        row.addStretch(1)
+
+    def _drift_choices(self) -> tuple[dict[str, float], float | None, float | None]:
+        """Typed coefficients (1/K; a bare number is ppm/K) and range ends (°C, None = design's)."""
+        from rungwise.core.units import parse_value
+
+        tcs = {}
+        for role, edit in self.tempco_edits.items():
+            text = edit.text().strip()
+            if text:
+                tcs[role] = (parse_value(text, f"tempco of {role}") if "ppm" in text or "e" in text
+                             else float(parse_value(text, f"tempco of {role}")) * 1e-6)
+        ends = [parse_value(e.text(), name) if e.text().strip() else None
+                for e, name in ((self.edit_temp_low, "temp_low_c"), (self.edit_temp_high, "temp_high_c"))]
+        return tcs, ends[0], ends[1]
 
     def _build_suggest(self) -> None:
         self.box_suggest = QGroupBox("Unit values that meet limits")
@@ -174,11 +217,18 @@ class PartsPane(QWidget):
             return None
         d = self._designs[i]
         series = self.combo_series.currentText()
-        return d if series == AS_DESIGNED or series == d.series else d.replace(series=series)
+        if series not in (AS_DESIGNED, d.series):
+            d = d.replace(series=series)
+        tcs, low, high = self._drift_choices()
+        return with_drift_choices(d, tcs, low, high) if tcs or low is not None or high is not None else d
 
     def refresh(self) -> None:
         """Recompute the selected candidate in the background."""
-        d = self.design()
+        try:
+            d = self.design()
+        except RungwiseError as exc:
+            self.label_status.setText(str(exc))
+            return
         if d is None:
             return
         self.label_status.setText("Working…")
@@ -186,10 +236,10 @@ class PartsPane(QWidget):
 
     def run_suggest(self) -> None:
         """Rank unit values for the typed limits in the background."""
-        d = self.design()
-        if d is None:
-            return
         try:
+            d = self.design()
+            if d is None:
+                return
             limits = limits_from_text({k: e.text() for k, e in self.limit_edits.items()})
         except RungwiseError as exc:
             self.label_status.setText(str(exc))
@@ -214,12 +264,21 @@ class PartsPane(QWidget):
                 self.label_status.setText(f"Could not write {path}: {exc}")
 
     def _request_series(self) -> None:
-        d = self.design()
+        try:
+            d = self.design()
+        except RungwiseError as exc:
+            self.label_status.setText(str(exc))
+            return
         if d is not None:
             self.candidate_requested.emit(d.replace(name=f"{d.label} ({d.series})"))
 
     def _request_value(self) -> None:
-        d, row = self.design(), self.table_suggest.currentRow()
+        try:
+            d = self.design()
+        except RungwiseError as exc:
+            self.label_status.setText(str(exc))
+            return
+        row = self.table_suggest.currentRow()
         if d is None or not 0 <= row < len(self._suggestions):
             return
         r = self._suggestions[row].unit_r

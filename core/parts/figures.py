@@ -19,6 +19,8 @@ SUMMARY_KEYS: dict[str, tuple[str, str]] = {
     "power_total_max_code": ("  at code", ""),
     "ref_power_max": ("Reference power, max", "W"),
     "switch_current_max": ("Switch current, max", "A"),
+    "switch_source_max": ("  sourced from the high rail", "A"),
+    "switch_sink_max": ("  sunk into the low rail", "A"),
     "settling_tau": ("Output time constant", "s"),
     "settling_time": ("Settling to ½ LSB", "s"),
     "noise_density": ("Thermal noise density, worst code", "V/√Hz"),
@@ -53,7 +55,7 @@ def part_figures(design: Any, net: Network, sol: Solution
         Its nominal solution, shape (n_codes,).
     """
     elements, totals = worst_case(net)
-    switches = [e.current_max for e in elements if e.kind == "switch"]
+    switches = [e for e in elements if e.kind == "switch"]
     tau = settling.time_constant(net, sol.rout, design.load_c)
     density = noise.output_density(net, sol.rout, design.temperature_c)
     worst = float(np.max(density))
@@ -63,7 +65,9 @@ def part_figures(design: Any, net: Network, sol: Solution
         "power_total_max": totals["power_total_max"],
         "power_total_max_code": totals["power_total_max_code"],
         "ref_power_max": totals["ref_power_max"],
-        "switch_current_max": max(switches) if switches else 0.0,
+        "switch_current_max": max((e.current_max for e in switches), default=0.0),
+        "switch_source_max": max((e.source_max for e in switches), default=0.0),
+        "switch_sink_max": max((e.sink_max for e in switches), default=0.0),
         "settling_tau": tau,
         "settling_time": settling.settling_time(tau, net.n_codes),
         "noise_density": worst,

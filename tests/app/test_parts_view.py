@@ -98,3 +98,28 @@ def test_bad_limit_is_explained(qtbot, pane):
     pane.limit_edits["rout_max"].setText("lots")
     pane.button_suggest.click()
     assert "rout_max" in pane.label_status.text()
+
+
+def test_role_coefficients_and_range_drive_the_drift_figures(qtbot, pane):
+    # legs and series from different batches: 100 vs 25 ppm/K over −40 … 125 °C
+    _shown(qtbot, pane, lambda: pane.set_candidates([LADDER]))
+    pane.tempco_edits["leg"].setText("100")
+    pane.tempco_edits["termination"].setText("100 ppm")
+    pane.tempco_edits["series"].setText("25e-6")
+    pane.edit_temp_low.setText("-40")
+    pane.edit_temp_high.setText("125")
+    out = _shown(qtbot, pane, pane.refresh)
+    d = out.design
+    assert d.mismatch["tempco_parts"]["leg3"] == pytest.approx(100e-6)
+    assert d.mismatch["tempco_parts"]["term"] == pytest.approx(100e-6)
+    assert d.mismatch["tempco_parts"]["series2"] == pytest.approx(25e-6)
+    assert (d.board["temp_low_c"], d.board["temp_high_c"]) == (-40.0, 125.0)
+    assert out.built.summary["drift_inl_high"] > 0.05
+    assert "Drift at 125 °C" in [pane.table_figures.item(r, 0).text()
+                                 for r in range(pane.table_figures.rowCount())]
+    with qtbot.waitSignal(pane.candidate_requested) as req:
+        pane.button_use_series.click()
+    assert req.args[0].mismatch["tempco_parts"]["leg0"] == pytest.approx(100e-6)
+    pane.tempco_edits["leg"].setText("warm")
+    pane.refresh()
+    assert "tempco of leg" in pane.label_status.text()
