@@ -14,12 +14,13 @@ import numpy as np
 
 from rungwise.core import SUMMARY_KEYS, Evaluation, MonteCarloResult, evaluate, monte_carlo
 from rungwise.core.errors import RungwiseError
+from rungwise.core.grades import CRITERIA
 from rungwise.core.montecarlo import check_run, plan_run
 from rungwise.core.targets import Targets
 from rungwise.core.units import format_value
 
 from .candidates import add_choice_arguments, chosen_candidates, load_document
-from .stats_text import render_stats_table, stats_csv_rows
+from .stats_text import grade_curves, grades_dict, render_stats_table, stats_csv_rows
 
 NAME = "compute"
 HELP = "Solve candidates at every code and print their figures (json, csv or table)."
@@ -35,6 +36,11 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--seed", type=int, metavar="S",
                    help="seed of the Monte Carlo trials (default: the design file's, else a new one, "
                    "printed)")
+    p.add_argument("--grades", action="store_true",
+                   help="with --trials: yield at every standard tolerance grade and the loosest grade "
+                   "meeting the target yield")
+    p.add_argument("--criterion", choices=CRITERIA, default="all",
+                   help="which yield --grades judges (default: every target at once)")
 
 
 def _plain(x: Any) -> Any:
@@ -46,8 +52,8 @@ def _plain(x: Any) -> Any:
     return x
 
 
-def result_dict(ev: Evaluation, per_code: bool, stats: MonteCarloResult | None = None
-                ) -> dict[str, Any]:
+def result_dict(ev: Evaluation, per_code: bool, stats: MonteCarloResult | None = None,
+                grades: dict[str, Any] | None = None) -> dict[str, Any]:
     """One candidate's JSON object (keys fixed by the command-line contract)."""
     d = ev.design
     out: dict[str, Any] = {
@@ -63,6 +69,8 @@ def result_dict(ev: Evaluation, per_code: bool, stats: MonteCarloResult | None =
         }
     if stats is not None:
         out["statistics"] = stats.to_dict()
+        if grades is not None:
+            out["statistics"]["grades"] = grades
     return out
 
 
@@ -91,8 +99,8 @@ def render_table(evs: list[Evaluation]) -> str:
                      for r in rows)
 
 
-def render_csv(evs: list[Evaluation], per_code: bool, stats: list[MonteCarloResult] | None = None
-               ) -> str:
+def render_csv(evs: list[Evaluation], per_code: bool, stats: list[MonteCarloResult] | None = None,
+               grades: list[dict[str, Any] | None] | None = None) -> str:
     """CSV: the summary (metric, one column per candidate), the statistics' ``stat.*`` rows when
     given, then per-code rows if asked."""
     buf = io.StringIO()
@@ -100,7 +108,7 @@ def render_csv(evs: list[Evaluation], per_code: bool, stats: list[MonteCarloResu
     w.writerow(["metric", *[e.design.label for e in evs]])
     for key in evs[0].summary:
         w.writerow([key, *[_plain(e.summary.get(key)) for e in evs]])
-    for row in stats_csv_rows(stats) if stats else []:
+    for row in stats_csv_rows(stats, grades) if stats else []:
         w.writerow([row[0], *[_plain(x) for x in row[1:]]])
     if per_code:
         w.writerow([])
@@ -115,12 +123,15 @@ def render_csv(evs: list[Evaluation], per_code: bool, stats: list[MonteCarloResu
     return buf.getvalue()
 
 
-def _statistics(args: argparse.Namespace, designs: list) -> list[MonteCarloResult] | None:
-    """Monte Carlo results per candidate when ``--trials`` is given (plans checked first)."""
+def _statistics(args: argparse.Namespace, designs: list
+                ) -> tuple[list[MonteCarloResult] | None, list[dict[str, Any] | None] | None]:
+    """Monte Carlo results per candidate when ``--trials`` is given (plans checked first), and
+    with ``--grades`` each candidate's yield-against-grade summary (``None`` for on-chip)."""
     if args.trials is None:
-        if args.seed is not None:
-            raise RungwiseError("--seed needs --trials")
-        return None
+        for flag, given in (("--seed", args.seed is not None), ("--grades", args.grades)):
+            if given:
+                raise RungwiseError(f"{flag} needs --trials")
+        return None, None
     targets, seed = Targets(), args.seed
     if getattr(args, "design", None) is not None:
         doc = load_document(args.design)
@@ -131,24 +142,31 @@ def _statistics(args: argparse.Namespace, designs: list) -> list[MonteCarloResul
         plan = plan_run(d, trials)
         if plan.n_batches > 10:
             print(f"rungwise: statistics of {d.label}: {plan.describe()}", file=sys.stderr)
-    return [monte_carlo(d, trials, seed, targets=targets) for d in designs]
+    if args.criterion != "all" and not args.grades:
+        raise RungwiseError("--criterion needs --grades")
+    results = [monte_carlo(d, trials, seed, targets=targets) for d in designs]
+    if not args.grades:
+        return results, None
+    curves = grade_curves(designs, trials, seed, targets, args.criterion)
+    return results, [None if c is None else grades_dict(c, targets.min_yield) for c in curves]
 
 
 def run(args: argparse.Namespace) -> int:
     """Evaluate and print; returns the exit code."""
     designs = chosen_candidates(args)
     evs = [evaluate(d) for d in designs]
-    stats = _statistics(args, designs)
+    stats, grades = _statistics(args, designs)
     if args.format == "json":
-        text = json.dumps({"results": [result_dict(e, args.per_code, s) for e, s in
-                                       zip(evs, stats or [None] * len(evs), strict=True)]},
+        none = [None] * len(evs)
+        text = json.dumps({"results": [result_dict(e, args.per_code, s, g) for e, s, g in
+                                       zip(evs, stats or none, grades or none, strict=True)]},
                           indent=1)
     elif args.format == "csv":
-        text = render_csv(evs, args.per_code, stats)
+        text = render_csv(evs, args.per_code, stats, grades)
     else:
         text = render_table(evs)
         if stats:
-            text += "\n\n" + render_stats_table([e.design.label for e in evs], stats)
+            text += "\n\n" + render_stats_table([e.design.label for e in evs], stats, grades)
         if args.per_code:
             text += "\n\n" + render_csv(evs, True).split("\n\n", 1)[1]
     sys.stdout.write(text.rstrip("\n") + "\n")

@@ -4,6 +4,9 @@ from __future__ import annotations
 
 from typing import Any
 
+from rungwise.core.design import Design
+from rungwise.core.grades import STANDARD_GRADES, YieldCurve, yield_vs_tolerance
+from rungwise.core.mismatch import MismatchModel
 from rungwise.core.stats_result import PERCENTILES, STAT_UNITS, YIELDS, MonteCarloResult
 from rungwise.core.units import format_value
 
@@ -53,19 +56,52 @@ def stat_rows(r: MonteCarloResult) -> list[tuple[str, str]]:
     return rows
 
 
-def render_stats_table(labels: list[str], results: list[MonteCarloResult]) -> str:
+def grade_curves(designs: list[Design], trials: int, seed: int, targets: Any, criterion: str
+                 ) -> list[YieldCurve | None]:
+    """Each design's yield over ``STANDARD_GRADES`` (``None`` for the on-chip model)."""
+    return [None if MismatchModel.of(d).model == "on-chip" else
+            yield_vs_tolerance(d, STANDARD_GRADES, trials, seed, targets, criterion) for d in designs]
+
+
+def grades_dict(curve: YieldCurve, target: float) -> dict[str, Any]:
+    """A curve as plain values: criterion, target, yield per grade, loosest passing grade."""
+    return {"criterion": curve.criterion, "target_yield": target,
+            "curve": [{"tolerance": float(g), "yield": y.value, "stderr": y.stderr}
+                      for g, y in zip(curve.steps, curve.yields, strict=True)],
+            "loosest": curve.loosest(target)}
+
+
+def _grade_rows(grades: list[dict[str, Any] | None]) -> list[list[str]]:
+    first = next(g for g in grades if g is not None)
+    rows = []
+    for i, point in enumerate(first["curve"]):
+        label = f"Yield ({first['criterion']}) at ±{point['tolerance'] * 100:g} %"
+        rows.append([label, *["—" if g is None else f"{g['curve'][i]['yield'] * 100:.2f} %"
+                              for g in grades]])
+    loosest = ["—" if g is None else "none" if g["loosest"] is None else f"±{g['loosest'] * 100:g} %"
+               for g in grades]
+    rows.append([f"Loosest grade for {first['target_yield'] * 100:g} %", *loosest])
+    return rows
+
+
+def render_stats_table(labels: list[str], results: list[MonteCarloResult],
+                       grades: list[dict[str, Any] | None] | None = None) -> str:
     """Aligned text: one row per statistic, one column per candidate."""
     per = [stat_rows(r) for r in results]
     rows = [["Statistics", *labels]]
     for i, (label, _) in enumerate(per[0]):
         rows.append([label, *[p[i][1] for p in per]])
+    if grades and any(g is not None for g in grades):
+        rows += _grade_rows(grades)
     widths = [max(len(row[i]) for row in rows) for i in range(len(rows[0]))]
     return "\n".join("  ".join(c.ljust(w) for c, w in zip(row, widths, strict=True)).rstrip()
                      for row in rows)
 
 
-def stats_csv_rows(results: list[MonteCarloResult]) -> list[list[Any]]:
-    """CSV rows ``[metric, value per candidate]`` (metric names prefixed ``stat.``)."""
+def stats_csv_rows(results: list[MonteCarloResult], grades: list[dict[str, Any] | None] | None = None
+                   ) -> list[list[Any]]:
+    """CSV rows ``[metric, value per candidate]`` (metric names prefixed ``stat.``; with grades,
+    ``stat.grade.<tolerance>`` yields and ``stat.grade.loosest``)."""
     rows: list[list[Any]] = [["stat.seed", *[r.seed for r in results]],
                              ["stat.trials", *[r.done for r in results]],
                              ["stat.engine", *[r.engine for r in results]]]
@@ -75,4 +111,9 @@ def stats_csv_rows(results: list[MonteCarloResult]) -> list[list[Any]]:
     for key in STAT_UNITS:
         for p in PERCENTILES:
             rows.append([f"stat.{key}.p{p:g}", *[r.percentiles[key][p] for r in results]])
+    for i, g in enumerate(STANDARD_GRADES if grades else ()):
+        rows.append([f"stat.grade.{g:g}", *[None if d is None else d["curve"][i]["yield"]
+                                            for d in grades]])
+    if grades:
+        rows.append(["stat.grade.loosest", *[None if d is None else d["loosest"] for d in grades]])
     return rows

@@ -9,6 +9,7 @@ import pytest
 from rungwise.app.cli import run_cli
 from rungwise.core import Design, designfile, monte_carlo
 from rungwise.core.demo import DEMO_BASE
+from rungwise.core.grades import loosest_grade
 from rungwise.core.targets import AnalysisSettings, Targets
 
 ARGS = ["compute", "--topology", "r2r-voltage", "--set", "bits=6", "--set", "mismatch.tolerance=2 %"]
@@ -57,3 +58,20 @@ def test_seed_and_targets_come_from_the_design_file(tmp_path, capsys):
 def test_bad_statistics_input_exits_2_with_a_named_field(extra, words, capsys):
     assert run_cli([*ARGS, *extra]) == 2
     assert words in capsys.readouterr().err
+
+
+def test_grades_report_the_curve_and_the_loosest_grade_like_the_api(capsys):
+    assert run_cli([*ARGS, "--trials", "300", "--seed", "4", "--grades", "--criterion", "monotonic",
+                    "--format", "json"]) == 0
+    grades = json.loads(capsys.readouterr().out)["results"][0]["statistics"]["grades"]
+    design = DEMO_BASE.with_settings({"bits": "6", "mismatch.tolerance": "2 %"})
+    grade, curve = loosest_grade(design, 0.99, trials=300, seed=4, criterion="monotonic")
+    assert grades["loosest"] == grade
+    assert [p["yield"] for p in grades["curve"]] == curve.values.tolist()
+    assert grades["criterion"] == "monotonic"
+    assert run_cli([*ARGS, "--trials", "100", "--seed", "4", "--grades", "--format", "csv"]) == 0
+    rows = dict(line.split(",", 1) for line in capsys.readouterr().out.splitlines() if "," in line)
+    assert "stat.grade.loosest" in rows
+    assert float(rows["stat.grade.0.0001"]) == 1.0
+    assert run_cli([*ARGS, "--trials", "10", "--criterion", "dnl"]) == 2
+    assert "--criterion needs --grades" in capsys.readouterr().err

@@ -22,6 +22,7 @@ Three measurements:
 from __future__ import annotations
 
 import argparse
+import os
 import sys
 import threading
 import time
@@ -123,6 +124,9 @@ def main() -> None:
     parser.add_argument("--spice-trials", type=int, default=3)
     parser.add_argument("--no-spice", action="store_true")
     args = parser.parse_args()
+    load = os.getloadavg()[0]
+    print(f"machine: {os.cpu_count()} CPUs, load average {load:.1f} (timings are wall time; a load "
+          "above the CPU count slows every figure)")
     bench_exact()
     bench_general(args.spice_trials, not args.no_spice)
     bench_memory()
