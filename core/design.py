@@ -61,6 +61,7 @@ FIELDS: dict[str, FieldSpec] = {
     "load_c": FieldSpec("Load capacitance", "F", 0.0, 1.0),
     "temperature_c": FieldSpec("Temperature", "°C", -273.15, 1000.0, low_open=True),
     "bandwidth": FieldSpec("Noise bandwidth", "Hz", 0.0, 1e12, low_open=True),
+    "thermometer_bits": FieldSpec("Segmented (thermometer) bits", "bits", 0, MAX_BITS, integer=True),
 }
 """Numeric design fields with their display label, SI unit and allowed range."""
 
@@ -111,6 +112,8 @@ class Design:
     vref, unit_r, ron_high, ron_low, ref_r, load_r, gain, feedback_r : float
         Volts, ohms, V/V. ``load_r`` is ``inf`` for an open output; ``feedback_r`` ``None`` picks the
         value that makes the ideal full scale ``Vref·(2^N − 1)/2^N``.
+    thermometer_bits : int
+        Segmented designs: M thermometer-decoded MSBs, 0 … N (other topologies ignore it).
     parts : Mapping[str, float]
         As-built resistance overrides by part id, ohms (never snapped).
     series : str
@@ -146,6 +149,7 @@ class Design:
     load_r: float = math.inf
     gain: float = 1.0
     feedback_r: float | None = None
+    thermometer_bits: int = 3
     parts: Mapping[str, float] = field(default_factory=dict)
     series: str = "exact"
     load_c: float = 0.0
@@ -171,6 +175,9 @@ class Design:
                               + ", ".join(SERIES))
         for key in FIELDS:
             object.__setattr__(self, key, _check_number(key, getattr(self, key)))
+        if self.topology == "segmented" and self.thermometer_bits > self.bits:
+            raise DesignError("thermometer_bits", f"{self.thermometer_bits} is out of range; "
+                              f"allowed: a whole number from 0 to {self.bits} (the resolution)")
         if not isinstance(self.name, str):
             raise DesignError("name", "must be text")
         parts: dict[str, float] = {}
@@ -185,9 +192,10 @@ class Design:
         if parts:
             from .topologies import part_ids  # local: topologies import this module
 
-            known = part_ids(self.topology, self.output, self.bits)
+            known = part_ids(self.topology, self.output, self.bits, self.thermometer_bits)
+            known_set = set(known)
             for pid in parts:
-                if pid not in known:
+                if pid not in known_set:
                     raise DesignError(f"parts.{pid}", f"unknown part id for {self.topology} with "
                                       f"{self.bits} bits; known ids: {_id_summary(known)}")
         object.__setattr__(self, "parts", MappingProxyType(parts))
@@ -227,7 +235,7 @@ class Design:
         data = self.to_dict()
         if "topology" in changes and "output" not in changes:
             data["output"] = None
-        if ("bits" in changes or "topology" in changes) and "parts" not in changes:
+        if ({"bits", "topology", "thermometer_bits"} & set(changes)) and "parts" not in changes:
             data["parts"] = {}
             if "mismatch" not in changes:
                 data["mismatch"] = {k: v for k, v in data["mismatch"].items() if k != "tempco_parts"}

@@ -8,7 +8,7 @@ Nodes are named by strings. ``GROUND`` is always present at 0 V. Fixed nodes hol
 
 from __future__ import annotations
 
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
 from typing import Literal
 
@@ -47,6 +47,115 @@ class SwitchedLeg:
     ohms: float
     ron_high: float
     ron_low: float
+
+
+@dataclass(frozen=True, eq=False)
+class ResistorChain:
+    """Resistors in series, held as one array (for strings of thousands of parts).
+
+    Resistor ``i`` (part id ``f"{prefix}{i}"``) joins chain node ``i`` and chain node ``i + 1``;
+    node 0 is ``start``, node ``m`` is ``end`` and node ``i`` in between is ``f"{node_prefix}{i}"``.
+    ``ohms`` has shape (m,). No other element may touch an interior node except a
+    :class:`Selector` (the solver checks).
+    """
+
+    prefix: str
+    role: str
+    start: str
+    end: str
+    node_prefix: str
+    ohms: np.ndarray
+
+    @property
+    def size(self) -> int:
+        """Number of resistors m."""
+        return int(np.shape(self.ohms)[0])
+
+    def nodes(self) -> ChainNodes:
+        """The m + 1 node names, ``start`` first, as a lazy sequence."""
+        return ChainNodes(self)
+
+    def resistors(self) -> list[Resistor]:
+        """The chain as plain :class:`Resistor` elements (for small chains and the general path)."""
+        names = list(self.nodes())
+        return [Resistor(f"{self.prefix}{i}", self.role, names[i], names[i + 1], float(r))
+                for i, r in enumerate(np.asarray(self.ohms, float))]
+
+
+class ChainNodes(Sequence):
+    """Node names of a :class:`ResistorChain`, made on demand (no list of 65,537 strings)."""
+
+    def __init__(self, chain: ResistorChain) -> None:
+        self.chain = chain
+
+    def __len__(self) -> int:
+        return self.chain.size + 1
+
+    def __getitem__(self, i):  # type: ignore[override]
+        if isinstance(i, slice):
+            return [self[j] for j in range(*i.indices(len(self)))]
+        m = self.chain.size
+        if i < 0:
+            i += m + 1
+        if not 0 <= i <= m:
+            raise IndexError(i)
+        if i == 0:
+            return self.chain.start
+        if i == m:
+            return self.chain.end
+        return f"{self.chain.node_prefix}{i}"
+
+
+@dataclass(frozen=True, eq=False)
+class ThermometerGroup:
+    """Many switched legs from one ``node``, driven in order (thermometer decoding).
+
+    Leg ``i`` (part id ``f"{prefix}{i}"``, ``ohms[i]``) is switched like a :class:`SwitchedLeg`.
+    At a code whose *level* is t (a column of the network's ``decode``), legs 0 … t−1 are driven
+    (to ``high`` through ``ron_high``) and the others rest on ``low`` through ``ron_low``. The
+    solver sees only two code-dependent conductances, node–high and node–low, read from cumulative
+    sums of the legs' conductances, so unequal as-built legs stay exact and nothing grows with
+    codes × legs. ``ohms`` has shape (m,).
+    """
+
+    prefix: str
+    role: str
+    node: str
+    high: str
+    low: str | None
+    ohms: np.ndarray
+    ron_high: float
+    ron_low: float
+
+    @property
+    def size(self) -> int:
+        """Number of legs m."""
+        return int(np.shape(self.ohms)[0])
+
+    def legs(self) -> list[SwitchedLeg]:
+        """The group as plain :class:`SwitchedLeg` elements (for tests and small groups)."""
+        return [SwitchedLeg(f"{self.prefix}{i}", self.role, self.node, self.high, self.low,
+                            float(r), self.ron_high, self.ron_low)
+                for i, r in enumerate(np.asarray(self.ohms, float))]
+
+
+@dataclass(frozen=True, eq=False)
+class Selector:
+    """A switch of on-resistance ``ron`` from ``out`` to one of ``nodes``, chosen by the code.
+
+    ``select(codes)`` returns, per code, the index into ``nodes`` of the node joined to ``out``.
+    The rest of the network must not depend on the code (no switched legs or groups); ``out``
+    connects only through this switch (and the output's load). The solver then needs one solve of
+    the fixed network for every node's open-circuit voltage and Thevenin resistance, and each code
+    is a Thevenin divider (``selector.py``).
+    """
+
+    part_id: str
+    role: str
+    out: str
+    nodes: Sequence[str]
+    ron: float
+    select: Callable[[np.ndarray], np.ndarray]
 
 
 @dataclass(frozen=True)
@@ -98,8 +207,9 @@ class Network:
         Switched legs, in the column order of ``decode``'s result.
     n_codes : int
         Number of input codes, 2^N.
-    decode : callable, codes (n,) int → ndarray of bool, shape (n, n_legs)
-        Whether each leg is driven (switched to ``high``) at each code.
+    decode : callable, codes (n,) int → ndarray, shape (n, n_legs + n_groups)
+        Whether each leg is driven (switched to ``high``) at each code, then each thermometer
+        group's level (how many of its legs are driven).
     output : Output
     parts : list[Part]
         The resistors with their ids and roles (the feedback resistor included), in display order.
@@ -107,6 +217,12 @@ class Network:
         Active parts: ``{"switches": …, "amplifiers": …}``.
     ideal_lsb : float
         The ideal output step of this topology and output variant, volts (negative when inverting).
+    chains : list[ResistorChain]
+        Series strings held as arrays (code-independent, like ``resistors``).
+    groups : list[ThermometerGroup]
+        Thermometer-decoded leg groups; their levels follow the legs in ``decode``'s columns.
+    selector : Selector or None
+        A code-selected tap switch to the output (see :class:`Selector`).
     """
 
     fixed: dict[str, float]
@@ -119,6 +235,9 @@ class Network:
     parts: list[Part] = field(default_factory=list)
     counts: dict[str, int] = field(default_factory=dict)
     ideal_lsb: float = 0.0
+    chains: list[ResistorChain] = field(default_factory=list)
+    groups: list[ThermometerGroup] = field(default_factory=list)
+    selector: Selector | None = None
 
     def unknown_nodes(self) -> list[str]:
         """Nodes the solver must find, in order of first appearance."""
@@ -131,6 +250,12 @@ class Network:
             seen.setdefault(leg.high)
             if leg.low is not None:
                 seen.setdefault(leg.low)
+        for grp in self.groups:
+            for name in (grp.node, grp.high, grp.low):
+                if name is not None:
+                    seen.setdefault(name)
+        for chain in self.chains:
+            seen.update(dict.fromkeys(chain.nodes()))
         seen.setdefault(self.output.node)
         return [n for n in seen if n not in self.fixed]
 
@@ -153,3 +278,8 @@ class BinaryDecoder:
 def binary_decoder(leg_bits: list[int]) -> BinaryDecoder:
     """A :class:`BinaryDecoder` for ``leg_bits``."""
     return BinaryDecoder(leg_bits)
+
+
+def thermometer_level(codes: np.ndarray, shift: int) -> np.ndarray:
+    """Level of a thermometer group decoded from the bits above ``shift``: ``codes >> shift``."""
+    return np.asarray(codes, dtype=np.int64) >> shift

@@ -18,6 +18,7 @@ from typing import Literal
 
 import numpy as np
 
+from . import element_arrays
 from .errors import NetworkError
 from .network import Network
 from .sparse_elim import EliminationPlan, plan_elimination, solve_batched
@@ -104,6 +105,7 @@ class _Stamps:
                 self._stamp(da, db, leg.node, leg.low, -g_lo)
             self.leg_da.append(da)
             self.leg_db.append(db)
+        self.groups = element_arrays.compile_groups(self, net, ohms)
 
     def _stamp(self, a, b, na: str, nb: str, g) -> None:
         """Add conductance ``g`` between ``na`` and ``nb`` to entries ``a`` and sources/probe ``b``."""
@@ -128,6 +130,8 @@ class _Stamps:
 
     def superposition_holds(self) -> bool:
         """True when no leg changes the nodal matrix (so outputs are affine in the drives)."""
+        if self.groups:
+            return False
         for da in self.leg_da:
             for value in da.values():
                 if np.any(np.asarray(value) != 0.0):
@@ -166,7 +170,7 @@ def _check_connected(net: Network, nodes: list[str]) -> None:
     for r in net.resistors:
         links.setdefault(r.a, set()).add(r.b)
         links.setdefault(r.b, set()).add(r.a)
-    for leg in net.legs:
+    for leg in [*net.legs, *net.groups]:
         for rail in (leg.high, leg.low):
             if rail is not None:
                 links.setdefault(leg.node, set()).add(rail)
@@ -223,6 +227,10 @@ def solve(
         A node is floating, or superposition was asked for where it is not exact.
     """
     ohms = dict(ohms or {})
+    if net.selector is not None or net.chains:
+        from .selector import solve_selected  # networks with array-held strings or a tap switch
+
+        return solve_selected(net, ohms, codes, method, keep_nodes)
     st = _Stamps(net, ohms)
     _check_connected(net, st.nodes)
     full_range = codes is None
@@ -306,6 +314,8 @@ def _solve_general(st: _Stamps, cols, probe_node, plan):
     n = st.n
     entries = dict(st.a0)
     b = {i: list(v) for i, v in st.b0.items()}
+    cols, levels = cols[:len(st.leg_da)], cols[len(st.leg_da):]  # group levels follow the legs
+    element_arrays.stamp_groups(st, levels, entries, b)
     for d, da, db in zip(cols, st.leg_da, st.leg_db, strict=True):
         for key, val in da.items():
             entries[key] = entries.get(key, 0.0) + val * d
@@ -469,3 +479,4 @@ def _elements(st: _Stamps, cols):
         yield leg.node, leg.high, g_hi * d
         if leg.low is not None:
             yield leg.node, leg.low, g_lo * (1.0 - d)
+    yield from element_arrays.group_elements(st, cols[len(net.legs):])

@@ -8,7 +8,7 @@ from __future__ import annotations
 
 from typing import Literal, get_args
 
-Topology = Literal["binary-weighted", "r2r-voltage", "r2r-current"]
+Topology = Literal["binary-weighted", "r2r-voltage", "r2r-current", "segmented", "string"]
 """Network families the engine can build."""
 
 OutputVariant = Literal[
@@ -23,6 +23,8 @@ OUTPUTS_BY_TOPOLOGY: dict[str, tuple[str, ...]] = {
     "binary-weighted": ("divider", "terminated-divider", "summing-amp"),
     "r2r-voltage": ("unbuffered", "buffer"),
     "r2r-current": ("transimpedance",),
+    "segmented": ("unbuffered", "buffer"),
+    "string": ("unbuffered", "buffer"),
 }
 """Allowed output variants per topology; the first is the default."""
 

@@ -60,6 +60,17 @@ def snap_network(design, net: Network) -> Network:
     net.parts = [dataclasses.replace(p, ohms=new.get(p.part_id, p.ohms)) for p in net.parts]
     net.resistors = [dataclasses.replace(r, ohms=new.get(r.part_id, r.ohms)) for r in net.resistors]
     net.legs = [dataclasses.replace(g, ohms=new.get(g.part_id, g.ohms)) for g in net.legs]
+    net.chains = [dataclasses.replace(c, ohms=_array_snapped(c.prefix, c.ohms, new))
+                  for c in net.chains]
+    net.groups = [dataclasses.replace(g, ohms=_array_snapped(g.prefix, g.ohms, new))
+                  for g in net.groups]
     if net.output.kind == "virtual-ground" and "feedback" in new:
         net.output = dataclasses.replace(net.output, feedback_ohms=new["feedback"])
     return net
+
+
+def _array_snapped(prefix: str, ohms, new: dict[str, float]):
+    """An array-held element's values (parts ``prefix0 …``) with the snapped values applied."""
+    import numpy as np
+
+    return np.array([new.get(f"{prefix}{i}", x) for i, x in enumerate(np.asarray(ohms).tolist())])

@@ -12,12 +12,14 @@ from ..build_style import apply_build
 from ..design import Design
 from ..network import Network
 from ..parts.snapping import snap_network
-from . import binary_weighted, r2r_current, r2r_voltage
+from . import binary_weighted, r2r_current, r2r_voltage, segmented, string
 
 BUILDERS: dict[str, ModuleType] = {
     "binary-weighted": binary_weighted,
     "r2r-voltage": r2r_voltage,
     "r2r-current": r2r_current,
+    "segmented": segmented,
+    "string": string,
 }
 """Topology name → builder module (with ``build(design)`` and ``part_ids(output, bits)``)."""
 
@@ -28,6 +30,9 @@ def build(design: Design) -> Network:
     return snap_network(design, apply_build(design, BUILDERS[design.topology].build(design)))
 
 
-def part_ids(topology: str, output: str, bits: int) -> list[str]:
-    """Every part id a design of this topology, output and resolution has, in display order."""
+def part_ids(topology: str, output: str, bits: int, thermometer_bits: int = 0) -> list[str]:
+    """Every part id a design of this topology, output and resolution has, in display order
+    (``thermometer_bits`` matters to segmented designs only)."""
+    if topology == "segmented":
+        return segmented.part_ids(output, bits, thermometer_bits)
     return BUILDERS[topology].part_ids(output, bits)

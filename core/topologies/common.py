@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from ..design import Design
-from ..network import GROUND, Resistor
+from ..network import GROUND, Part, Resistor, SwitchedLeg
 
 REF_SOURCE = "vsrc"
 """Node of the ideal reference source when it has an output resistance."""
@@ -26,3 +26,28 @@ def reference(design: Design, ref_node: str = "ref") -> tuple[dict[str, float], 
 def value(design: Design, part_id: str, nominal: float) -> float:
     """The as-built value of ``part_id`` if the design gives one, else ``nominal`` (ohms)."""
     return float(design.parts.get(part_id, nominal))
+
+
+def r2r_section(design: Design, bits: int, high: str, term_ohms: float
+                ) -> tuple[list[SwitchedLeg], list[Resistor], list[Part]]:
+    """An R-2R ladder of ``bits`` legs on nodes ``n0`` (LSB) … ``n{bits−1}``.
+
+    Legs ``leg{k}`` (2R) switch between ``high`` and ground; ``series{k}`` (R) joins ``n{k}`` and
+    ``n{k+1}``; ``term`` (``term_ohms`` nominal) goes from ``n0`` to ground. As-built values from
+    the design replace the nominal ones. Returns legs, resistors and parts in display order.
+    """
+    r = design.unit_r
+    legs, resistors, parts = [], [], []
+    for k in range(bits):
+        ohms = value(design, f"leg{k}", 2 * r)
+        legs.append(SwitchedLeg(f"leg{k}", "leg", f"n{k}", high, GROUND, ohms,
+                                design.ron_high, design.ron_low))
+        parts.append(Part(f"leg{k}", "leg", ohms))
+    for k in range(bits - 1):
+        res = Resistor(f"series{k}", "series", f"n{k}", f"n{k + 1}", value(design, f"series{k}", r))
+        resistors.append(res)
+        parts.append(Part(res.part_id, "series", res.ohms))
+    term = Resistor("term", "termination", "n0", GROUND, value(design, "term", term_ohms))
+    resistors.append(term)
+    parts.append(Part("term", "termination", term.ohms))
+    return legs, resistors, parts

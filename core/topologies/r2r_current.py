@@ -6,8 +6,8 @@ steers its current to the summing node (bit 1) or to ground (bit 0); a transimpe
 from __future__ import annotations
 
 from ..design import Design
-from ..network import GROUND, Network, Output, Part, Resistor, SwitchedLeg, binary_decoder
-from .common import reference, value
+from ..network import Network, Output, Part, binary_decoder
+from .common import r2r_section, reference, value
 
 
 def part_ids(output: str, bits: int) -> list[str]:
@@ -22,19 +22,8 @@ def build(design: Design) -> Network:
     top = f"n{n - 1}"
     fixed, resistors, source = reference(design, ref_node=top)
     fixed["sum"] = 0.0
-    legs, parts = [], []
-    for k in range(n):
-        ohms = value(design, f"leg{k}", 2 * r)
-        legs.append(SwitchedLeg(f"leg{k}", "leg", f"n{k}", "sum", GROUND, ohms,
-                                design.ron_high, design.ron_low))
-        parts.append(Part(f"leg{k}", "leg", ohms))
-    for k in range(n - 1):
-        res = Resistor(f"series{k}", "series", f"n{k}", f"n{k + 1}", value(design, f"series{k}", r))
-        resistors.append(res)
-        parts.append(Part(res.part_id, "series", res.ohms))
-    term = Resistor("term", "termination", "n0", GROUND, value(design, "term", 2 * r))
-    resistors.append(term)
-    parts.append(Part("term", "termination", term.ohms))
+    legs, ladder, parts = r2r_section(design, n, "sum", 2 * r)
+    resistors += ladder
     rf = value(design, "feedback", design.feedback_r or r)
     parts.append(Part("feedback", "feedback", rf))
     return Network(fixed=fixed, source=source, resistors=resistors, legs=legs, n_codes=2**n,

@@ -8,8 +8,8 @@ Output variants: ``unbuffered`` (load on the ladder) and ``buffer`` (ideal ampli
 from __future__ import annotations
 
 from ..design import Design
-from ..network import GROUND, Network, Output, Part, Resistor, SwitchedLeg, binary_decoder
-from .common import reference, value
+from ..network import Network, Output, binary_decoder
+from .common import r2r_section, reference
 
 
 def part_ids(output: str, bits: int) -> list[str]:
@@ -22,19 +22,8 @@ def build(design: Design) -> Network:
     """The voltage-mode ladder of ``design`` (see module docstring)."""
     n, r = design.bits, design.unit_r
     fixed, resistors, source = reference(design)
-    legs, parts = [], []
-    for k in range(n):
-        ohms = value(design, f"leg{k}", 2 * r)
-        legs.append(SwitchedLeg(f"leg{k}", "leg", f"n{k}", "ref", GROUND, ohms,
-                                design.ron_high, design.ron_low))
-        parts.append(Part(f"leg{k}", "leg", ohms))
-    for k in range(n - 1):
-        res = Resistor(f"series{k}", "series", f"n{k}", f"n{k + 1}", value(design, f"series{k}", r))
-        resistors.append(res)
-        parts.append(Part(res.part_id, "series", res.ohms))
-    term = Resistor("term", "termination", "n0", GROUND, value(design, "term", 2 * r))
-    resistors.append(term)
-    parts.append(Part("term", "termination", term.ohms))
+    legs, ladder, parts = r2r_section(design, n, "ref", 2 * r)
+    resistors += ladder
     buffered = design.output == "buffer"
     output = Output("node", f"n{n - 1}", buffered=buffered, gain=design.gain if buffered else 1.0,
                     load_ohms=design.load_r)

@@ -1,0 +1,99 @@
+"""Solver support for the array-held element kinds of ``network.py``: thermometer leg groups.
+
+A :class:`~rungwise.core.network.ThermometerGroup` of m legs at level t is two conductances from
+its node: to ``high`` the sum of the first t legs' conductances, to ``low`` the sum of the rest.
+Both are read from cumulative sums (shape ``trials + (m + 1,)``) indexed by the level, so a group
+of 65,535 legs costs one cumulative sum, never a codes × legs matrix. The solver (``solve.py``)
+calls :func:`compile_groups`, :func:`stamp_groups` and :func:`group_elements`.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from dataclasses import dataclass
+
+import numpy as np
+
+
+def array_values(prefix: str, nominal: np.ndarray, ohms: Mapping[str, np.ndarray | float]
+                 ) -> np.ndarray:
+    """Values of parts ``prefix0 … prefix{m−1}`` with the overrides in ``ohms`` applied.
+
+    Returns
+    -------
+    ndarray, shape (m,) or trials + (m,), ohms
+        Trial-shaped when an override is an array of shape (n_trials, 1).
+    """
+    nominal = np.asarray(nominal, dtype=float)
+    m = nominal.shape[-1]
+    hits: list[tuple[int, np.ndarray | float]] = []
+    for pid, value in ohms.items():
+        if pid.startswith(prefix):
+            tail = pid[len(prefix):]
+            if tail.isdigit() and int(tail) < m and str(int(tail)) == tail:
+                hits.append((int(tail), value))
+    if not hits:
+        return nominal
+    trial = np.broadcast_shapes(*[np.shape(v) for _, v in hits])
+    lead = trial[:-1] if trial else ()
+    out = np.array(np.broadcast_to(nominal, (*lead, m)), dtype=float)
+    for i, value in hits:
+        v = np.asarray(value, dtype=float)
+        out[..., i] = v[..., 0] if v.ndim else v
+    return out
+
+
+@dataclass
+class CompiledGroup:
+    """Cumulative conductances of one group: ``c_hi[..., t]`` = Σ of legs 0…t−1 to ``high``,
+    ``c_lo[..., t]`` = Σ of legs t…m−1 to ``low`` (siemens, shape trials + (m + 1,))."""
+
+    node: str
+    high: str
+    low: str | None
+    c_hi: np.ndarray
+    c_lo: np.ndarray
+
+
+def _cumulative(g: np.ndarray) -> np.ndarray:
+    zero = np.zeros((*g.shape[:-1], 1))
+    return np.concatenate([zero, np.cumsum(g, axis=-1)], axis=-1)
+
+
+def compile_groups(st, net, ohms: Mapping[str, np.ndarray | float]) -> list[CompiledGroup]:
+    """Cumulative tables of every group of ``net``; registers the groups' matrix pattern in ``st``."""
+    out = []
+    for grp in net.groups:
+        r = array_values(grp.prefix, grp.ohms, ohms)
+        c_hi = _cumulative(1.0 / (r + grp.ron_high))
+        if grp.low is None:
+            c_lo = np.zeros_like(c_hi)
+        else:
+            c = _cumulative(1.0 / (r + grp.ron_low))
+            c_lo = c[..., -1:] - c
+        out.append(CompiledGroup(grp.node, grp.high, grp.low, c_hi, c_lo))
+        for rail in (grp.high, grp.low):
+            if rail is not None:
+                st._stamp({}, {}, grp.node, rail, 0.0)  # pattern only
+    return out
+
+
+def stamp_groups(st, levels: list, entries: dict, b: dict) -> None:
+    """Add every group's conductances to the nodal ``entries`` and ``b``.
+
+    ``levels[k]`` is group k's level per code (the decode columns after the legs), shape (n_chunk,).
+    """
+    for grp, level in zip(st.groups, levels, strict=True):
+        t = np.asarray(level).astype(np.int64)
+        st._stamp(entries, b, grp.node, grp.high, grp.c_hi[..., t])
+        if grp.low is not None:
+            st._stamp(entries, b, grp.node, grp.low, grp.c_lo[..., t])
+
+
+def group_elements(st, levels: list):
+    """Every group as two conducting elements (node a, node b, conductance per code)."""
+    for grp, level in zip(st.groups, levels, strict=True):
+        t = np.asarray(level).astype(np.int64)
+        yield grp.node, grp.high, grp.c_hi[..., t]
+        if grp.low is not None:
+            yield grp.node, grp.low, grp.c_lo[..., t]

@@ -1,0 +1,100 @@
+"""Segmented network: M thermometer-decoded MSB segments joined to an (N − M)-bit R-2R section.
+
+Sizing rule: every segment leg equals the Thevenin resistance of the binary section seen at the
+joining node. For the voltage-mode R-2R section that resistance is R (``unit_r``) whatever its
+length, so each of the 2^M − 1 segment legs is R and carries 2^(N − M) LSB of weight: with t
+segments driven and the ladder at code c, Vout = Vref·(t·2^L + c)/2^N, L = N − M.
+
+Nodes ``n0`` (LSB) … ``n{L−1}`` (the joining node and output) as in ``r2r_voltage``; with L = 0
+the binary section is only ``term`` = R from ``n0`` to ground, so 2^N − 1 segments and ``term``
+make 2^N equal parts. Part ids: ``seg0 … seg{2^M−2}`` then the ladder's ``leg…``, ``series…``,
+``term``. The segments are one :class:`ThermometerGroup` (legs 0 … t−1 driven at level t), so a
+design with 65,535 segments costs no codes × legs work.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from ..design import Design
+from ..network import GROUND, Network, Output, Part, SwitchedLeg, ThermometerGroup, thermometer_level
+from .common import r2r_section, reference
+
+SIZING_RULE = ("each segment leg equals the binary section's Thevenin resistance at the joining "
+               "node (R for an R-2R section), so one segment weighs 2^(N−M) LSB")
+"""The segment sizing rule in words, for the screen and reports."""
+
+
+def part_ids(output: str, bits: int, thermometer_bits: int = 0) -> list[str]:
+    """Part ids in display order: segments, then the ladder's."""
+    m, lad = thermometer_bits, bits - thermometer_bits
+    return ([f"seg{i}" for i in range(2**m - 1)] + [f"leg{k}" for k in range(lad)]
+            + [f"series{k}" for k in range(lad - 1)] + ["term"])
+
+
+def _segment_ohms(design: Design, count: int) -> np.ndarray:
+    ohms = np.full(count, design.unit_r)
+    for pid, x in design.parts.items():
+        if pid.startswith("seg"):
+            ohms[int(pid[3:])] = x
+    return ohms
+
+
+def build(design: Design, grouped: bool = True) -> Network:
+    """The segmented network of ``design``.
+
+    ``grouped=False`` gives the same circuit with one plain :class:`SwitchedLeg` per segment and a
+    codes × segments decode (for checking the grouped form on small designs).
+    """
+    n, m, r = design.bits, design.thermometer_bits, design.unit_r
+    lad = n - m
+    fixed, resistors, source = reference(design)
+    n_seg = 2**m - 1
+    join = f"n{max(lad, 1) - 1}"
+    seg_ohms = _segment_ohms(design, n_seg)
+    seg_parts = [Part(f"seg{i}", "segment", float(x)) for i, x in enumerate(seg_ohms)]
+    legs, ladder, parts = r2r_section(design, lad, "ref", 2 * r if lad else r)
+    resistors += ladder
+    groups = []
+    if grouped:
+        if n_seg:
+            groups.append(ThermometerGroup("seg", "segment", join, "ref", GROUND, seg_ohms,
+                                           design.ron_high, design.ron_low))
+        decode = _grouped_decoder(lad, bool(n_seg))
+    else:
+        legs = [SwitchedLeg(p.part_id, "segment", join, "ref", GROUND, p.ohms, design.ron_high,
+                            design.ron_low) for p in seg_parts] + legs
+        decode = _plain_decoder(lad, n_seg)
+    buffered = design.output == "buffer"
+    output = Output("node", join, buffered=buffered, gain=design.gain if buffered else 1.0,
+                    load_ohms=design.load_r)
+    return Network(fixed=fixed, source=source, resistors=resistors, legs=legs, n_codes=2**n,
+                   decode=decode, output=output, parts=seg_parts + parts,
+                   counts={"switches": n_seg + lad, "amplifiers": int(buffered)},
+                   ideal_lsb=design.vref / 2**n * (design.gain if buffered else 1.0),
+                   groups=groups)
+
+
+def _grouped_decoder(lad: int, has_group: bool):
+    """Ladder bits 0 … L−1, then the segment level ``code >> L``."""
+
+    def decode(codes: np.ndarray) -> np.ndarray:
+        codes = np.asarray(codes, dtype=np.int64)
+        cols = [(codes[:, None] >> np.arange(lad)[None, :]) & 1]
+        if has_group:
+            cols.append(thermometer_level(codes, lad)[:, None])
+        return np.concatenate(cols, axis=1)
+
+    return decode
+
+
+def _plain_decoder(lad: int, n_seg: int):
+    """Segment i driven when ``code >> L`` exceeds i, then the ladder bits."""
+
+    def decode(codes: np.ndarray) -> np.ndarray:
+        codes = np.asarray(codes, dtype=np.int64)
+        seg = thermometer_level(codes, lad)[:, None] > np.arange(n_seg)[None, :]
+        bits = ((codes[:, None] >> np.arange(lad)[None, :]) & 1).astype(bool)
+        return np.concatenate([seg, bits], axis=1)
+
+    return decode
