@@ -14,7 +14,7 @@ from types import MappingProxyType
 from typing import Any
 
 from .errors import DesignError
-from .types import MAX_BITS, OUTPUTS_BY_TOPOLOGY, SERIES, TOPOLOGIES
+from .types import MAX_ARRAY_BITS, MAX_BITS, OUTPUTS_BY_TOPOLOGY, SERIES, TOPOLOGIES
 from .units import parse_value
 
 
@@ -61,7 +61,8 @@ FIELDS: dict[str, FieldSpec] = {
     "load_c": FieldSpec("Load capacitance", "F", 0.0, 1.0),
     "temperature_c": FieldSpec("Temperature", "°C", -273.15, 1000.0, low_open=True),
     "bandwidth": FieldSpec("Noise bandwidth", "Hz", 0.0, 1e12, low_open=True),
-    "thermometer_bits": FieldSpec("Segmented (thermometer) bits", "bits", 0, MAX_BITS, integer=True),
+    "thermometer_bits": FieldSpec("Segmented (thermometer) bits", "bits", 0, MAX_ARRAY_BITS,
+                                  integer=True),
 }
 """Numeric design fields with their display label, SI unit and allowed range."""
 
@@ -175,6 +176,9 @@ class Design:
                               + ", ".join(SERIES))
         for key in FIELDS:
             object.__setattr__(self, key, _check_number(key, getattr(self, key)))
+        if self.topology == "string" and self.bits > MAX_ARRAY_BITS:
+            raise DesignError("bits", f"{self.bits} is out of range for a resistor string; allowed: "
+                              f"a whole number from 1 to {MAX_ARRAY_BITS} (2^N resistors)")
         if self.topology == "segmented" and self.thermometer_bits > self.bits:
             raise DesignError("thermometer_bits", f"{self.thermometer_bits} is out of range; "
                               f"allowed: a whole number from 0 to {self.bits} (the resolution)")

@@ -97,3 +97,41 @@ def group_elements(st, levels: list):
         yield grp.node, grp.high, grp.c_hi[..., t]
         if grp.low is not None:
             yield grp.node, grp.low, grp.c_lo[..., t]
+
+
+def plain_equivalent(net):
+    """The same circuit with only plain elements: chains as resistors, groups as one switched leg
+    per member, a selector as one switched leg per selectable node (``ohms`` = the switch's
+    on-resistance, driven when selected). For checks against the general solver and other
+    simulators on small networks; the decode grows to codes × legs.
+    """
+    import dataclasses
+
+    from .network import SwitchedLeg
+
+    if not (net.chains or net.groups or net.selector is not None):
+        return net
+    legs = list(net.legs)
+    n_legs = len(legs)
+    for grp in net.groups:
+        legs += grp.legs()
+    sel = net.selector
+    if sel is not None:
+        legs += [SwitchedLeg(f"{sel.part_id}{i}", sel.role, name, sel.out, None, sel.ron, 0.0, 0.0)
+                 for i, name in enumerate(sel.nodes)]
+    sizes = [grp.size for grp in net.groups]
+    decode_groups = net.decode
+
+    def decode(codes):
+        codes = np.asarray(codes, dtype=np.int64)
+        raw = np.asarray(decode_groups(codes))
+        cols = [raw[:, :n_legs].astype(bool)]
+        for k, m in enumerate(sizes):
+            cols.append(raw[:, n_legs + k][:, None] > np.arange(m)[None, :])
+        if sel is not None:
+            cols.append(np.asarray(sel.select(codes))[:, None] == np.arange(len(sel.nodes))[None, :])
+        return np.concatenate(cols, axis=1)
+
+    resistors = [*net.resistors, *[r for chain in net.chains for r in chain.resistors()]]
+    return dataclasses.replace(net, resistors=resistors, legs=legs, decode=decode, chains=[],
+                               groups=[], selector=None)

@@ -42,3 +42,6 @@ ZERO_CELSIUS = 273.15
 
 MAX_BITS = 24
 """Largest resolution the engine accepts, bits."""
+
+MAX_ARRAY_BITS = 16
+"""Largest resolution of a resistor string and largest thermometer segment count, bits (2^N parts)."""

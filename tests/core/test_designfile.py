@@ -39,9 +39,12 @@ def designs(draw) -> Design:
     topology = draw(st.sampled_from(TOPOLOGIES))
     output = draw(st.sampled_from(OUTPUTS_BY_TOPOLOGY[topology]))
     values = {k: draw(_field_value(spec)) for k, spec in FIELDS.items()}
+    values["thermometer_bits"] = min(values["thermometer_bits"], values["bits"])
+    if topology == "string":
+        values["bits"] = min(values["bits"], 10)
     name = draw(st.text(max_size=20).filter(lambda s: "\x00" not in s))
     base = Design(topology=topology, output=output, **values, name=name)
-    ids = part_ids(topology, base.output, base.bits)
+    ids = part_ids(topology, base.output, base.bits, base.thermometer_bits)
     chosen = draw(st.lists(st.sampled_from(ids), max_size=3, unique=True))
     parts = {pid: draw(st.floats(1e-3, 1e12, allow_nan=False)) for pid in chosen}
     return base.replace(parts=parts) if parts else base

@@ -8,6 +8,7 @@ import numpy as np
 import pytest
 
 from rungwise.core import Design, DesignError, evaluate
+from rungwise.core.element_arrays import plain_equivalent
 from rungwise.core.network import GROUND, SwitchedLeg
 from rungwise.core.selector import tap_table
 from rungwise.core.solve import solve
@@ -34,19 +35,6 @@ def test_output_resistance_k_times_rest_over_total(bits, ron):
     np.testing.assert_allclose(ev.rout, k * (2**bits - k) * r / 2**bits + ron, rtol=1e-12)
 
 
-def _one_hot_network(net):
-    """The same string with the tap as one plain switched leg per node (general solver)."""
-    chain, sel = net.chains[0], net.selector
-    legs = [SwitchedLeg(f"tap{i}", "tap", name, sel.out, None, 0.0, sel.ron, 0.0)
-            for i, name in enumerate(list(chain.nodes())[:net.n_codes])]
-
-    def decode(codes):
-        return np.asarray(codes)[:, None] == np.arange(net.n_codes)[None, :]
-
-    return dataclasses.replace(net, resistors=[*net.resistors, *chain.resistors()], chains=[],
-                               selector=None, legs=legs, decode=decode)
-
-
 def _loaded_string(bits=4):
     rng = np.random.default_rng(7)
     as_built = {f"string{i}": 1e4 * (1 + 0.02 * rng.standard_normal()) for i in range(2**bits)}
@@ -57,7 +45,7 @@ def _loaded_string(bits=4):
 def test_series_path_agrees_with_general_solver_and_sparse():
     net = build(_loaded_string())
     fast = solve(net)
-    plain = solve(_one_hot_network(net), method="general")
+    plain = solve(plain_equivalent(net), method="general")
     assert fast.method == "series-path"
     for name in ("vout", "rout", "iref"):
         np.testing.assert_allclose(getattr(fast, name), getattr(plain, name), rtol=1e-11)

@@ -39,6 +39,7 @@ from typing import Literal
 
 import numpy as np
 
+from rungwise.core.element_arrays import plain_equivalent
 from rungwise.core.network import GROUND, Network
 
 SpiceMethod = Literal["copies", "sweep"]
@@ -365,6 +366,7 @@ def simulate(net: Network, codes: np.ndarray | None = None, ohms: Mapping[str, f
     SpiceResult
         ``vout`` (V), ``iref`` (A), ``rout`` (Ω), each of shape (n_codes,).
     """
+    net = plain_equivalent(net)  # array-held strings, leg groups and tap selectors as plain parts
     codes = np.arange(net.n_codes) if codes is None else np.asarray(codes, dtype=np.int64)
     if method == "sweep":
         body, (vout, isrc, rout), dc = sweep_netlist(net, codes, ohms)
