@@ -62,7 +62,7 @@ FIELDS: dict[str, FieldSpec] = {
     "temperature_c": FieldSpec("Temperature", "°C", -273.15, 1000.0, low_open=True),
     "bandwidth": FieldSpec("Noise bandwidth", "Hz", 0.0, 1e12, low_open=True),
     "thermometer_bits": FieldSpec("Segmented (thermometer) bits", "bits", 0, MAX_ARRAY_BITS,
-                                  integer=True),
+                                  integer=True, optional=True),
 }
 """Numeric design fields with their display label, SI unit and allowed range."""
 
@@ -98,6 +98,10 @@ def _check_number(key: str, value: Any) -> float | None:
     return int(x) if spec.integer else x
 
 
+DEFAULT_THERMOMETER_BITS = 3
+"""Thermometer bits M of a segmented design when none are given (clipped to N)."""
+
+
 @dataclass(frozen=True)
 class Design:
     """One candidate network with every setting, in SI units.
@@ -114,7 +118,8 @@ class Design:
         Volts, ohms, V/V. ``load_r`` is ``inf`` for an open output; ``feedback_r`` ``None`` picks the
         value that makes the ideal full scale ``Vref·(2^N − 1)/2^N``.
     thermometer_bits : int
-        Segmented designs: M thermometer-decoded MSBs, 0 … N (other topologies ignore it).
+        Segmented designs: M thermometer-decoded MSBs, 0 … N (other topologies ignore it);
+        ``None`` picks ``min(3, N)``. Changing ``bits`` alone clips it to the new N.
     parts : Mapping[str, float]
         As-built resistance overrides by part id, ohms (never snapped).
     series : str
@@ -150,7 +155,7 @@ class Design:
     load_r: float = math.inf
     gain: float = 1.0
     feedback_r: float | None = None
-    thermometer_bits: int = 3
+    thermometer_bits: int | None = None
     parts: Mapping[str, float] = field(default_factory=dict)
     series: str = "exact"
     load_c: float = 0.0
@@ -176,6 +181,8 @@ class Design:
                               + ", ".join(SERIES))
         for key in FIELDS:
             object.__setattr__(self, key, _check_number(key, getattr(self, key)))
+        if self.thermometer_bits is None:
+            object.__setattr__(self, "thermometer_bits", min(DEFAULT_THERMOMETER_BITS, self.bits))
         if self.topology == "string" and self.bits > MAX_ARRAY_BITS:
             raise DesignError("bits", f"{self.bits} is out of range for a resistor string; allowed: "
                               f"a whole number from 1 to {MAX_ARRAY_BITS} (2^N resistors)")
@@ -243,6 +250,13 @@ class Design:
             data["parts"] = {}
             if "mismatch" not in changes:
                 data["mismatch"] = {k: v for k, v in data["mismatch"].items() if k != "tempco_parts"}
+        if "bits" in changes and "thermometer_bits" not in changes:
+            try:
+                n = _check_number("bits", changes["bits"])
+            except DesignError:
+                n = None  # the new design reports it
+            if n is not None:
+                data["thermometer_bits"] = min(int(data["thermometer_bits"]), int(n))
         data.update(changes)
         return Design.from_dict(data)
 

@@ -99,11 +99,11 @@ def group_elements(st, levels: list):
             yield grp.node, grp.low, grp.c_lo[..., t]
 
 
-def plain_equivalent(net):
+def plain_equivalent(net, min_ron: float = 0.0):
     """The same circuit with only plain elements: chains as resistors, groups as one switched leg
     per member, a selector as one switched leg per selectable node (``ohms`` = the switch's
-    on-resistance, driven when selected). For checks against the general solver and other
-    simulators on small networks; the decode grows to codes × legs.
+    on-resistance, at least ``min_ron``, driven when selected). For checks against the general
+    solver and other simulators on small networks; the decode grows to codes × legs.
     """
     import dataclasses
 
@@ -117,7 +117,8 @@ def plain_equivalent(net):
         legs += grp.legs()
     sel = net.selector
     if sel is not None:
-        legs += [SwitchedLeg(f"{sel.part_id}{i}", sel.role, name, sel.out, None, sel.ron, 0.0, 0.0)
+        ron = max(sel.ron, min_ron)
+        legs += [SwitchedLeg(f"{sel.part_id}{i}", sel.role, name, sel.out, None, ron, 0.0, 0.0)
                  for i, name in enumerate(sel.nodes)]
     sizes = [grp.size for grp in net.groups]
     decode_groups = net.decode
@@ -135,3 +136,10 @@ def plain_equivalent(net):
     resistors = [*net.resistors, *[r for chain in net.chains for r in chain.resistors()]]
     return dataclasses.replace(net, resistors=resistors, legs=legs, decode=decode, chains=[],
                                groups=[], selector=None)
+
+
+def plain_size(net) -> int:
+    """Number of plain elements :func:`plain_equivalent` would make."""
+    n = len(net.resistors) + len(net.legs) + sum(c.size for c in net.chains)
+    n += sum(g.size for g in net.groups)
+    return n + (len(net.selector.nodes) if net.selector is not None else 0)

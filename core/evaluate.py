@@ -167,7 +167,8 @@ def evaluate(design: Design) -> Evaluation:
         dnl=linearity.dnl(v),
         summary={**summarize(design, net, sol), **extra},
         parts=[{"id": p.part_id, "ohms": p.ohms, "role": p.role,
-                "power_max": worst[p.part_id].power_max, "power_code": worst[p.part_id].power_code}
+                "power_max": worst[p.part_id].power_max if p.part_id in worst else np.nan,
+                "power_code": worst[p.part_id].power_code if p.part_id in worst else -1}
                for p in net.parts],
         network=net,
         solution=sol,

@@ -14,10 +14,12 @@ element above *except* the feedback resistor (fed by the amplifier, not the refe
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 import numpy as np
 
+from ..element_arrays import plain_equivalent, plain_size
 from ..network import Network
 from ..solve import solve
 
@@ -26,6 +28,11 @@ CODE_CHUNK = 1 << 15
 
 WHOLE_CODES = 1 << 16
 """Up to this many codes are solved in one pass (the solver's fastest path), above in chunks."""
+
+PLAIN_ELEMENTS = 1 << 21
+"""Largest (element × code) count for which a network with array-held elements (strings, leg
+groups, a tap selector) gets power figures, from its plain equivalent; above it they are NaN
+(not computed)."""
 
 FROM_AMPLIFIER = ("feedback",)
 """Elements the amplifier feeds, left out of the reference's power balance."""
@@ -119,6 +126,16 @@ def worst_case(net: Network) -> tuple[list[ElementPower], dict[str, float]]:
         |Vref·Iref|) and its code ``ref_power_max_code``; ``balance_error_max`` (W, largest
         |Vref·Iref − Σ reference-fed elements|, a check that should be round-off).
     """
+    if net.chains or net.groups or net.selector is not None:
+        # array-held elements: worked on their plain equivalent while that stays small
+        if plain_size(net) * net.n_codes > PLAIN_ELEMENTS:
+            return [], {k: math.nan for k in ("power_total_max", "power_total_max_code",
+                                              "ref_power_max", "ref_power_max_code",
+                                              "balance_error_max")}
+        # an ideal tap switch (0 Ω) becomes 1e-6 of the smallest resistor (its power stays 0)
+        smallest = min([r.ohms for r in net.resistors] + [float(np.min(c.ohms)) for c in net.chains]
+                       + [float(np.min(g.ohms)) for g in net.groups if g.size])
+        net = plain_equivalent(net, min_ron=1e-6 * smallest)
     vref = net.fixed[net.source]
     best: dict[str, list] = {}
     tot_best = [-1.0, 0]
