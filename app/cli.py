@@ -13,10 +13,11 @@ from types import ModuleType
 
 from rungwise.core.errors import RungwiseError
 
-from . import cli_bom, cli_compute, cli_diagnose, cli_export, cli_new, cli_report
+from . import cli_bom, cli_compute, cli_diagnose, cli_export, cli_new, cli_report, cli_sweep
 
 COMMANDS: dict[str, ModuleType] = {
-    m.NAME: m for m in (cli_compute, cli_new, cli_export, cli_report, cli_bom, cli_diagnose)}
+    m.NAME: m for m in (cli_compute, cli_new, cli_export, cli_report, cli_bom, cli_diagnose,
+                        cli_sweep)}
 """Command name → module implementing it."""
 
 EXIT_OK, EXIT_INTERNAL, EXIT_BAD_INPUT = 0, 1, 2

@@ -31,5 +31,6 @@ VIEWS: list[ViewEntry] = [
     ViewEntry("stats_pane", "Statistics", "rungwise.app.stats_view", "StatisticsPane"),
     ViewEntry("diagnose_pane", "Built board", "rungwise.app.diagnose_view", "DiagnosePane"),
     ViewEntry("parts_pane", "Parts", "rungwise.app.parts_view", "PartsPane"),
+    ViewEntry("explorer_pane", "Trade-offs", "rungwise.app.explorer_view", "ExplorerPane"),
 ]
 """Registered views, in tab order."""

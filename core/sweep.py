@@ -194,15 +194,20 @@ def _key(design: Design, stats: SweepStatistics | None) -> str:
                       sort_keys=True, default=str)
 
 
-def point_figures(design: Design, stats: SweepStatistics | None = None) -> dict[str, Any]:
+class _Interrupted(Exception):
+    """A point's Monte Carlo run was cancelled (nothing is cached)."""
+
+
+def point_figures(design: Design, stats: SweepStatistics | None = None, cancel: Any = None
+                  ) -> dict[str, Any]:
     """Every figure of one point: the evaluation summary, and the yields when ``stats`` is given
-    (cached; the returned dict is a copy)."""
+    (cached; the returned dict is a copy). ``cancel`` stops a Monte Carlo run between batches."""
     key = _key(design, stats)
     hit = _CACHE.get(key)
     if hit is None:
         hit = dict(evaluate(design).summary)
         if stats is not None:
-            hit.update(statistics_figures(design, stats))
+            hit.update(statistics_figures(design, stats, cancel))
         _CACHE[key] = hit
         while len(_CACHE) > CACHE_SIZE:
             _CACHE.popitem(last=False)
@@ -211,13 +216,17 @@ def point_figures(design: Design, stats: SweepStatistics | None = None) -> dict[
     return dict(hit)
 
 
-def statistics_figures(design: Design, stats: SweepStatistics) -> dict[str, float]:
-    """Monte Carlo yields of ``design`` at the sweep's tolerance grade, fraction each."""
+def statistics_figures(design: Design, stats: SweepStatistics, cancel: Any = None
+                       ) -> dict[str, float]:
+    """Monte Carlo yields of ``design`` at the sweep's tolerance grade, fraction each (the same
+    numbers as ``monte_carlo(with_tolerance(design, tolerance), trials, seed)``)."""
     from .grades import with_tolerance
-    from .montecarlo import monte_carlo
+    from .montecarlo import iter_monte_carlo
 
     graded = design if stats.tolerance is None else with_tolerance(design, stats.tolerance)
-    result = monte_carlo(graded, stats.trials, stats.seed)
+    *_, result = iter_monte_carlo(graded, stats.trials, stats.seed, cancel=cancel, reports=1)
+    if result.cancelled:
+        raise _Interrupted
     return {k: float(getattr(result, k).value) for k in STAT_KEYS}
 
 
@@ -252,7 +261,11 @@ def iter_sweep(designs: Sequence[Design], over: SweepOver, values: Sequence[int]
                 return
             try:
                 design = point_design(base, over, value)
-                point = SweepPoint(ci, value, design, point_figures(design, statistics))
+                point = SweepPoint(ci, value, design, point_figures(design, statistics, cancel))
+            except _Interrupted:
+                result.cancelled = True
+                yield result
+                return
             except RungwiseError as exc:
                 point = SweepPoint(ci, value, None, note=str(exc))
             result.points.append(point)

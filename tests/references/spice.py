@@ -109,8 +109,8 @@ class _Values:
 def _unshunt(v_probe: np.ndarray, shunt: float) -> np.ndarray:
     """``rout`` from the probe voltage of 1 A into ``rout ‖ shunt``; ``inf`` where nothing but
     the shunt is there (its conductance is below 1e-6 of the shunt's)."""
-    g = 1.0 / v_probe - 1.0 / shunt
-    with np.errstate(divide="ignore"):
+    with np.errstate(divide="ignore"):  # a probe voltage of 0: an ideal short, rout = 0
+        g = 1.0 / v_probe - 1.0 / shunt
         return np.where(g > 1e-6 / shunt, 1.0 / g, np.inf)
 
 
@@ -207,6 +207,8 @@ def _passive(net: Network, vals: _Values, drive: np.ndarray, c: _Copy, prefix: s
             mid = f"{prefix}m{j}"
             lines.append(f"r{prefix}l{j} {c.node(leg.node)} {mid} {_num(ohms)}")
             lines.append(f"r{prefix}s{j} {mid} {c.node(rail)} {_num(ron)}")
+        elif ohms == 0:  # an ideal tap switch: a 0 V source is an exact short (0 Ω is not)
+            lines.append(f"v{prefix}z{j} {c.node(leg.node)} {c.node(rail)} DC 0")
         else:
             lines.append(f"r{prefix}l{j} {c.node(leg.node)} {c.node(rail)} {_num(ohms)}")
 
