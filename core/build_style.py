@@ -79,7 +79,8 @@ def apply_build(design: Any, net: Network) -> Network:
     parts = []
     for part in net.parts:
         units, joined = _units_of(design, part)
-        parts.append(dataclasses.replace(part, units=units, joined=joined))
+        same = units == part.units and joined == part.joined  # skip a copy (65,536-part strings)
+        parts.append(part if same else dataclasses.replace(part, units=units, joined=joined))
     net.parts = parts
     return net
 

@@ -11,8 +11,14 @@ from __future__ import annotations
 
 from collections.abc import Mapping
 from dataclasses import dataclass
+from functools import lru_cache
 
 import numpy as np
+
+
+@lru_cache(maxsize=32)
+def _ids(prefix: str, m: int) -> tuple[str, ...]:
+    return tuple(f"{prefix}{i}" for i in range(m))
 
 
 def array_values(prefix: str, nominal: np.ndarray, ohms: Mapping[str, np.ndarray | float]
@@ -26,20 +32,21 @@ def array_values(prefix: str, nominal: np.ndarray, ohms: Mapping[str, np.ndarray
     """
     nominal = np.asarray(nominal, dtype=float)
     m = nominal.shape[-1]
-    hits: list[tuple[int, np.ndarray | float]] = []
-    for pid, value in ohms.items():
-        if pid.startswith(prefix):
-            tail = pid[len(prefix):]
-            if tail.isdigit() and int(tail) < m and str(int(tail)) == tail:
-                hits.append((int(tail), value))
-    if not hits:
+    if not ohms:
         return nominal
-    trial = np.broadcast_shapes(*[np.shape(v) for _, v in hits])
+    got = [ohms.get(pid) for pid in _ids(prefix, m)]
+    idx = [i for i, v in enumerate(got) if v is not None]
+    if not idx:
+        return nominal
+    values = [got[i] for i in idx]
+    shapes = {np.shape(v) for v in values}
+    trial = shapes.pop() if len(shapes) == 1 else np.broadcast_shapes(*[np.shape(v) for v in values])
+    if shapes or any(np.shape(v) != trial for v in values[:1]):
+        values = [np.broadcast_to(v, trial) for v in values]
+    stacked = np.moveaxis(np.array(values, dtype=float), 0, -1)  # trial + (k,)
     lead = trial[:-1] if trial else ()
     out = np.array(np.broadcast_to(nominal, (*lead, m)), dtype=float)
-    for i, value in hits:
-        v = np.asarray(value, dtype=float)
-        out[..., i] = v[..., 0] if v.ndim else v
+    out[..., idx] = stacked[..., 0, :] if trial else stacked
     return out
 
 

@@ -49,7 +49,12 @@ def part_ohms_at(design: Any, net: Network, temperatures_c: np.ndarray) -> dict[
     """
     base = MismatchModel.of(design)
     models = [dataclasses.replace(base, temperature_c=float(t)) for t in temperatures_c]
-    return {p.part_id: (p.ohms * np.array([temperature_factor(m, p.part_id) for m in models]))[:, None]
+    own = base.tempco_parts
+    # parts without their own coefficient share one factor per temperature (one array, not one
+    # temperature_factor call per part: strings have 65,536 parts)
+    common = np.array([1.0 + m.tempco * (m.temperature_c - m.reference_c) for m in models])[:, None]
+    return {p.part_id: (p.ohms * (np.array([temperature_factor(m, p.part_id) for m in models])[:, None]
+                                  if p.part_id in own else common))
             for p in net.parts}
 
 

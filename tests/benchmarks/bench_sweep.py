@@ -1,0 +1,111 @@
+"""Speed of the explorer's sweep and of the 16-bit resistor string, against baselines measured in
+the same run.
+
+Run on demand (pytest does not collect this folder)::
+
+    .venv/bin/python tests/benchmarks/bench_sweep.py [--repeat 3]
+
+Times:
+
+* ``sweep``: ``core.sweep.sweep`` of N = 2 … 16 over every topology and output variant (nominal
+  figures, cache cleared first) — target < 2 s; also the same sweep again (cached: re-plotting);
+* ``string16``: a 16-bit string (tap switch, finite load) solved at all 65,536 codes with INL/DNL
+  (``solve`` + linearity; target < 100 ms), and the whole ``evaluate`` (builds 65,536 parts);
+* baselines: the string's tap table by the general sparse LU path (``selector.tap_table(...,
+  "sparse")``, one solve per tap, timed on a 10-bit string and scaled by n²) and the dense nodal
+  matrix inverse of a 12-bit string (``numpy.linalg.inv``, scaled by n³). The largest relative
+  difference against the closed form on the codes compared is printed.
+"""
+
+from __future__ import annotations
+
+import argparse
+import time
+
+import numpy as np
+
+from rungwise.core import OUTPUTS_BY_TOPOLOGY, Design, evaluate
+from rungwise.core import sweep as sw
+from rungwise.core.metrics import linearity
+from rungwise.core.selector import tap_table
+from rungwise.core.solve import solve
+from rungwise.core.topologies import build
+
+SWEEP_TARGET_S = 2.0
+STRING_TARGET_MS = 100.0
+
+
+def best_of(fn, repeat: int):
+    best, out = np.inf, None
+    for _ in range(repeat):
+        t = time.perf_counter()
+        out = fn()
+        best = min(best, time.perf_counter() - t)
+    return best, out
+
+
+def candidates() -> list[Design]:
+    out = []
+    for topology, outputs in OUTPUTS_BY_TOPOLOGY.items():
+        for output in outputs:
+            out.append(Design(topology=topology, output=output, bits=8, vref=2.5, unit_r=10e3,
+                              ron_high=40.0, ron_low=25.0, load_r=100e3))
+    return out
+
+
+def string_engine(design: Design):
+    net = build(design)
+    sol = solve(net)
+    return sol, linearity.inl_endpoint(sol.vout), linearity.dnl(sol.vout)
+
+
+def main() -> None:
+    ap = argparse.ArgumentParser()
+    ap.add_argument("--repeat", type=int, default=3)
+    args = ap.parse_args()
+    cands = candidates()
+    values = sw.sweep_values("bits", 2, 16)
+
+    def fresh():
+        sw._CACHE.clear()
+        return sw.sweep(cands, "bits", values)
+
+    t_sweep, result = best_of(fresh, args.repeat)
+    t_cached, _ = best_of(lambda: sw.sweep(cands, "bits", values), args.repeat)
+    print(f"sweep N=2…16 × {len(cands)} candidates ({result.done} points): {t_sweep:.3f} s "
+          f"(target < {SWEEP_TARGET_S} s: {'met' if t_sweep < SWEEP_TARGET_S else 'MISSED'}); "
+          f"cached again: {t_cached * 1e3:.1f} ms (×{t_sweep / t_cached:.0f} faster)")
+
+    d16 = Design(topology="string", bits=16, vref=2.5, unit_r=1e3, ron_high=150.0, load_r=1e6)
+    string_engine(d16)
+    t_eng, (_sol, _inl, _) = best_of(lambda: string_engine(d16), args.repeat)
+    t_eval, _ = best_of(lambda: evaluate(d16), 1)
+    print(f"16-bit string, solve + INL/DNL, all 65,536 codes: {t_eng * 1e3:.1f} ms (target < "
+          f"{STRING_TARGET_MS:.0f} ms: {'met' if t_eng * 1e3 < STRING_TARGET_MS else 'MISSED'}); "
+          f"whole evaluate (65,536 parts, power figures skipped above the plain-part budget): "
+          f"{t_eval * 1e3:.0f} ms")
+
+    # baseline 1: general sparse path, one LU solve per tap (10 bits, scaled by n²)
+    d10 = d16.replace(bits=10)
+    net10 = build(d10)
+    t_sp, sparse = best_of(lambda: tap_table(net10, {}, "sparse"), 1)
+    closed = tap_table(net10, {}, "series-path")
+    err = float(np.max(np.abs(sparse.r - closed.r) / np.maximum(closed.r, 1.0)))
+    scale = (2**16 / 2**10) ** 2
+    print(f"baseline sparse LU per tap, 10 bits: {t_sp * 1e3:.0f} ms → 16 bits ≈ {t_sp * scale:.0f} s "
+          f"(×{t_sp * scale / t_eng:.0f} the closed form); max rel. diff of r: {err:.1e}")
+
+    # baseline 2: dense inverse of the nodal matrix (12 bits, scaled by n³)
+    n = 2**12 - 1
+    r = np.asarray(build(d16.replace(bits=12)).chains[0].ohms)
+    g = 1.0 / r
+    a = np.diag(g[:-1] + g[1:]) - np.diag(g[1:-1], 1) - np.diag(g[1:-1], -1)
+    t_dense, inv = best_of(lambda: np.linalg.inv(a), 1)
+    closed12 = tap_table(build(d16.replace(bits=12)), {}, "series-path")
+    err = float(np.max(np.abs(np.diag(inv) - closed12.r[1:n + 1]) / closed12.r[1:n + 1]))
+    print(f"baseline dense inverse, 12 bits: {t_dense * 1e3:.0f} ms → 16 bits ≈ "
+          f"{t_dense * 4096:.0f} s (×{t_dense * 4096 / t_eng:.0f}); max rel. diff: {err:.1e}")
+
+
+if __name__ == "__main__":
+    main()
