@@ -147,8 +147,7 @@ class ExplorerPane(QWidget):
         self.plot.addLegend()
         self.plot.showGrid(x=True, y=True, alpha=0.3)
         self.plot.getAxis("left").enableAutoSIPrefix(False)
-        self._proxy = pg.SignalProxy(self.plot.scene().sigMouseMoved, rateLimit=30,
-                                     slot=self._mouse_moved)
+        self.plot.scene().sigMouseMoved.connect(self._mouse_moved)
         self.label_hover = QLabel("", objectName="label_hover", wordWrap=True)
         self.label_status = QLabel("Choose a range and Run", objectName="label_status", wordWrap=True)
         self.label_rule = QLabel(f"Segmented sizing: {SIZING_RULE}.", objectName="label_rule",
@@ -304,8 +303,7 @@ class ExplorerPane(QWidget):
                 parts.append(f"{design.label}: {value_text(key, p.figures.get(key))}{extra}")
         return f"{result.over} = {value} — " + "; ".join(parts)
 
-    def _mouse_moved(self, event) -> None:
-        pos = event[0]
+    def _mouse_moved(self, pos) -> None:
         if not self.plot.sceneBoundingRect().contains(pos):
             return
         x = self.plot.getPlotItem().vb.mapSceneToView(pos).x()
