@@ -192,3 +192,15 @@ def test_missing_design_file_exits_2(tmp_path):
     assert proc.returncode == 2
     assert "does not exist" in proc.stderr
     assert "Traceback" not in proc.stderr
+
+
+def test_bad_value_in_a_design_file_names_the_candidate_and_field(tmp_path, capsys):
+    path = tmp_path / "bad.toml"
+    text = dumps(DesignFile(candidates=CANDIDATES)).replace("bits = 3", "bits = 30", 1)
+    assert "bits = 30" in text
+    path.write_text(text)
+    assert run_cli(["compute", str(path)]) == 2
+    out, err = capsys.readouterr()
+    assert out == ""
+    assert "candidate[0].bits" in err
+    assert "1 to 24" in err
