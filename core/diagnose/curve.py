@@ -27,6 +27,9 @@ import numpy as np
 
 from .reading import MeasurementError
 
+MIN_LSB = 1e-12
+"""Smallest endpoint step per code accepted, volts (below it the outputs do not really change)."""
+
 
 @dataclass(frozen=True, eq=False)
 class CurveLinearity:
@@ -89,9 +92,10 @@ def curve_linearity(codes: np.ndarray, volts: np.ndarray, ideal_lsb: float, n_co
         raise MeasurementError("at least two different codes must be measured")
     span = c[-1] - c[0]
     lsb = float((v[-1] - v[0]) / span)
-    if lsb == 0.0:
-        raise MeasurementError(f"the outputs at codes {c[0]} and {c[-1]} are equal: no endpoint "
-                               "line (is the converter connected?)")
+    if abs(lsb) < MIN_LSB:
+        raise MeasurementError(f"the outputs at codes {c[0]} and {c[-1]} are equal (within "
+                               f"{MIN_LSB:g} V per code): no endpoint line (is the converter "
+                               "connected?)")
     sign = 1.0 if lsb > 0 else -1.0
     vo = v * sign
     lsb_o = abs(lsb)
@@ -99,6 +103,9 @@ def curve_linearity(codes: np.ndarray, volts: np.ndarray, ideal_lsb: float, n_co
     cf = c.astype(float)
     cm = cf.mean()
     slope = float(np.dot(cf - cm, vo - vo.mean()) / np.dot(cf - cm, cf - cm))
+    if not slope > 0.0:
+        raise MeasurementError("the outputs do not rise with the code on average (the best-fit "
+                               "line is flat or falls): is this the converter's output?")
     offset = float(vo.mean() - slope * cm)
     inl_b = (vo - offset - slope * cf) / slope
     steps = np.diff(vo)

@@ -52,6 +52,9 @@ MAX_FILE_BYTES = 32 * 1024 * 1024
 MAX_READINGS = 1_000_000
 """Largest number of readings (data lines) read from one file."""
 
+MAX_ABS_VOLTS = 1e6
+"""Largest output magnitude accepted, volts."""
+
 MAX_CODE_BITS = 24
 """Largest code width a reading may have, bits (codes up to 2^24 − 1)."""
 
@@ -132,6 +135,8 @@ class Measurement:
             raise MeasurementError("negative code", source=source)
         if not np.all(np.isfinite(v)):
             raise MeasurementError("an output is not a finite number", source=source)
+        if np.any(np.abs(v) > MAX_ABS_VOLTS):
+            raise MeasurementError(f"an output is beyond ±{MAX_ABS_VOLTS:g} V", source=source)
         uniq, inv, count = np.unique(c, return_inverse=True, return_counts=True)
         mean = np.bincount(inv, weights=v) / count
         dev2 = np.bincount(inv, weights=(v - mean[inv]) ** 2)
@@ -209,7 +214,7 @@ def _parse_value(text: str, unit: float, decimal_comma: bool) -> float:
         raise ValueError(s)
     scale = unit if m.group(2) is None else _unit_scale(m.group(2))
     x = float(m.group(1)) * scale
-    if not math.isfinite(x):
+    if not math.isfinite(x) or abs(x) > MAX_ABS_VOLTS:
         raise ValueError(s)
     return x
 
@@ -307,8 +312,8 @@ def parse_text(text: str, source: str = "measurement") -> Measurement:
             value = _parse_value(fields[v_i], unit, sep in (";", "\t"))
         except ValueError:
             raise MeasurementError(f"cannot read the output {fields[v_i][:40]!r} as a finite "
-                                   "number with an optional unit V, mV, uV or µV", number,
-                                   source) from None
+                                   f"number (within ±{MAX_ABS_VOLTS:g} V) with an optional unit "
+                                   "V, mV, uV or µV", number, source) from None
         codes.append(code)
         volts.append(value)
         width_bits = max(width_bits, width)

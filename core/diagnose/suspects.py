@@ -67,7 +67,9 @@ class Suspect:
     ----------
     id, role : str — part id and role
     nominal_ohms, fitted_ohms : float — ohms (``fitted_ohms`` NaN when not identifiable)
-    deviation, deviation_stderr : float — fitted_ohms / nominal_ohms − 1 and its standard error
+    deviation, deviation_stderr : float — fitted_ohms / nominal_ohms − 1 and its least-squares
+        standard error (from the residual taken as white noise; small deviations of the other
+        parts bias the value by more than this)
     residual_rms_lsb : float — what this part's fit leaves unexplained, RMS in LSB
     explained : float — 1 − residual² / (residual² with no part changed), fraction
     identifiable : bool — False when the part's effect is only a gain or offset (or nothing)
@@ -241,7 +243,8 @@ def fit_suspects(design: Design, codes: np.ndarray, volts: np.ndarray, lsb: floa
                 continue
             ssr_lin[j] = float(r @ r)
             coef_lin[j] = coef[:-1] if not absolute else np.zeros(0)
-            step = coef[-1] / (1.0 if absolute else coef[1])
+            gain = 1.0 if absolute else float(coef[1])
+            step = float(coef[-1]) / gain if gain != 0.0 else 0.0  # no gain: nothing to follow
             new = float(np.clip(d[j] + step, *DEVIATION_LIMITS))
             largest = max(largest, abs(new - d[j]))
             d[j] = new

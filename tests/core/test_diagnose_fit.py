@@ -4,6 +4,8 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from rungwise.core import Design, evaluate
 from rungwise.core.diagnose import (
@@ -205,3 +207,23 @@ def test_a_set_cancel_event_stops_the_fit():
     stop.set()
     with pytest.raises(DiagnosisCancelled):
         diagnose(m, LINEAR_R2R, cancel=stop)
+
+
+@settings(max_examples=60, deadline=None)
+@given(st.dictionaries(st.integers(0, 15), st.floats(-5, 5, allow_nan=False), min_size=1,
+                       max_size=16),
+       st.sampled_from(["r2r-voltage", "binary-weighted", "r2r-current"]),
+       st.booleans())
+def test_any_measured_curve_is_diagnosed_or_refused_clearly(readings, topology, absolute):
+    from rungwise.core.diagnose import Measurement
+
+    m = Measurement.from_readings(list(readings), list(readings.values()))
+    design = Design(topology=topology, bits=4, vref=2.0, unit_r=1e3, ron_high=20.0, ron_low=5.0)
+    try:
+        result = diagnose(m, design, absolute=absolute)
+    except MeasurementError:
+        return
+    out = result.to_dict()
+    assert len(out["inl_endpoint"]) == m.codes.size
+    assert out["suspects"]
+    assert result.correction.max_abs_inl <= result.correction.bound_lsb + 1e-9

@@ -195,3 +195,11 @@ def test_fuzzed_bytes_only_raise_our_error(data):
         path.write_bytes(data)
         with contextlib.suppress(MeasurementError):
             read_measurement(path)
+
+
+def test_outputs_beyond_a_megavolt_are_refused():
+    with pytest.raises(MeasurementError, match="within ±1e\\+06 V") as info:
+        parse_text("0,0\n1,2e6\n")
+    assert info.value.line == 2
+    with pytest.raises(MeasurementError, match="beyond"):
+        Measurement.from_readings([0, 1], [0.0, -3e6])
