@@ -7,17 +7,17 @@ when the window closes; everything else hooks onto the comparison state's one ed
 
 from __future__ import annotations
 
-from dataclasses import replace
 from pathlib import Path
 
 import platformdirs
 from PySide6.QtCore import QObject, Qt, QTimer
 from PySide6.QtGui import QAction, QGuiApplication, QKeySequence
-from PySide6.QtWidgets import QFileDialog, QMenu, QMessageBox, QWidget
+from PySide6.QtWidgets import QFileDialog, QLineEdit, QMenu, QMessageBox, QSpinBox, QWidget
 
 from rungwise.core import evaluate
 from rungwise.core.designfile import DesignFile
 from rungwise.core.errors import RungwiseError
+from rungwise.core.targets import AnalysisSettings, Targets
 
 from .autosave import Autosave, Recovered
 from .comparison_state import with_colours
@@ -80,9 +80,14 @@ class FileFeatures(QObject):
 
     # --- what the window tells us ------------------------------------------------------------
     def opened(self, path: Path | None, doc: DesignFile | None) -> None:
-        """A file (or the demo, ``path=None``) replaced the comparison: history starts afresh."""
+        """A file (or the demo, ``path=None``) replaced the comparison: history starts afresh and
+        the statistics view takes the file's trial count and seed."""
         self.analysis_targets = doc
         self.history.reset()
+        trials, seed = self._stats_controls()
+        if doc is not None and trials is not None and seed is not None:
+            trials.setValue(doc.analysis.trials)
+            seed.setText(str(doc.analysis.seed))
         if path is not None and self.recent is not None:
             self.recent.add(path)
 
@@ -91,15 +96,33 @@ class FileFeatures(QObject):
         if self.recent is not None:
             self.recent.remove(path)
 
+    def _stats_controls(self) -> tuple[QSpinBox | None, QLineEdit | None]:
+        """The statistics view's trial count and seed fields (found by object name), if present."""
+        view = getattr(self.window, "views", {}).get("stats_pane")
+        if view is None:
+            return None, None
+        return (view.findChild(QSpinBox, "spin_stats_trials"),
+                view.findChild(QLineEdit, "edit_stats_seed"))
+
+    def analysis(self) -> AnalysisSettings:
+        """Trials and seed to save: the statistics view's, else the open file's."""
+        base = self.analysis_targets.analysis if self.analysis_targets else AnalysisSettings()
+        trials, seed = self._stats_controls()
+        try:
+            return AnalysisSettings.from_dict({
+                "trials": trials.value() if trials is not None else base.trials,
+                "seed": int(seed.text().strip()) if seed is not None else base.seed})
+        except (ValueError, RungwiseError):  # an unreadable seed field: keep the file's
+            return base
+
     def document(self) -> DesignFile:
-        """The comparison as a design file (keeping the open file's analysis and targets)."""
+        """The comparison as a design file (the open file's targets and other settings kept)."""
         state = self.window.model.state
-        doc = DesignFile(candidates=state.designs,
-                         settings={"colours": [c.colour for c in state.candidates]})
-        if self.analysis_targets is not None:
-            doc = replace(doc, analysis=self.analysis_targets.analysis,
-                          targets=self.analysis_targets.targets)
-        return doc
+        opened = self.analysis_targets
+        settings = dict(opened.settings) if opened is not None else {}
+        settings["colours"] = [c.colour for c in state.candidates]
+        return DesignFile(candidates=state.designs, settings=settings, analysis=self.analysis(),
+                          targets=opened.targets if opened is not None else Targets())
 
     def saved(self, path: Path) -> None:
         """The comparison was written to ``path``."""

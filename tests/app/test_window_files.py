@@ -11,7 +11,7 @@ from pathlib import Path
 
 import pytest
 from PySide6.QtCore import Qt
-from PySide6.QtWidgets import QMessageBox, QSpinBox
+from PySide6.QtWidgets import QLineEdit, QMessageBox, QSpinBox
 
 from rungwise.core import designfile, evaluate
 from rungwise.core.demo import demo_candidates
@@ -176,3 +176,18 @@ def test_menu_exports_match_the_engine(win, tmp_path: Path, qtbot):
                  "action_export_plots",
                  "action_report", "action_undo", "action_redo"):
         assert win.findChild(type(win.files.action_undo), name) is not None, name
+
+
+def test_statistics_seed_and_trials_go_to_and_from_the_file(win, tmp_path: Path):
+    path = tmp_path / "seeded.toml"
+    designfile.save(path, DesignFile(demo_candidates(), settings={"note": "kept"},
+                                     analysis=AnalysisSettings(trials=300, seed=4711)))
+    win.open_file(path)
+    trials = win.findChild(QSpinBox, "spin_stats_trials")
+    seed = win.findChild(QLineEdit, "edit_stats_seed")
+    assert (trials.value(), seed.text()) == (300, "4711")
+    seed.setText("99")
+    assert win.save_to(path)
+    back = designfile.load(path)
+    assert back.analysis == AnalysisSettings(trials=300, seed=99)
+    assert back.settings["note"] == "kept"
