@@ -58,18 +58,26 @@ class ReviewData:
         return comparison_plots(self.evs) + ([spread] if spread is not None else [])
 
 
-def gather(doc: DesignFile, title: str = "Design review", with_stats: bool = True) -> ReviewData:
-    """Evaluate the candidates, run statistics (file's trials and seed), derive the recommendation."""
+def gather(doc: DesignFile, title: str = "Design review", with_stats: bool = True,
+           cancel: Any = None) -> ReviewData:
+    """Evaluate the candidates, run statistics (file's trials and seed), derive the recommendation.
+
+    ``cancel`` (a ``threading.Event``) is checked between Monte Carlo batches; once it is set the
+    remaining statistics are skipped (a caller that cancels discards the result).
+    """
     evs = [evaluate(d) for d in doc.candidates]
     stats: list[Any] = [None] * len(evs)
     notes: list[str] = []
     if with_stats:
         from rungwise.core.errors import DesignError
-        from rungwise.core.montecarlo import monte_carlo
+        from rungwise.core.montecarlo import iter_monte_carlo
 
         for i, d in enumerate(doc.candidates):
+            if cancel is not None and cancel.is_set():
+                break
             try:
-                stats[i] = monte_carlo(d, doc.analysis.trials, doc.analysis.seed, targets=doc.targets)
+                *_, stats[i] = iter_monte_carlo(d, doc.analysis.trials, doc.analysis.seed,
+                                                cancel=cancel, targets=doc.targets, reports=1)
             except DesignError as exc:
                 notes.append(f"{d.label}: statistics not run ({exc})")
     yields = [float(s.yield_all) if s is not None else None for s in stats]

@@ -10,7 +10,7 @@ from __future__ import annotations
 from pathlib import Path
 
 import platformdirs
-from PySide6.QtCore import QObject, Qt, QTimer
+from PySide6.QtCore import QObject, Qt, QTimer, Signal
 from PySide6.QtGui import QAction, QGuiApplication, QKeySequence
 from PySide6.QtWidgets import QFileDialog, QLineEdit, QMenu, QMessageBox, QSpinBox, QWidget
 
@@ -46,7 +46,13 @@ class FileFeatures(QObject):
 
     ``folder`` holds the recent-files list; ``autosave_folder`` the crash copies (``None``: the
     window does not remember anything, so neither is kept).
+
+    Signals
+    -------
+    report_written(object) — the review PDF (its ``Path``) was written.
     """
+
+    report_written = Signal(object)
 
     def __init__(self, window, folder: Path | None, autosave_folder: Path | None) -> None:
         super().__init__(window)
@@ -60,6 +66,8 @@ class FileFeatures(QObject):
         self.autosave = Autosave(autosave_folder) if autosave_folder is not None else None
         self._timer = QTimer(self, singleShot=True, interval=AUTOSAVE_DELAY_MS)
         self._timer.timeout.connect(self.write_crash_copy)
+        self.runner = None  # a JobRunner for the report, made on first use
+        self._report_path: Path | None = None
         self._build_actions()
 
     # --- edits ---------------------------------------------------------------------------------
@@ -134,8 +142,10 @@ class FileFeatures(QObject):
             self.autosave.discard()
 
     def closed(self) -> None:
-        """The window closes normally: no crash copy is left behind."""
+        """The window closes normally: no crash copy is left behind, no report job running."""
         self._timer.stop()
+        if self.runner is not None:
+            self.runner.shutdown()
         if self.autosave is not None:
             self.autosave.discard()
 
@@ -272,15 +282,32 @@ class FileFeatures(QObject):
 
         return self._run(str(folder), lambda: export_plots(self._evaluations(), folder))
 
-    def write_report(self, path: Path, with_stats: bool = True) -> bool:
-        """Write the design-review PDF of the comparison (statistics with the file's seed)."""
+    def write_report(self, path: Path, with_stats: bool = True) -> None:
+        """Write the design-review PDF: figures and statistics (the file's seed) are gathered on a
+        worker thread, the PDF is printed here when they arrive (``report_written`` then)."""
         from .report_content import gather
-        from .report_pdf import write_report
 
+        doc = self.document()
         title = f"Design review: {self.window.model.path.stem}" if self.window.model.path \
             else "Design review"
-        return self._run(str(path), lambda: write_report(
-            path, gather(self.document(), title=title, with_stats=with_stats)))
+        if self.runner is None:
+            from .workers import JobRunner
+
+            self.runner = JobRunner(self, max_threads=1)
+            self.runner.finished.connect(self._on_report_ready)
+            self.runner.failed.connect(lambda _c, msg: self.window.show_problem(
+                f"Could not prepare the report:\n{msg}"))
+        self._report_path = Path(path)
+        self.runner.submit("report", lambda cancel: gather(doc, title, with_stats, cancel))
+        self.window.status_text.setText(f"Preparing the report {Path(path).name}"
+                                        + (" (statistics running)…" if with_stats else "…"))
+
+    def _on_report_ready(self, _channel: str, data) -> None:
+        from .report_pdf import write_report
+
+        path = self._report_path
+        if self._run(str(path), lambda: write_report(path, data)):
+            self.report_written.emit(path)
 
     def export_table_dialog(self) -> None:
         """Ask for a file and write the figures table."""

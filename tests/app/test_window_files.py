@@ -169,7 +169,9 @@ def test_menu_exports_match_the_engine(win, tmp_path: Path, qtbot):
     assert (tmp_path / "bom.csv").read_text(encoding="utf-8").startswith("candidate,designators")
     assert win.files.export_plots(tmp_path / "plots")
     assert len(list((tmp_path / "plots").iterdir())) == 8
-    assert win.files.write_report(tmp_path / "r.pdf", with_stats=False)
+    with qtbot.waitSignal(win.files.report_written, timeout=30000) as sig:
+        win.files.write_report(tmp_path / "r.pdf", with_stats=True)  # statistics off the GUI thread
+    assert sig.args == [tmp_path / "r.pdf"]
     assert (tmp_path / "r.pdf").read_bytes().startswith(b"%PDF")
     assert not win.files.export_table(tmp_path / "missing" / "t.csv")  # shown, not raised
     for name in ("action_export_table", "action_export_per_code", "action_export_bom",
@@ -191,3 +193,14 @@ def test_statistics_seed_and_trials_go_to_and_from_the_file(win, tmp_path: Path)
     back = designfile.load(path)
     assert back.analysis == AnalysisSettings(trials=300, seed=99)
     assert back.settings["note"] == "kept"
+
+
+def test_closing_stops_a_report_in_progress(win, tmp_path: Path):
+    state = win.model.state
+    for i, d in enumerate(state.designs):
+        state.set_design(i, d.replace(bits=12), "12 bits")
+    win.files.write_report(tmp_path / "r.pdf", with_stats=True)
+    assert win.files.runner.is_busy("report")
+    assert win.close()
+    assert win.files.runner.active_count() == 0
+    assert not (tmp_path / "r.pdf").exists()
