@@ -305,6 +305,7 @@ class PartsPane(QWidget):
         for i, (label, text) in enumerate(rows):
             self.table_figures.setItem(i, 0, QTableWidgetItem(label))
             self.table_figures.setItem(i, 1, QTableWidgetItem(text))
+        self.table_figures.resizeColumnToContents(0)
         self.table_bom.setRowCount(len(out.bom))
         for i, line in enumerate(out.bom):
             for j, text in enumerate(bom_cells(line)):
@@ -313,6 +314,7 @@ class PartsPane(QWidget):
                     item.setBackground(FLAG_COLOUR)
                     item.setToolTip(f"{line.note}\n{CAUTION}")
                 self.table_bom.setItem(i, j, item)
+        self.table_bom.resizeColumnsToContents()
         flagged = out.flagged
         self.label_caution.setVisible(bool(flagged))
         self.label_status.setText(f"{len(flagged)} item(s) over a rating or limit" if flagged
