@@ -39,7 +39,7 @@ def array_values(prefix: str, nominal: np.ndarray, ohms: Mapping[str, np.ndarray
     if not idx:
         return nominal
     values = [got[i] for i in idx]
-    shapes = {np.shape(v) for v in values}
+    shapes = {getattr(v, "shape", ()) for v in values}
     trial = shapes.pop() if len(shapes) == 1 else np.broadcast_shapes(*[np.shape(v) for v in values])
     if shapes or any(np.shape(v) != trial for v in values[:1]):
         values = [np.broadcast_to(v, trial) for v in values]

@@ -53,9 +53,10 @@ def part_ohms_at(design: Any, net: Network, temperatures_c: np.ndarray) -> dict[
     # parts without their own coefficient share one factor per temperature (one array, not one
     # temperature_factor call per part: strings have 65,536 parts)
     common = np.array([1.0 + m.tempco * (m.temperature_c - m.reference_c) for m in models])[:, None]
-    return {p.part_id: (p.ohms * (np.array([temperature_factor(m, p.part_id) for m in models])[:, None]
-                                  if p.part_id in own else common))
-            for p in net.parts}
+    scaled = np.array([p.ohms for p in net.parts])[:, None, None] * common  # (n_parts, n_temps, 1)
+    return {p.part_id: (p.ohms * np.array([temperature_factor(m, p.part_id) for m in models])[:, None]
+                        if p.part_id in own else scaled[i])
+            for i, p in enumerate(net.parts)}
 
 
 def drift(design: Any, net: Network, temperatures_c: np.ndarray | list[float]) -> DriftResult:

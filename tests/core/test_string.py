@@ -114,3 +114,18 @@ def test_string_part_ids_from_the_ground_end():
     ev = evaluate(Design(topology="string", bits=3, vref=8.0, parts={"string0": 2e4}))
     # string0 at the ground end doubled: the first tap above it sits at 2/9 of Vref
     assert ev.vout[1] == pytest.approx(8.0 * 2 / 9, rel=1e-13)
+
+
+def test_monte_carlo_inl_spread_of_a_string_is_a_random_walk_bridge():
+    # common practice (random-walk bridge), through the statistics engine: Gaussian parts of
+    # ±1 % at 3σ; the 99th percentile of endpoint INL at tap k is 2.326·σ·√(k(n − k)/n) LSB
+    from rungwise.core import monte_carlo
+    from rungwise.core.grades import with_tolerance
+
+    design = with_tolerance(Design(topology="string", bits=5, vref=1.0), 0.01)
+    result = monte_carlo(design, 6000, seed=21)
+    n = 2**5 - 1
+    k = result.envelope_codes[1:n]
+    expected = 2.326 * (0.01 / 3) * np.sqrt(k * (n - k) / n)
+    np.testing.assert_allclose(result.inl_envelope[2, 1:n], expected, rtol=0.08)
+    assert result.yield_monotonic.value == 1.0  # a string is monotonic on every board
