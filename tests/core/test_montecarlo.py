@@ -51,6 +51,17 @@ def test_exact_path_sees_non_monotonic_boards_like_the_general_path():
     np.testing.assert_array_equal(exact.monotonic, general.monotonic)
 
 
+@pytest.mark.parametrize("design", [Design(topology="string", bits=5, load_r=1e5),
+                                    Design(topology="segmented", bits=6)], ids=["string", "segmented"])
+def test_tap_and_thermometer_networks_take_the_general_engine(design):
+    ev = evaluate(design.replace(mismatch={"tolerance": 0.0}))
+    r = monte_carlo(design.replace(mismatch={"tolerance": 0.0}), 3, seed=1)
+    assert r.engine == "general"
+    np.testing.assert_allclose(r.max_abs_inl_endpoint, ev.summary["max_abs_inl_endpoint"], atol=1e-12)
+    with pytest.raises(DesignError, match="engine"):
+        monte_carlo(design, 3, seed=1, engine="exact")
+
+
 def test_unequal_switches_take_the_general_engine_and_exact_is_refused():
     d = Design(topology="r2r-voltage", bits=5, ron_high=40.0, ron_low=25.0)
     assert monte_carlo(d, 20, seed=1).engine == "general"

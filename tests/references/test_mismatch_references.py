@@ -112,7 +112,10 @@ def test_unit_element_monotonic_probability_is_a_multivariate_normal_cdf():
     Design(topology="r2r-voltage", bits=4, ron_high=40.0, ron_low=25.0, load_r=20e3,
            build={"two_r": "two-units"}, mismatch={"distribution": "uniform", "tolerance": 0.05}),
     Design(topology="r2r-current", bits=4, mismatch={"model": "array", "shared_tolerance": 0.01}),
-], ids=["binary-units", "r2r-two-units", "r2r-current-array"])
+    Design(topology="string", bits=4, load_r=50e3, mismatch={"tolerance": 0.03}),
+    Design(topology="segmented", bits=5, ron_high=20.0, ron_low=10.0, build={"two_r": "two-units"},
+           mismatch={"tolerance": 0.02}),
+], ids=["binary-units", "r2r-two-units", "r2r-current-array", "string", "segmented"])
 def test_sampled_trials_resolved_by_ngspice_agree(design):
     # source: ngspice — the same sampled boards re-solved as netlists; every per-trial figure of
     # the Monte Carlo result must agree to 1e-9 relative

@@ -13,9 +13,7 @@ import math
 import pytest
 from scipy.stats import kstwobign
 
-from rungwise.core import TOPOLOGIES, Design, monte_carlo
-
-pytestmark = pytest.mark.skipif("string" not in TOPOLOGIES, reason="no string topology yet")
+from rungwise.core import Design, monte_carlo
 
 SIEGMUND_RHO = 0.5825971579390106
 """−ζ(½)/√(2π): the overshoot correction of a discrete Gaussian walk (from memory)."""
