@@ -121,6 +121,8 @@ def render_table(d: Diagnosis) -> str:
                      f"{(row['deviation_stderr'] or 0) * 100:>9.3f}%"
                      f"{row['residual_rms_lsb']:>10.4f} LSB{row['explained'] * 100:>10.1f}%")
     corr = out["correction"]
+    if out["suspects_note"]:
+        lines.append(f"  {out['suspects_note']}")
     if out["equivalent_suspects"]:
         lines.append(f"  the curve cannot tell {out['suspects'][0]['id']} from "
                      + ", ".join(out["equivalent_suspects"]) + " (they fit equally well)")

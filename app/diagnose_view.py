@@ -368,8 +368,10 @@ class DiagnosePane(QWidget):
         self.diagnosis_changed.emit(None)
 
     def _show(self, d: Diagnosis) -> None:
-        best = d.suspects.suspects[0]
-        if best.identifiable:
+        best = d.suspects.suspects[0] if d.suspects.suspects else None
+        if best is None:
+            self.label_status.setText(d.suspects.note)
+        elif best.identifiable:
             self.label_status.setText(f"Best explanation: {best.id} {best.deviation * 100:+.2f} % "
                                       f"({best.explained * 100:.1f} % of the deviation from the "
                                       "design explained)")
@@ -398,8 +400,8 @@ class DiagnosePane(QWidget):
         self.table_suspects.resizeColumnsToContents()
         eq = d.suspects.equivalent
         self.label_equivalent.setText(
-            f"The curve cannot tell {best.id} from {', '.join(eq)}: they fit equally well." if eq
-            else "")
+            f"The curve cannot tell {best.id} from {', '.join(eq)}: they fit equally well."
+            if eq and best is not None else "")
 
     def _plot_curves(self, d: Diagnosis) -> None:
         codes = d.measurement.codes.astype(float)

@@ -100,8 +100,8 @@ def diagnose(measurement: Measurement, design: Design, absolute: bool = False,
     fit = fit_suspects(design, m.codes, m.volts, measured.lsb, absolute=absolute, cancel=cancel)
     built = None
     built_volts = np.full(m.codes.size, np.nan)
-    best = fit.suspects[0]
-    if best.identifiable:
+    if fit.suspects and fit.suspects[0].identifiable:
+        best = fit.suspects[0]
         built = as_built(design, best)
         built_volts = solve(build(built), codes=m.codes).vout
     bits_measured = fit_bit_weights(m.codes, m.volts, design.bits)
@@ -193,7 +193,9 @@ def _as_dict(d: Diagnosis) -> dict[str, Any]:
         ],
         "equivalent_suspects": list(d.suspects.equivalent),
         "nominal_residual_rms_lsb": _num(d.suspects.nominal_residual_rms_lsb),
-        "unexplained_rms_lsb": _num(d.suspects.suspects[0].residual_rms_lsb),
+        "unexplained_rms_lsb": _num(d.suspects.suspects[0].residual_rms_lsb)
+        if d.suspects.suspects else None,
+        "suspects_note": d.suspects.note,
         "fitted_offset": d.suspects.offset, "fitted_gain_error": d.suspects.gain,
         "as_built": None if d.as_built is None else {
             k: _num(v) for k, v in d.as_built.to_dict().items()},

@@ -52,6 +52,9 @@ code; otherwise solve only the measured codes."""
 TRIAL_CODE_ELEMENTS = 1 << 20
 """Largest trials × codes solved in one call on the every-code path."""
 
+MAX_SUSPECT_PARTS = 1024
+"""Most parts fitted one by one; a network with more gets no suspects (with a note)."""
+
 TIE_MARGIN = 0.05
 """Relative margin on the residual RMS within which another part ties with the best one."""
 
@@ -100,6 +103,7 @@ class SuspectFit:
     offset, gain : float — the best suspect's fitted offset (volts) and gain (a fraction, s − 1)
     best_curve : ndarray, shape (n,), volts — the network with the best suspect's value, at the
         measured codes, before offset and gain
+    note : str — why no part was fitted (``suspects`` is then empty), else empty
     """
 
     suspects: list[Suspect]
@@ -108,10 +112,15 @@ class SuspectFit:
     offset: float
     gain: float
     best_curve: np.ndarray
+    note: str = ""
 
 
 def _element_ids(net: Network) -> set[str]:
-    return {r.part_id for r in net.resistors} | {leg.part_id for leg in net.legs}
+    """Part ids the solver takes ``ohms`` overrides for (resistors, legs, groups, chains)."""
+    ids = {r.part_id for r in net.resistors} | {leg.part_id for leg in net.legs}
+    for array in [*getattr(net, "groups", []), *getattr(net, "chains", [])]:
+        ids.update(f"{array.prefix}{i}" for i in range(array.size))
+    return ids
 
 
 def trial_curves(design: Design, part_ids: list[str], factors: np.ndarray, codes: np.ndarray
@@ -215,8 +224,15 @@ def fit_suspects(design: Design, codes: np.ndarray, volts: np.ndarray, lsb: floa
     n_par = 1 if absolute else 3
     scale = abs(lsb)
     nominal_curve = trial_curves(design, ids[:1], np.ones(1), codes)[0]
-    _, r0, _ = _project_fit(y, nominal_curve, None, absolute)
+    coef0, r0, _ = _project_fit(y, nominal_curve, None, absolute)
     ssr0 = float(r0 @ r0)
+    if len(ids) > MAX_SUSPECT_PARTS:
+        return SuspectFit(
+            suspects=[], equivalent=[], nominal_residual_rms_lsb=float(np.sqrt(ssr0 / n) / scale),
+            offset=float(coef0[0]) if coef0.size else 0.0,
+            gain=float(coef0[1]) - 1.0 if coef0.size else 0.0, best_curve=nominal_curve,
+            note=f"{len(ids)} parts are too many to fit one by one (at most {MAX_SUSPECT_PARTS}); "
+                 "look at the DNL: in a string each step is one resistor")
     d = np.zeros(len(ids))
     norms = np.zeros(len(ids))
     ssr_lin = np.full(len(ids), np.inf)

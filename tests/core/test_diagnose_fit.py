@@ -106,6 +106,9 @@ CASES = [
     (Design(topology="binary-weighted", output="summing-amp", bits=6, vref=5, unit_r=10e3),
      "bit5", 0.015),
     (Design(topology="r2r-current", bits=8, vref=5, unit_r=10e3), "leg4", -0.015),
+    (Design(topology="segmented", bits=8, vref=3.3, unit_r=10e3), "seg5", 0.020),
+    (Design(topology="string", output="buffer", bits=6, vref=3.3, unit_r=1e3), "string21",
+     -0.025),
 ]
 
 
@@ -227,3 +230,17 @@ def test_any_measured_curve_is_diagnosed_or_refused_clearly(readings, topology, 
     assert len(out["inl_endpoint"]) == m.codes.size
     assert out["suspects"]
     assert result.correction.max_abs_inl <= result.correction.bound_lsb + 1e-9
+
+
+def test_too_many_parts_gives_a_note_instead_of_suspects(monkeypatch):
+    from rungwise.core.diagnose import suspects
+
+    monkeypatch.setattr(suspects, "MAX_SUSPECT_PARTS", 4)
+    m = synthesize(LINEAR_R2R, noise=0.0, seed=0)
+    result = diagnose(m, LINEAR_R2R)
+    assert result.suspects.suspects == []
+    assert "too many to fit" in result.suspects.note
+    assert result.as_built is None
+    out = result.to_dict()
+    assert out["suspects"] == []
+    assert out["unexplained_rms_lsb"] is None
