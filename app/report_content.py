@@ -17,8 +17,7 @@ from typing import Any
 
 from rungwise.core import FIELDS, Evaluation, evaluate
 from rungwise.core.designfile import DesignFile
-from rungwise.core.parts.bom import bill_of_materials
-from rungwise.core.review import Recommendation, cautions, describe_targets, recommend
+from rungwise.core.review import Recommendation, bom_lines, cautions, describe_targets, recommend
 from rungwise.core.units import format_value
 
 from .export_table import table_html_fragment
@@ -166,9 +165,11 @@ def _parts_section(data: ReviewData) -> str:
                        "table and per-code exports).</p>")
         out.append("<p>Bill of materials (power needed = worst-case power per unit ÷ derating; "
                    "for switches, the current to source or sink):</p>")
+        lines, problem = bom_lines(ev)
+        if problem:
+            out.append(f"<p>{_esc(problem[0].upper() + problem[1:])}.</p>")
         out.append(_table(["Designators", "Kind", "Value", "Series", "Tolerance", "Power needed",
-                           "Qty", "Flag"], [_bom_row(ln) for ln in bill_of_materials(ev)],
-                          right_from=2))
+                           "Qty", "Flag"], [_bom_row(ln) for ln in lines], right_from=2))
     return "\n".join(out)
 
 

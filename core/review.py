@@ -142,6 +142,15 @@ def recommend(evs: Sequence[Evaluation], targets: Targets,
 
 
 # --- cautions ------------------------------------------------------------------------------
+def bom_lines(ev: Evaluation) -> tuple[list, str | None]:
+    """The candidate's bill of materials, or ``([], reason)`` when it cannot be made, so that a
+    review still shows every other figure (the reason is printed, never hidden)."""
+    try:
+        return bill_of_materials(ev), None
+    except Exception as exc:  # a failing part list must not take the whole review down
+        return [], f"the bill of materials could not be made ({type(exc).__name__}: {exc})"
+
+
 def cautions(evs: Sequence[Evaluation]) -> list[str]:
     """Cautions for the review, each with its figure: voltages above the safe low-voltage limit,
     parts and switches over their rating (the bill of materials' flags, with the design's
@@ -154,7 +163,10 @@ def cautions(evs: Sequence[Evaluation]) -> list[str]:
             out.append(f"{label}: voltages up to {format_value(volts, 'V')} exceed "
                        f"{SAFE_DC_VOLTS:g} V DC, above the usual safety extra-low-voltage limit; "
                        "the circuit needs insulation, spacing and protection by a qualified person.")
-        for line in bill_of_materials(ev):
+        lines, problem = bom_lines(ev)
+        if problem:
+            out.append(f"{label}: part ratings not checked — {problem}.")
+        for line in lines:
             if line.flagged:
                 out.append(f"{label}: {line.designators} ({line.kind}): {line.note}.")
         iref = float(ev.summary.get("iref_max", math.nan))

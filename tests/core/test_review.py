@@ -87,3 +87,16 @@ def test_cautions_for_high_voltage_and_power():
     assert flagged  # 120 V across 1–2 kΩ is watts, far over a small part's rating
     for ln in flagged:
         assert f"{hot.design.label}: {ln.designators} ({ln.kind}): {ln.note}." in notes
+
+
+def test_failing_bill_of_materials_is_reported_not_raised(monkeypatch):
+    import rungwise.core.review as review
+
+    def broken(ev):
+        raise KeyError("leg9")
+
+    monkeypatch.setattr(review, "bill_of_materials", broken)
+    notes = cautions([evaluate(demo_candidates()[0])])
+    assert notes[0] == ("R-2R ladder: part ratings not checked — the bill of materials could not be "
+                        "made (KeyError: 'leg9').")
+    assert notes[-1] == DEFER
