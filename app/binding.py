@@ -13,16 +13,30 @@ entries as ``(key, text)``; it never changes a design itself.
 
 from __future__ import annotations
 
+import functools
 import math
 
 from PySide6.QtCore import QObject, Signal
 from PySide6.QtWidgets import QComboBox, QLabel, QLineEdit, QSpinBox, QWidget
 
 from rungwise.core.design import FIELDS, Design
-from rungwise.core.units import format_value
+from rungwise.core.errors import DesignError
+from rungwise.core.units import format_value, parse_value
 
 INPUT_PREFIXES = ("spin_", "edit_", "combo_")
 """Object-name prefixes of bound input widgets."""
+
+
+@functools.cache
+def unit_in_text(unit: str) -> bool:
+    """Whether values of ``unit`` are written with it (``10 kΩ``) and read back by the parser;
+    otherwise the field holds a plain number and the unit stands beside it (``V/V``)."""
+    if unit in {"", "bits"}:
+        return False
+    try:
+        return parse_value(format_value(4700.0, unit, digits=6)) == 4700.0
+    except DesignError:
+        return False
 
 
 def display_text(design: Design, key: str) -> str:
@@ -35,8 +49,8 @@ def display_text(design: Design, key: str) -> str:
     unit = FIELDS[key].unit if key in FIELDS else ""
     if isinstance(value, float) and math.isinf(value):
         return "open"
-    if unit in {"", "bits"}:
-        return f"{value:g}"
+    if not unit_in_text(unit):
+        return f"{value:.6g}"
     return format_value(value, unit, digits=6)
 
 

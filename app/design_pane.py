@@ -23,7 +23,7 @@ from rungwise.core.design import FIELDS, Design
 from rungwise.core.errors import DesignError
 from rungwise.core.types import OUTPUTS_BY_TOPOLOGY, TOPOLOGIES
 
-from .binding import FieldBinder
+from .binding import FieldBinder, unit_in_text
 
 COMMIT_DELAY_MS = 450
 """A moving spin box counts as a finished edit after this pause, ms."""
@@ -94,7 +94,7 @@ class DesignPane(QWidget):
                 w = QLineEdit(self, objectName=f"edit_{key}")
                 w.setPlaceholderText(f"default, {spec.unit}" if spec.optional else spec.unit)
                 w.setMinimumWidth(w.fontMetrics().horizontalAdvance("0.000000 kΩ"))
-                unit = ""  # the text itself carries the unit (``10 kΩ``)
+                unit = "" if unit_in_text(spec.unit) else spec.unit  # else the text says ``10 kΩ``
             w.setToolTip(HINTS.get(key, ""))
             self._add_row(form, key, spec.label, w, unit)
 

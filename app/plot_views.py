@@ -19,6 +19,8 @@ import numpy as np
 import pyqtgraph as pg
 from pyqtgraph import exporters
 from PySide6.QtCore import QEvent, Qt, QTimer, Signal
+from PySide6.QtGui import QPainter
+from PySide6.QtSvg import QSvgGenerator
 from PySide6.QtWidgets import QGridLayout, QLabel, QSizePolicy, QVBoxLayout, QWidget
 
 from rungwise.core.units import format_value
@@ -356,15 +358,24 @@ class CodePlotsView(QWidget):
 
     # --- export -----------------------------------------------------------------------------------
     def export_plot(self, key: str, path: Path) -> None:
-        """Save one plot as PNG or SVG (by the file's suffix)."""
+        """Save one plot as PNG or SVG (by the file's suffix), as it is shown."""
         self.flush()
-        item = self.plots[key]
         if Path(path).suffix.lower() == ".svg":
-            exporter = exporters.SVGExporter(item)
+            widget = self.widgets[key]
+            gen = QSvgGenerator()
+            gen.setFileName(str(path))
+            gen.setSize(widget.size())
+            gen.setViewBox(widget.rect())
+            gen.setTitle(self._title(next(s for s in PLOTS if s.key == key)))
+            painter = QPainter(gen)
+            try:
+                widget.render(painter)
+            finally:
+                painter.end()
         else:
-            exporter = exporters.ImageExporter(item)
-            exporter.parameters()["width"] = max(int(item.width() * 2), 800)
-        exporter.export(str(path))
+            exporter = exporters.ImageExporter(self.plots[key])
+            exporter.parameters()["width"] = max(int(self.plots[key].width() * 2), 800)
+            exporter.export(str(path))
 
 
 def _legend_name(cand: Candidate, res: CandidateResult) -> str:
