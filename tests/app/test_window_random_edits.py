@@ -94,7 +94,7 @@ def test_random_entries_keep_a_consistent_design(window, qtbot):
             else:
                 assert math.isclose(parse_value(shown), value, rel_tol=1e-5, abs_tol=1e-12)
         elif isinstance(w, QSpinBox):
-            assert w.value() == design.bits
+            assert w.value() == getattr(design, key)
         elif isinstance(w, QComboBox):
             assert w.currentData() == getattr(design, key)
     assert set(FIELDS) <= set(inputs)
