@@ -9,6 +9,7 @@ import numpy as np
 
 from .design import Design
 from .metrics import linearity
+from .metrics.power import WHOLE_CODES
 from .metrics.structure import structure
 from .network import Network
 from .parts.figures import SUMMARY_KEYS as PART_SUMMARY_KEYS
@@ -103,15 +104,19 @@ def _argmin_max(x: np.ndarray) -> tuple[float, int, float, int]:
     return float(x[lo]), lo, float(x[hi]), hi
 
 
-def summarize(design: Design, net: Network, sol: Solution) -> dict[str, Any]:
-    """Scalar figures of a nominal solution (see :data:`SUMMARY_KEYS`)."""
+def summarize(design: Design, net: Network, sol: Solution,
+              curves: dict[str, np.ndarray] | None = None) -> dict[str, Any]:
+    """Scalar figures of a nominal solution (see :data:`SUMMARY_KEYS`).
+
+    ``curves`` may pass the INL/DNL arrays already computed (keys ``inl_endpoint``, ``inl_bestfit``,
+    ``dnl``) so they are not computed twice.
+    """
     v = sol.vout
     n_codes = v.shape[-1]
     ideal = net.ideal_lsb
     lsb = float(linearity.endpoint_lsb(v))
-    inl_e = linearity.inl_endpoint(v)
-    inl_b = linearity.inl_bestfit(v)
-    steps = linearity.dnl(v)
+    curves = curves or linearity_curves(v)
+    inl_e, inl_b, steps = curves["inl_endpoint"], curves["inl_bestfit"], curves["dnl"]
     gain_error = lsb / ideal - 1.0 if ideal else float("nan")
     out: dict[str, Any] = {
         "ideal_lsb": ideal,
@@ -134,6 +139,12 @@ def summarize(design: Design, net: Network, sol: Solution) -> dict[str, Any]:
     return out
 
 
+def linearity_curves(v: np.ndarray) -> dict[str, np.ndarray]:
+    """Endpoint INL, best-fit INL and DNL of ``v`` (shape (n_codes,), volts), in LSB."""
+    return {"inl_endpoint": linearity.inl_endpoint(v), "inl_bestfit": linearity.inl_bestfit(v),
+            "dnl": linearity.dnl(v)}
+
+
 def evaluate(design: Design) -> Evaluation:
     """Solve ``design`` at every code and compute its figures.
 
@@ -152,8 +163,11 @@ def evaluate(design: Design) -> Evaluation:
         The network cannot be solved (names the floating node).
     """
     net = build(design)
-    sol = solve(net)
+    plain = not (net.chains or net.groups or net.selector is not None)
+    # node voltages kept for the power figures of plain networks (saves a second solve)
+    sol = solve(net, keep_nodes=plain and net.n_codes <= WHOLE_CODES)
     v = sol.vout
+    curves = linearity_curves(v)
     extra, elements = part_figures(design, net, sol)
     worst = {e.name: e for e in elements}
     return Evaluation(
@@ -162,10 +176,10 @@ def evaluate(design: Design) -> Evaluation:
         vout=v,
         rout=sol.rout,
         iref=sol.iref,
-        inl_endpoint=linearity.inl_endpoint(v),
-        inl_bestfit=linearity.inl_bestfit(v),
-        dnl=linearity.dnl(v),
-        summary={**summarize(design, net, sol), **extra},
+        inl_endpoint=curves["inl_endpoint"],
+        inl_bestfit=curves["inl_bestfit"],
+        dnl=curves["dnl"],
+        summary={**summarize(design, net, sol, curves), **extra},
         parts=[{"id": p.part_id, "ohms": p.ohms, "role": p.role,
                 "power_max": worst[p.part_id].power_max if p.part_id in worst else np.nan,
                 "power_code": worst[p.part_id].power_code if p.part_id in worst else -1}

@@ -246,9 +246,10 @@ def solve(
     plan = _plan(st.n, st.pairs)
     per_code = max(1, int(np.prod(trial_shape)))
     leg_bits = getattr(net.decode, "leg_bits", None)
-    if (not use_super and full_range and leg_bits is not None and st.n > 0
-            and per_code * len(codes) <= TENSOR_ELEMENTS):
-        return _solve_bit_tensor(st, leg_bits, len(codes), trial_shape, probe_node, plan, keep_nodes)
+    if (full_range and leg_bits is not None and st.n > 0 and per_code * len(codes) <= TENSOR_ELEMENTS
+            and not (use_super and trial_shape)):
+        return _solve_bit_tensor(st, leg_bits, len(codes), trial_shape, probe_node, plan, keep_nodes,
+                                 use_super)
     step = max(1, CHUNK_ELEMENTS // per_code)
     pieces = []
     for start in range(0, len(codes), step):
@@ -274,27 +275,34 @@ def solve(
     )
 
 
-def _solve_bit_tensor(st: _Stamps, leg_bits, n_codes, trial_shape, probe_node, plan, keep_nodes):
-    """General path over all codes with one array axis per code bit.
+def _solve_bit_tensor(st: _Stamps, leg_bits, n_codes, trial_shape, probe_node, plan, keep_nodes,
+                      use_super=False):
+    """All codes with one array axis per code bit.
 
     Bit b of the code is axis ``N − 1 − b`` of a (2,)*N tensor (so a C-order reshape gives code
     order). A value that depends on few bits stays small: early pivots of the elimination touch
     only the bits of the legs eliminated so far, so most of the work is on tiny arrays and only the
-    last pivots and the back substitution run at full size. Exact; same arithmetic as the flat path.
+    last pivots and the back substitution run at full size; a leg's drive is a 2-element array
+    wherever it enters. Exact; same arithmetic as the flat layout. The superposition path (nominal
+    only) forms its node voltages by one matrix product and views them on the same layout.
     """
     n_bits = n_codes.bit_length() - 1
     prefix = trial_shape[:-1] if trial_shape else ()
-    st.ohms = {k: np.reshape(v, np.shape(v)[:-1] + (1,) * n_bits) if np.ndim(v) else v
-               for k, v in st.ohms.items()}
-    st.rebuild()
+    if not use_super:
+        st.ohms = {k: np.reshape(v, np.shape(v)[:-1] + (1,) * n_bits) if np.ndim(v) else v
+                   for k, v in st.ohms.items()}
+        st.rebuild()
     cols = []
     for b in leg_bits:
         shape = [1] * n_bits
         shape[n_bits - 1 - b] = 2
         cols.append(np.array([0.0, 1.0]).reshape(shape))
     full = prefix + (2,) * n_bits
-    volts = _solve_general(st, cols, probe_node, plan)
-    sol = _finish(st, cols, volts, full, keep_nodes, False)
+    if use_super:
+        volts = _solve_superposition(st, None, (), probe_node, plan, tensor_cols=cols)
+    else:
+        volts = _solve_general(st, cols, probe_node, plan)
+    sol = _finish(st, cols, volts, full, keep_nodes, use_super)
     flat = (*prefix, n_codes)
     sol.vout, sol.rout, sol.iref = (a.reshape(flat) for a in (sol.vout, sol.rout, sol.iref))
     sol.node_voltages = {k: np.broadcast_to(v, full).reshape(flat)
@@ -328,7 +336,7 @@ def _solve_general(st: _Stamps, cols, probe_node, plan):
     return {name: x[i] for i, name in enumerate(st.nodes)}
 
 
-def _solve_superposition(st: _Stamps, drive, trial_shape, probe_node, plan):
+def _solve_superposition(st: _Stamps, drive, trial_shape, probe_node, plan, tensor_cols=None):
     """One factorisation: columns = sources, probe, and each leg's source and probe deltas."""
     n, n_legs = st.n, len(st.leg_db)
     k = 2 + 2 * n_legs
@@ -345,6 +353,8 @@ def _solve_superposition(st: _Stamps, drive, trial_shape, probe_node, plan):
                 cols[2 + n_legs + leg] = cols[2 + n_legs + leg] + v[1]
         rhs.append(np.stack(np.broadcast_arrays(*cols), axis=-1))
     x = solve_batched(n, st.a0, rhs, plan, st.nodes)
+    if tensor_cols is not None:
+        return _TensorLegSums(st.nodes, x, tensor_cols)
     return _LegSums(st.nodes, x, drive, n_legs)
 
 
@@ -369,7 +379,8 @@ class _LegSums(Mapping):
             per_leg = np.stack([xs[..., 2:2 + n_legs], xs[..., 2 + n_legs:]], axis=-2)
             if per_leg.ndim > 3:  # trials: drop the code axis of size 1
                 per_leg, base = per_leg[..., 0, :, :, :], base[..., 0, :, :]
-            self._all = per_leg @ self._drive.T + base[..., None]  # (…, n, 2, C)
+            flat = per_leg.reshape(-1, n_legs) @ self._drive.T  # one 2-D product (BLAS)
+            self._all = flat.reshape((*per_leg.shape[:-1], -1)) + base[..., None]  # (…, n, 2, C)
         v = self._all[..., self._index[name], :, :]
         return np.moveaxis(v, -2, -1)
 
@@ -378,6 +389,34 @@ class _LegSums(Mapping):
 
     def __len__(self) -> int:
         return len(self._index)
+
+
+class _TensorLegSums(_LegSums):
+    """The same node voltages on the nominal bit-tensor layout (see :func:`_solve_bit_tensor`).
+
+    ``base + Σ_l drive_l · response_l`` is summed leg by leg; each leg's drive is a 2-element array
+    on its own axis, so the partial sums grow 2, 4, 8 … and the whole costs about 2·2^N per node
+    and column instead of a product over all legs.
+    """
+
+    def __init__(self, nodes, x, cols) -> None:
+        self._index = {name: i for i, name in enumerate(nodes)}
+        self._x, self._cols = x, cols
+        self._done: dict[str, np.ndarray] = {}
+
+    def __getitem__(self, name: str) -> np.ndarray:
+        v = self._done.get(name)
+        if v is None:
+            xi, n_legs = self._x[self._index[name]], len(self._cols)
+            order = sorted(range(n_legs), key=lambda leg: -int(np.argmax(self._cols[leg].shape)))
+            parts = []
+            for c in (0, 1):
+                acc = np.asarray(xi[..., c])
+                for leg in order:
+                    acc = acc + self._cols[leg] * xi[..., 2 + c * n_legs + leg]
+                parts.append(acc)
+            v = self._done[name] = np.stack(np.broadcast_arrays(*parts), axis=-1)
+        return v
 
 
 def _apply(drive: np.ndarray, per_leg: np.ndarray) -> np.ndarray:

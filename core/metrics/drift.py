@@ -59,7 +59,8 @@ def part_ohms_at(design: Any, net: Network, temperatures_c: np.ndarray) -> dict[
             for i, p in enumerate(net.parts)}
 
 
-def drift(design: Any, net: Network, temperatures_c: np.ndarray | list[float]) -> DriftResult:
+def drift(design: Any, net: Network, temperatures_c: np.ndarray | list[float],
+          nominal_vout: np.ndarray | None = None) -> DriftResult:
     """Solve ``net`` with its parts at each temperature (one batched solve).
 
     Parameters
@@ -69,6 +70,9 @@ def drift(design: Any, net: Network, temperatures_c: np.ndarray | list[float]) -
     net : Network
         Nominal values (as built and snapped).
     temperatures_c : sequence of float, °C
+    nominal_vout : ndarray, shape (n_codes,), optional
+        The nominal solution; reused (no solve) when no part changes value at any temperature
+        (every coefficient zero).
 
     Returns
     -------
@@ -77,8 +81,12 @@ def drift(design: Any, net: Network, temperatures_c: np.ndarray | list[float]) -
     temps = np.asarray(temperatures_c, dtype=float)
     ohms = part_ohms_at(design, net, temps)
     feedback = ohms.pop("feedback", None)
-    sol = solve(net, ohms=ohms)
-    v = sol.vout
+    nominal = {p.part_id: p.ohms for p in net.parts}
+    unchanged = all(np.all(v == nominal[k]) for k, v in ohms.items())
+    if nominal_vout is not None and unchanged:
+        v = np.broadcast_to(nominal_vout, (len(temps), nominal_vout.shape[-1]))
+    else:
+        v = solve(net, ohms=ohms).vout
     if feedback is not None and net.output.kind == "virtual-ground":
         v = v * (feedback / net.output.feedback_ohms)
     ideal = net.ideal_lsb

@@ -21,7 +21,7 @@ import numpy as np
 
 from ..element_arrays import plain_equivalent, plain_size
 from ..network import Network
-from ..solve import solve
+from ..solve import Solution, solve
 
 CODE_CHUNK = 1 << 15
 """Codes solved per pass when node voltages are kept; bounds working memory."""
@@ -108,13 +108,17 @@ def element_powers(net: Network, drive: np.ndarray, volts: dict[str, np.ndarray]
     return out
 
 
-def worst_case(net: Network) -> tuple[list[ElementPower], dict[str, float]]:
+def worst_case(net: Network, solved: Solution | None = None
+               ) -> tuple[list[ElementPower], dict[str, float]]:
     """Every element's worst-case power and current, and the network's totals.
 
     Parameters
     ----------
     net : Network
         Nominal values (no Monte Carlo trials).
+    solved : Solution, optional
+        ``solve(net, keep_nodes=True)`` at every code, when the caller already has it (saves a
+        solve; used only for networks of plain resistors and legs).
 
     Returns
     -------
@@ -143,9 +147,11 @@ def worst_case(net: Network) -> tuple[list[ElementPower], dict[str, float]]:
     balance = 0.0
     whole = net.n_codes <= WHOLE_CODES
     step = net.n_codes if whole else CODE_CHUNK
+    reuse = (solved is not None and whole and solved.node_voltages
+             and solved.vout.shape == (net.n_codes,))
     for start in range(0, net.n_codes, step):
         codes = np.arange(start, min(start + step, net.n_codes))
-        sol = solve(net, codes=None if whole else codes, keep_nodes=True)
+        sol = solved if reuse else solve(net, codes=None if whole else codes, keep_nodes=True)
         volts = {k: np.broadcast_to(v, codes.shape) for k, v in sol.node_voltages.items()}
         drive = net.decode(codes).astype(bool)
         legs = {f"switch:{g.part_id}": col for col, g in enumerate(net.legs)}

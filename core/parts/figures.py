@@ -54,7 +54,8 @@ def part_figures(design: Any, net: Network, sol: Solution
     sol : Solution
         Its nominal solution, shape (n_codes,).
     """
-    elements, totals = worst_case(net)
+    plain = not (net.chains or net.groups or net.selector is not None)
+    elements, totals = worst_case(net, sol if plain else None)
     switches = [e for e in elements if e.kind == "switch"]
     tau = settling.time_constant(net, sol.rout, design.load_c)
     density = noise.output_density(net, sol.rout, design.temperature_c)
@@ -74,7 +75,8 @@ def part_figures(design: Any, net: Network, sol: Solution
         "noise_rms": noise_rms,
         "noise_rms_lsb": noise_rms / lsb if lsb else float("nan"),
     }
-    ends = drift(design, net, [board_value(design, "temp_low_c"), board_value(design, "temp_high_c")])
+    ends = drift(design, net, [board_value(design, "temp_low_c"), board_value(design, "temp_high_c")],
+                 nominal_vout=sol.vout)
     for i, end in enumerate(("low", "high")):
         out[f"drift_gain_error_{end}"] = float(ends.gain_error[i])
         out[f"drift_offset_{end}"] = float(ends.offset_error[i])
