@@ -111,13 +111,14 @@ def bill_of_materials(ev: Evaluation) -> list[BomLine]:
     for p in net.parts:
         units = int(p.units)
         unit = p.ohms * units if p.joined == "parallel" else p.ohms / units
-        p_unit = worst[p.part_id].power_max / units
+        # networks too large for the per-element power pass carry NaN (said in the line's note)
+        p_unit = worst[p.part_id].power_max / units if p.part_id in worst else math.nan
         key = (round(unit, 9), tempco_of(design, p.part_id))
         g = groups.setdefault(key, {"numbers": [], "ids": [], "power": 0.0})
         g["numbers"].extend(range(number + 1, number + 1 + units))
         number += units
         g["ids"].append(p.part_id)
-        g["power"] = max(g["power"], p_unit)
+        g["power"] = math.nan if math.isnan(p_unit) else max(g["power"], p_unit)
     size = int(board_value(design, "array_size"))
     lines = []
     array_no = 0
@@ -125,6 +126,8 @@ def bill_of_materials(ev: Evaluation) -> list[BomLine]:
         over = g["power"] > allowed
         note = (f"over the rating: {format_value(g['power'], 'W')} per resistor, allowed "
                 f"{format_value(allowed, 'W')}" if over else "")
+        if math.isnan(g["power"]):
+            note = "power not worked out per part for a network this large; check the datasheet"
         count = len(g["numbers"])
         if size:
             packs = math.ceil(count / size)

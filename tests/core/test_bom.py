@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import csv
 import io
+import math
 
 import pytest
 
@@ -60,3 +61,12 @@ def test_overloads_are_flagged_with_the_caution():
     assert "local codes" in CAUTION
     calm = to_csv([("cool", bill_of_materials(evaluate(Design(bits=4))))])
     assert "caution" not in calm
+
+
+def test_large_string_bom_lists_every_resistor_without_power_figures():
+    # a 10-bit string is past the per-element power pass: the BOM still lists all 1024 parts
+    lines = bill_of_materials(evaluate(Design(topology="string", bits=10)))
+    resistors = [line for line in lines if line.kind == "resistor"]
+    assert sum(line.quantity for line in resistors) == 1024
+    assert all(math.isnan(line.power_needed) for line in resistors)
+    assert "network this large" in resistors[0].note
