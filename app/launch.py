@@ -2,8 +2,22 @@
 
 from __future__ import annotations
 
+import os
 import sys
 from pathlib import Path
+
+NO_DISPLAY_HINT = (
+    "rungwise: no screen found (neither DISPLAY nor WAYLAND_DISPLAY is set), so the window cannot "
+    "open; showing the comparison as text instead.\n"
+    "  To open the window on a machine without a screen: xvfb-run -a rungwise\n"
+    "  Headless commands: rungwise --help\n")
+
+
+def has_display() -> bool:
+    """Whether Qt can open a window here (Linux needs X11 or Wayland; a set platform counts)."""
+    if not sys.platform.startswith("linux") or os.environ.get("QT_QPA_PLATFORM"):
+        return True
+    return bool(os.environ.get("DISPLAY") or os.environ.get("WAYLAND_DISPLAY"))
 
 
 def launch_window(args: list[str]) -> int:
@@ -15,6 +29,11 @@ def launch_window(args: list[str]) -> int:
         print("usage: rungwise [DESIGN_FILE] | rungwise <command> … (see rungwise --help)",
               file=sys.stderr)
         return 2
+    if not has_display():
+        from .cli import run_cli
+
+        print(NO_DISPLAY_HINT, file=sys.stderr)
+        return run_cli(["compute", *args])
     from PySide6.QtWidgets import QApplication
 
     from .main_window import MainWindow
