@@ -39,6 +39,12 @@ HINTS: dict[str, str] = {
 }
 """Tooltips for fields whose meaning is not obvious from the label."""
 
+CAPTION_WIDTH_TEXT = "Reference voltage"
+"""Captions up to about this width sit beside their field; longer ones above it."""
+
+FIELD_WIDTH_TEXT = "0.000000 kΩ"
+"""Entry fields are at least this wide."""
+
 REFUSED_STYLE = "*[refused=\"true\"] { border: 2px solid #c23b3b; border-radius: 3px; }"
 """How a field holding a refused entry is marked."""
 
@@ -77,7 +83,7 @@ class DesignPane(QWidget):
         outer.addWidget(self.heading)
         form = QFormLayout()
         form.setFieldGrowthPolicy(QFormLayout.FieldGrowthPolicy.AllNonFixedFieldsGrow)
-        form.setRowWrapPolicy(QFormLayout.RowWrapPolicy.WrapLongRows)
+        form.setRowWrapPolicy(QFormLayout.RowWrapPolicy.WrapLongRows)  # long captions sit above
         outer.addLayout(form)
         outer.addStretch(1)
         for key, label in (("topology", "Network"), ("output", "Output")):
@@ -93,7 +99,7 @@ class DesignPane(QWidget):
             else:
                 w = QLineEdit(self, objectName=f"edit_{key}")
                 w.setPlaceholderText(f"default, {spec.unit}" if spec.optional else spec.unit)
-                w.setMinimumWidth(w.fontMetrics().horizontalAdvance("0.000000 kΩ"))
+                w.setMinimumWidth(w.fontMetrics().horizontalAdvance(FIELD_WIDTH_TEXT))
                 unit = "" if unit_in_text(spec.unit) else spec.unit  # else the text says ``10 kΩ``
             w.setToolTip(HINTS.get(key, ""))
             self._add_row(form, key, spec.label, w, unit)

@@ -9,7 +9,7 @@ import importlib
 from pathlib import Path
 
 from PySide6.QtCore import QByteArray, Qt, QTimer, Signal
-from PySide6.QtGui import QAction, QActionGroup, QCloseEvent, QGuiApplication, QKeySequence
+from PySide6.QtGui import QAction, QActionGroup, QCloseEvent, QGuiApplication, QKeySequence, QShowEvent
 from PySide6.QtWidgets import (
     QFileDialog,
     QGroupBox,
@@ -34,7 +34,7 @@ from .candidate_list import CandidateListPane
 from .compare_table import CompareTable
 from .comparison_model import ComparisonModel
 from .comparison_state import Candidate, with_colours
-from .design_pane import DesignPane
+from .design_pane import CAPTION_WIDTH_TEXT, FIELD_WIDTH_TEXT, DesignPane
 from .live_results import LiveResults, ResultSet
 from .plot_views import PLOTS, CodePlotsView
 from .view_registry import VIEWS, ViewEntry
@@ -64,6 +64,9 @@ class MainWindow(QMainWindow):
         self.setObjectName("main_window")
         self.remember = remember
         self.ask_before_closing = True
+        self._sizes_pending = False
+        self._user_sized = False
+        self._fitting_splitter = False
         self.model = ComparisonModel(candidates or with_colours(demo_candidates()), self)
         self.live = LiveResults(self)
         self.views: dict[str, QWidget] = {}
@@ -226,6 +229,11 @@ class MainWindow(QMainWindow):
         self.live.progress_changed.connect(self._on_progress)
         self.live.failed.connect(lambda msg: self.show_problem(f"The computation failed: {msg}"))
         self.cancel_button.clicked.connect(self.live.cancel)
+        self.splitter.splitterMoved.connect(self._on_splitter_moved)
+
+    def _on_splitter_moved(self, *_args) -> None:
+        if not self._fitting_splitter:
+            self._user_sized = True
 
     # --- model → everything ------------------------------------------------------------------------
     def _on_candidates_changed(self) -> None:
@@ -269,6 +277,7 @@ class MainWindow(QMainWindow):
         shown = [Candidate(r.design, c.colour) for c, r in zip(cands, result.results, strict=True)]
         self.plots.set_results(shown, result.results)
         self.table.set_results(shown, result.results)
+        self._fit_table()
         failed = [f"{c.name}: {r.message}" for c, r in zip(shown, result.results, strict=True)
                   if r.evaluation is None]
         if failed:
@@ -425,11 +434,45 @@ class MainWindow(QMainWindow):
         sizes = mem.get("splitter")
         if isinstance(sizes, list) and len(sizes) == 3 and all(isinstance(s, int) and s > 0 for s in sizes):
             self.splitter.setSizes(sizes)
+            self._user_sized = True  # the person's own layout from last time
         else:
-            w = self.width()
-            self.splitter.setSizes([275, max(w - 275 - 440, 300), 440])
+            self._sizes_pending = True  # set on first show, when the window has its real size
         if mem.get("inl_line") in ("endpoint", "bestfit"):
             self.set_inl_line(mem["inl_line"])
+
+    def showEvent(self, event: QShowEvent) -> None:
+        """Give the panels their default widths the first time the window appears."""
+        super().showEvent(event)
+        if self._sizes_pending:
+            self._sizes_pending = False
+            self.splitter.setSizes(self._default_sizes())
+
+    def _default_sizes(self) -> list[int]:
+        """Values pane, curves and figures widths: the table gets room for two candidates."""
+        fm = self.pane.fontMetrics()
+        field = fm.horizontalAdvance(CAPTION_WIDTH_TEXT) + fm.horizontalAdvance(FIELD_WIDTH_TEXT)
+        left = max(260, field + 90)
+        right = min(self._table_width(), int(self.width() * 0.45))
+        return [left, max(self.width() - left - right, 300), right]
+
+    def _table_width(self) -> int:
+        """Width the figures panel needs to show every column without scrolling."""
+        t = self.table
+        columns = sum(t.columnWidth(c) for c in range(t.columnCount()))
+        if t.columnCount() == 0:
+            columns = 2 * (t.fontMetrics().horizontalAdvance("0.09686 LSB ◆") + 30)
+        return t.verticalHeader().sizeHint().width() + columns + t.verticalScrollBar().sizeHint().width() + 40
+
+    def _fit_table(self) -> None:
+        """Widen the figures panel for its columns until the person moves the dividers."""
+        if self._user_sized or not self.isVisible():
+            return
+        left, centre, right = self.splitter.sizes()
+        want = min(self._table_width(), int(self.width() * 0.45))
+        if want > right:
+            self._fitting_splitter = True
+            self.splitter.setSizes([left, max(centre - (want - right), 300), want])
+            self._fitting_splitter = False
 
     def last_file(self) -> Path | None:
         """The design file open when the window last closed, if it still exists."""

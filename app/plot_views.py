@@ -145,7 +145,7 @@ class CodePlotsView(QWidget):
         w.scene().sigMouseMoved.connect(lambda pos, k=spec.key: self._on_mouse(k, pos))
         if spec.key == "dnl":
             self.dnl_limit = pg.InfiniteLine(pos=-1.0, angle=0, movable=False,
-                                             label="−1 LSB: below this, not monotonic",
+                                             label="−1 LSB: monotonic limit",
                                              labelOpts={"position": 0.98, "anchors": [(1, 1), (1, 1)]})
             p.addItem(self.dnl_limit)
         self.cursors[spec.key] = cursor
@@ -291,7 +291,7 @@ class CodePlotsView(QWidget):
         self._syncing = True
         try:
             vb = self.plots[key].vb
-            vb.setRange(xRange=(0, max(self._n_codes() - 1, 1)), yRange=(lo, hi), padding=0.04)
+            vb.setRange(xRange=(0, max(self._n_codes() - 1, 1)), yRange=(lo, hi), padding=0.07)
         finally:
             self._syncing = False
 
