@@ -86,3 +86,21 @@ def test_part_ids_and_sizing_rule():
     assert ids == ["seg0", "seg1", "seg2", "leg0", "leg1", "leg2", "series0", "series1", "term"]
     assert segmented.part_ids("unbuffered", 3, 3) == [f"seg{i}" for i in range(7)] + ["term"]
     assert "Thevenin" in segmented.SIZING_RULE
+
+
+def test_step_dnl_sigma_of_a_unit_element_thermometer_array():
+    # common practice: in a unit-element segmented array the carry into segment t has
+    # DNL σ = σ·√(2^(L+1) − 1) for L binary bits; with L = 0 (fully thermometer, 63 equal
+    # segments and the ground leg) every step is one unit: σ·√(1 − 1/n) to first order, n = 63
+    # (the mean error cancels in the endpoint LSB)
+    sigma, trials = 0.002, 4000
+    net = build(Design(topology="segmented", bits=6, thermometer_bits=6, vref=1.0, unit_r=1e4))
+    rng = np.random.default_rng(13)
+    ohms = {f"seg{i}": 1e4 * (1 + sigma * rng.standard_normal((trials, 1))) for i in range(63)}
+    ohms["term"] = 1e4 * (1 + sigma * rng.standard_normal((trials, 1)))
+    from rungwise.core.metrics.linearity import dnl
+
+    steps = dnl(solve(net, ohms=ohms).vout)
+    n = 63
+    np.testing.assert_allclose(steps.std(axis=0).mean(), sigma * np.sqrt(1 - 1 / n), rtol=0.02)
+    np.testing.assert_allclose(steps.std(axis=0), sigma * np.sqrt(1 - 1 / n), rtol=0.1)
