@@ -419,7 +419,7 @@ class MainWindow(QMainWindow):
 
     def _update_title(self) -> None:
         name = self.model.path.name if self.model.path else "demo comparison"
-        self.setWindowTitle(f"{name}{' •' if self.model.modified else ''} — {APP_TITLE}")
+        self.setWindowTitle(f"{name}[*] — {APP_TITLE}")  # Qt shows '*' at [*] when modified
         self.setWindowModified(self.model.modified)
 
     # --- memory and closing ---------------------------------------------------------------------------

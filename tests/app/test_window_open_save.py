@@ -110,3 +110,10 @@ def test_plot_export_png_and_svg(window, tmp_path):
     window.plots.export_plot("dnl", svg)
     assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
     assert "<svg" in svg.read_text()[:2000]
+
+
+def test_title_marks_unsaved_changes_with_qt_placeholder(window):
+    # the title carries Qt's [*] placeholder, so setWindowModified shows '*' without a warning
+    assert "[*]" in window.windowTitle()
+    window.setWindowModified(True)
+    assert window.isWindowModified()
