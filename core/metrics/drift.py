@@ -59,6 +59,15 @@ def part_ohms_at(design: Any, net: Network, temperatures_c: np.ndarray) -> dict[
             for i, p in enumerate(net.parts)}
 
 
+def _any_part_drifts(design: Any, temperatures_c: np.ndarray) -> bool:
+    """Whether any part's value changes at any of the temperatures (a coefficient not zero)."""
+    base = MismatchModel.of(design)
+    models = [dataclasses.replace(base, temperature_c=float(t)) for t in temperatures_c]
+    if any(m.tempco * (m.temperature_c - m.reference_c) != 0 for m in models):
+        return True
+    return any(temperature_factor(m, pid) != 1.0 for m in models for pid in base.tempco_parts)
+
+
 def drift(design: Any, net: Network, temperatures_c: np.ndarray | list[float],
           nominal_vout: np.ndarray | None = None) -> DriftResult:
     """Solve ``net`` with its parts at each temperature (one batched solve).
@@ -79,13 +88,12 @@ def drift(design: Any, net: Network, temperatures_c: np.ndarray | list[float],
     DriftResult
     """
     temps = np.asarray(temperatures_c, dtype=float)
-    ohms = part_ohms_at(design, net, temps)
-    feedback = ohms.pop("feedback", None)
-    nominal = {p.part_id: p.ohms for p in net.parts}
-    unchanged = all(np.all(v == nominal[k]) for k, v in ohms.items())
-    if nominal_vout is not None and unchanged:
+    feedback = None
+    if nominal_vout is not None and not _any_part_drifts(design, temps):
         v = np.broadcast_to(nominal_vout, (len(temps), nominal_vout.shape[-1]))
     else:
+        ohms = part_ohms_at(design, net, temps)
+        feedback = ohms.pop("feedback", None)
         v = solve(net, ohms=ohms).vout
     if feedback is not None and net.output.kind == "virtual-ground":
         v = v * (feedback / net.output.feedback_ohms)
