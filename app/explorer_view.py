@@ -39,7 +39,7 @@ from rungwise.core.sweep import (
 from rungwise.core.topologies.segmented import SIZING_RULE
 from rungwise.core.types import MAX_ARRAY_BITS
 
-from .workers import JobRunner, Progress
+from .workers import Progress, runner_for
 
 CHANNEL = "explorer"
 """JobRunner channel of this view."""
@@ -95,11 +95,7 @@ class ExplorerPane(QWidget):
         self.setObjectName("explorer_pane")
         self._designs: list[Design] = []
         self.result: SweepResult | None = None
-        self.runner = JobRunner(self)
-        self.runner.progress.connect(self._on_progress)
-        self.runner.finished.connect(self._on_finished)
-        self.runner.failed.connect(self._on_failed)
-        self.runner.busy_changed.connect(self._on_busy)
+        self.runner = runner_for(self)
         self._build()
 
     # --- layout --------------------------------------------------------------------------------

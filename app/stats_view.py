@@ -33,7 +33,7 @@ from rungwise.core.grades import STANDARD_GRADES
 from rungwise.core.targets import MAX_SEED
 
 from .stats_job import StatsOutcome, StatsRequest, statistics_job
-from .workers import JobRunner, Progress
+from .workers import Progress, runner_for
 
 CHANNEL = "statistics"
 """JobRunner channel of this view."""
@@ -77,11 +77,7 @@ class StatisticsPane(QWidget):
         self._designs: list[Design] = []
         self._outcome: StatsOutcome | None = None
         self._stale = False
-        self.runner = JobRunner(self)
-        self.runner.progress.connect(self._on_progress)
-        self.runner.finished.connect(self._on_finished)
-        self.runner.failed.connect(self._on_failed)
-        self.runner.busy_changed.connect(self._on_busy)
+        self.runner = runner_for(self)
         self._build()
 
     # --- layout --------------------------------------------------------------------------------

@@ -165,3 +165,14 @@ class JobRunner(QObject):
             self._cancels.pop(channel, None)
             self.busy_changed.emit(channel, False)
             self.failed.emit(channel, message)
+
+
+def runner_for(owner: QObject) -> JobRunner:
+    """A :class:`JobRunner` owned by ``owner`` with the owner's ``_on_progress``,
+    ``_on_finished``, ``_on_failed`` and ``_on_busy`` slots connected (the usual view wiring)."""
+    runner = JobRunner(owner)
+    runner.progress.connect(owner._on_progress)
+    runner.finished.connect(owner._on_finished)
+    runner.failed.connect(owner._on_failed)
+    runner.busy_changed.connect(owner._on_busy)
+    return runner
