@@ -48,6 +48,8 @@ def parse_value(text: str | float | int, field: str = "value") -> float:
     s = str(text).strip().replace("\u2009", " ").replace("\u00a0", " ")
     if s.lower() in {"inf", "open", "infinity", "∞", "none"}:
         return math.inf
+    if s.lower() in {"-inf", "-infinity", "-∞"}:  # written by design files for an open rail_low
+        return -math.inf
     if s.lower() in {"nan"}:
         return math.nan
     m = _PERCENT.match(s)

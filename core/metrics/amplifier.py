@@ -12,6 +12,7 @@ a gain error only. Codes whose output passes a rail are counted (the output is c
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 import numpy as np
@@ -75,11 +76,12 @@ def apply(net: Network, vout: np.ndarray, rout: np.ndarray, offset: float, open_
     ideal_lsb = float(linearity.endpoint_lsb(vout))
     lsb = float(linearity.endpoint_lsb(real))
     inl_added = np.abs(linearity.inl_endpoint(real) - linearity.inl_endpoint(vout))
+    inl_added = inl_added[np.isfinite(inl_added)]  # none when the rails clip every code alike
     return AmplifierEffect(
         vout=real,
         offset_error=float(real[0] - vout[0]),
         gain_error=lsb / ideal_lsb - 1.0 if ideal_lsb else float("nan"),
-        inl_added=float(np.nanmax(inl_added)) if inl_added.size else 0.0,
+        inl_added=float(inl_added.max()) if inl_added.size else (0.0 if vout.size < 2 else math.nan),
         noise_gain=ng,
         codes_clipped=int(np.count_nonzero(outside)),
     )

@@ -1,0 +1,218 @@
+"""Property tests over the whole design space: valid designs evaluate to finite figures, invalid
+ones are refused by name, design files round-trip and damaged ones raise only our own error.
+
+Budgets: ``tests/hardening/profiles.py`` (``RUNGWISE_HYPOTHESIS_PROFILE=long`` for the long run).
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+from hypothesis import given
+from hypothesis import strategies as st
+
+from rungwise.core import FIELDS, Design, DesignError, evaluate
+from rungwise.core import designfile as dfile
+from rungwise.core.build_style import BUILD_OPTIONS
+from rungwise.core.errors import RungwiseError
+from rungwise.core.metrics.amplifier import has_amplifier
+from rungwise.core.mismatch import CHOICE_SETTINGS, NUMERIC_SETTINGS
+from rungwise.core.parts.board import BOARD_KEYS
+from rungwise.core.targets import AnalysisSettings
+
+from .profiles import budget
+from .strategies import designs
+
+ARRAYS = ("vout", "iref", "inl_endpoint", "inl_bestfit", "dnl")
+POWER_TOTALS = ("power_total_max", "power_total_max_code", "ref_power_max", "ref_power_max_code",
+                "balance_error_max")
+
+
+def _allowed_non_finite(ev, key: str) -> bool:
+    """Summary figures that are not finite by definition (each documented where it is computed)."""
+    net, s = ev.network, ev.summary
+    if key in {"settling_tau", "settling_time"}:  # metrics/settling.py: NaN behind an amplifier
+        return has_amplifier(net) and math.isnan(s[key])
+    if key in POWER_TOTALS:  # metrics/power.py: NaN for array networks too big to expand
+        return bool(net.chains or net.groups or net.selector is not None) and math.isnan(s[key])
+    if key == "amp_inl_added":  # metrics/amplifier.py: NaN when the rails clip every code alike
+        return s["amp_codes_clipped"] > 0 and math.isnan(s[key])
+    if key in {"rout_max", "rout_min"}:  # an output fed by a current with no resistive path
+        return math.isinf(s[key]) and s[key] > 0
+    return False
+
+
+@budget(60)
+@given(design=designs(max_bits=10, practical=True))
+def test_every_practical_design_evaluates_to_finite_figures(design):
+    try:
+        ev = evaluate(design)
+    except DesignError as exc:  # a snapped part outside its series' range is refused by name
+        refused = exc
+    else:
+        refused = None
+    if refused is not None:
+        assert refused.field.startswith("series")
+        assert design.series != "exact"
+        return
+    n = 2 ** design.bits
+    assert ev.vout.shape == ev.rout.shape == ev.iref.shape == (n,)
+    for name in ARRAYS:
+        assert np.all(np.isfinite(getattr(ev, name))), name
+    # rout is +inf only where the output has no resistive path (a current-mode ladder's code 0);
+    # it is never NaN or negative
+    rout = ev.rout
+    assert not np.any(np.isnan(rout))
+    assert np.all(rout >= 0)
+    if np.any(np.isinf(rout)):
+        assert design.topology == "r2r-current"
+    for key, value in ev.summary.items():
+        if isinstance(value, float) and not math.isfinite(value):
+            assert _allowed_non_finite(ev, key), (key, value)
+    for part in ev.parts:
+        assert math.isfinite(part["ohms"])
+        assert part["ohms"] > 0
+
+
+@budget(120)
+@given(design=designs())
+def test_every_design_survives_its_dict_and_its_file(design):
+    again = Design.from_dict(design.to_dict())
+    assert again == design
+    doc = dfile.DesignFile([design], settings={}, analysis=AnalysisSettings())
+    back = dfile.loads(dfile.dumps(doc))
+    assert [d.to_dict() for d in back.candidates] == [design.to_dict()]
+
+
+# --- invalid values are refused with the field's name ------------------------------------------
+
+def _bad_field_values(key: str) -> st.SearchStrategy:
+    spec = FIELDS[key]
+    below = st.floats(-1e300, spec.low, exclude_max=not spec.low_open)
+    above = st.floats(spec.high, 1e300, exclude_min=True)
+    bad = [below, above, st.just(math.nan), st.just(-math.inf),
+           st.sampled_from(["abc", "1..2", "--1", "4k7k", "1 %%", "∞x"])]
+    if not spec.allow_inf:
+        bad.append(st.just(math.inf))
+    if spec.integer:
+        bad.append(st.floats(spec.low, spec.high).filter(lambda x: x != int(x)))
+    if not spec.optional:
+        bad.append(st.sampled_from([None, "", "default"]))
+    if key in {"vref", "gain"}:
+        bad.append(st.sampled_from([0.0, -0.0, "0"]))
+    return st.one_of(bad)
+
+
+@st.composite
+def _invalid_change(draw) -> tuple[str, dict]:
+    """(field expected in the refusal, ``Design.replace`` keywords)."""
+    kind = draw(st.sampled_from(["field", "mismatch", "board", "build", "part", "unknown"]))
+    if kind == "field":
+        key = draw(st.sampled_from(sorted(FIELDS)))
+        return key, {key: draw(_bad_field_values(key))}
+    if kind == "mismatch":
+        key = draw(st.sampled_from(sorted([*NUMERIC_SETTINGS, *CHOICE_SETTINGS])))
+        if key in CHOICE_SETTINGS:
+            value = draw(st.text(max_size=8).filter(lambda s: s not in CHOICE_SETTINGS[key]))
+        else:
+            spec = NUMERIC_SETTINGS[key]
+            value = draw(st.one_of(st.floats(spec.high, 1e300, exclude_min=True),
+                                   st.floats(-1e300, spec.low, exclude_max=not spec.low_open),
+                                   st.just(math.nan), st.just("zz")))
+        return f"mismatch.{key}", {"mismatch": {key: value}}
+    if kind == "board":
+        key = draw(st.sampled_from(sorted(BOARD_KEYS)))
+        spec = BOARD_KEYS[key]
+        value = draw(st.one_of(st.floats(spec.high, 1e300, exclude_min=True).filter(math.isfinite),
+                               st.floats(-1e300, spec.low, exclude_max=True),
+                               st.just(math.nan), st.just("zz")))
+        return f"board.{key}", {"board": {key: value}}
+    if kind == "build":
+        key = draw(st.sampled_from(sorted(BUILD_OPTIONS)))
+        value = draw(st.text(max_size=8).filter(lambda s: s not in BUILD_OPTIONS[key]))
+        return f"build.{key}", {"build": {key: value}}
+    if kind == "part":
+        value = draw(st.one_of(st.floats(max_value=0.0), st.floats(1e12, exclude_min=True),
+                               st.just(math.nan), st.just("zz")))
+        return "parts.leg0", {"parts": {"leg0": value}}
+    name = draw(st.text("abcdefgh_", min_size=1, max_size=10))
+    return name, {name: 1.0}
+
+
+@budget(200)
+@given(change=_invalid_change())
+def test_every_invalid_value_is_refused_by_name(change):
+    field, kwargs = change
+    if field in Design.__dataclass_fields__ and field not in FIELDS:
+        return  # a drawn unknown name that happens to be a real key
+    base = Design(topology="r2r-voltage", bits=6)
+    with pytest.raises(DesignError) as info:
+        base.replace(**kwargs)
+    assert info.value.field == field
+    assert str(info.value).startswith(f"{field}: ")
+
+
+# --- damaged design files raise only our own error ---------------------------------------------
+
+_GOOD_FILE = dfile.dumps(dfile.DesignFile(
+    [Design(topology="segmented", bits=10, thermometer_bits=4, mismatch={"tolerance": 0.001},
+            board={"power_rating": 0.25}, build={"two_r": "two-units"}, parts={"seg0": 5e3}),
+     Design(topology="binary-weighted", output="summing-amp", load_r=1e5)],
+    settings={"view": "dnl"}, analysis=AnalysisSettings(trials=500, seed=7)))
+
+_PIECES = st.sampled_from(["=", "[", "]", "{", "}", "\"", "'", ",", "\n", "#", ".", "-", "0", "1e999",
+                           "nan", "inf", "true", "bits", "topology", "candidates", "[[candidate]]",
+                           "parts", "mismatch", "é", "\x00", "\ud7ff", " ", "9" * 40])
+
+
+@st.composite
+def _damaged_files(draw) -> str:
+    text = _GOOD_FILE
+    for _ in range(draw(st.integers(1, 4))):
+        at = draw(st.integers(0, len(text)))
+        if draw(st.booleans()):
+            text = text[:at] + text[at + draw(st.integers(1, 30)):]
+        else:
+            text = text[:at] + draw(_PIECES) + text[at:]
+    return text
+
+
+@budget(200)
+@given(text=st.one_of(_damaged_files(), st.text(max_size=200)))
+def test_a_damaged_design_file_raises_only_our_error(text):
+    try:
+        doc = dfile.loads(text)
+    except RungwiseError as exc:
+        message = str(exc)
+    else:
+        message = None
+    if message is not None:
+        assert message
+        return
+    assert doc.candidates
+    assert all(isinstance(d, Design) for d in doc.candidates)
+
+
+# --- defects the property tests found, kept as plain examples ----------------------------------
+
+def test_segment_part_tempco_is_accepted_on_a_segmented_design():
+    design = Design(topology="segmented", bits=6, thermometer_bits=2,
+                    mismatch={"tempco_parts": {"seg0": 25e-6}})
+    assert design.mismatch["tempco_parts"] == {"seg0": 25e-6}
+
+
+def test_open_lower_rail_round_trips_through_a_file():
+    design = Design(topology="r2r-voltage", output="buffer", board={"rail_low": "open"})
+    back = dfile.loads(dfile.dumps(dfile.DesignFile([design], settings={},
+                                                    analysis=AnalysisSettings())))
+    assert back.candidates[0].board["rail_low"] == -math.inf
+
+
+def test_rails_clipping_every_code_leave_the_added_inl_undefined():
+    design = Design(topology="r2r-voltage", output="buffer", bits=4, vref=3.3,
+                    board={"rail_low": 5.0, "rail_high": 6.0})
+    s = evaluate(design).summary
+    assert s["amp_codes_clipped"] == 16
+    assert math.isnan(s["amp_inl_added"])
