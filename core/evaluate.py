@@ -8,6 +8,7 @@ from typing import Any
 import numpy as np
 
 from .design import Design
+from .limits import check_evaluation
 from .metrics import linearity
 from .metrics.power import WHOLE_CODES
 from .metrics.structure import structure
@@ -161,7 +162,10 @@ def evaluate(design: Design) -> Evaluation:
     ------
     NetworkError
         The network cannot be solved (names the floating node).
+    DesignError
+        ``bits``: solving every code would need more than a safe share of memory (``limits.py``).
     """
+    check_evaluation(design.bits)
     net = build(design)
     plain = not (net.chains or net.groups or net.selector is not None)
     # node voltages kept for the power figures of plain networks (saves a second solve)

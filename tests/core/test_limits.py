@@ -1,0 +1,56 @@
+"""Work too big for this machine is refused before it starts, with the field named."""
+
+from __future__ import annotations
+
+import importlib
+
+import pytest
+
+from rungwise.app.cli import run_cli
+from rungwise.core import Design, DesignError, evaluate, limits
+from rungwise.core.montecarlo import (
+    ENVELOPE_ELEMENTS,
+    GENERAL_BATCH_ELEMENTS,
+    MAX_GENERAL_CODES,
+    plan_run,
+)
+from rungwise.core.solve import CHUNK_ELEMENTS
+from rungwise.core.targets import MAX_TRIALS
+
+evaluate_module = importlib.import_module("rungwise.core.evaluate")
+
+
+def test_budget_check_names_bits_and_the_largest_resolution_that_fits():
+    limits.check_evaluation(10, budget=limits.BYTES_PER_CODE * 1024)
+    with pytest.raises(DesignError) as info:
+        limits.check_evaluation(11, budget=limits.BYTES_PER_CODE * 1024)
+    assert info.value.field == "bits"
+    assert "choose 10 bits or fewer" in str(info.value)
+
+
+def test_24_bits_on_a_small_machine_is_refused_before_solving(monkeypatch):
+    monkeypatch.setattr(limits, "machine_memory", lambda: 4 * 2**30)  # 1 GB allowed
+    calls = []
+    monkeypatch.setattr(evaluate_module, "build", lambda d: calls.append(d))
+    with pytest.raises(DesignError, match=r"^bits: 24 bits need about 12\.5 GB .* 1\.0 GB allowed"):
+        evaluate(Design(bits=24))
+    assert calls == []  # refused before the network was even built
+
+
+def test_the_command_line_refuses_it_with_exit_code_2(monkeypatch, capsys):
+    monkeypatch.setattr(limits, "machine_memory", lambda: 2**30)
+    assert run_cli(["compute", "--set", "bits=24"]) == 2
+    err = capsys.readouterr().err
+    assert "bits" in err
+    assert "Traceback" not in err
+
+
+def test_statistics_memory_is_bounded_at_24_bits_and_the_most_trials():
+    # the exact engine batches its trials; the general one is refused above 2^20 codes
+    plan = plan_run(Design(bits=24), MAX_TRIALS)
+    assert plan.batch_trials * (24 + 1) <= CHUNK_ELEMENTS
+    assert plan.envelope_codes.size * plan.envelope_trials <= ENVELOPE_ELEMENTS
+    with pytest.raises(DesignError, match=r"^bits: .*limited to 20 bits"):
+        plan_run(Design(bits=21, ron_high=10.0), 10, engine="general")
+    general = plan_run(Design(bits=20, ron_high=10.0), MAX_TRIALS, engine="general")
+    assert general.batch_trials * MAX_GENERAL_CODES <= GENERAL_BATCH_ELEMENTS
