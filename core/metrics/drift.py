@@ -86,6 +86,7 @@ def drift(design: Any, net: Network, temperatures_c: np.ndarray | list[float],
     Returns
     -------
     DriftResult
+        All NaN when a temperature takes a part to zero ohms or below (1 + α·ΔT ≤ 0).
     """
     temps = np.asarray(temperatures_c, dtype=float)
     feedback = None
@@ -93,6 +94,11 @@ def drift(design: Any, net: Network, temperatures_c: np.ndarray | list[float],
         v = np.broadcast_to(nominal_vout, (len(temps), nominal_vout.shape[-1]))
     else:
         ohms = part_ohms_at(design, net, temps)
+        if any(np.any(np.asarray(x) <= 0) for x in ohms.values()):
+            # the linear coefficient takes a part to zero or below: no physical value, figures NaN
+            nan = np.full(temps.shape, np.nan)
+            return DriftResult(temperatures_c=temps, vout=np.full((temps.size, net.n_codes), np.nan),
+                               offset_error=nan, gain_error=nan.copy(), max_abs_inl=nan.copy())
         feedback = ohms.pop("feedback", None)
         v = solve(net, ohms=ohms).vout
     if feedback is not None and net.output.kind == "virtual-ground":

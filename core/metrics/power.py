@@ -136,9 +136,11 @@ def worst_case(net: Network, solved: Solution | None = None
             return [], {k: math.nan for k in ("power_total_max", "power_total_max_code",
                                               "ref_power_max", "ref_power_max_code",
                                               "balance_error_max")}
-        # an ideal tap switch (0 Ω) becomes 1e-6 of the smallest resistor (its power stays 0)
-        smallest = min([r.ohms for r in net.resistors] + [float(np.min(c.ohms)) for c in net.chains]
-                       + [float(np.min(g.ohms)) for g in net.groups if g.size])
+        # an ideal tap switch (0 Ω) becomes 1e-6 of the smallest array resistor it connects to (its
+        # power stays 0); not of a tiny reference resistance, which would leave the solve singular
+        arrays = ([float(np.min(c.ohms)) for c in net.chains]
+                  + [float(np.min(g.ohms)) for g in net.groups if g.size])
+        smallest = min(arrays or [r.ohms for r in net.resistors])
         net = plain_equivalent(net, min_ron=1e-6 * smallest)
     vref = net.fixed[net.source]
     best: dict[str, list] = {}

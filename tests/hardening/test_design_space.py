@@ -39,9 +39,20 @@ def _allowed_non_finite(ev, key: str) -> bool:
         return bool(net.chains or net.groups or net.selector is not None) and math.isnan(s[key])
     if key == "amp_inl_added":  # metrics/amplifier.py: NaN when the rails clip every code alike
         return s["amp_codes_clipped"] > 0 and math.isnan(s[key])
+    if key.startswith("drift_"):  # metrics/drift.py: NaN where 1 + α·ΔT takes a part to ≤ 0 Ω
+        return math.isnan(s[key]) and _coefficient_breaks_down(ev.design)
     if key in {"rout_max", "rout_min"}:  # an output fed by a current with no resistive path
         return math.isinf(s[key]) and s[key] > 0
     return False
+
+
+def _coefficient_breaks_down(design) -> bool:
+    from rungwise.core.parts.board import board_value
+
+    alphas = [design.mismatch.get("tempco", 0.0), *design.mismatch.get("tempco_parts", {}).values()]
+    ref = design.mismatch.get("reference_c", 25.0)
+    ends = [board_value(design, "temp_low_c"), board_value(design, "temp_high_c")]
+    return any(1 + a * (t - ref) <= 0 for a in alphas for t in ends)
 
 
 @budget(60)
@@ -210,9 +221,26 @@ def test_open_lower_rail_round_trips_through_a_file():
     assert back.candidates[0].board["rail_low"] == -math.inf
 
 
+def test_a_coefficient_taking_parts_below_zero_ohms_gives_no_drift_figures():
+    # 1 + 0.008/K · (0 − 193) K < 0 at the cold end
+    design = Design(bits=4, mismatch={"tempco": 0.008, "reference_c": 193.0})
+    s = evaluate(design).summary
+    assert math.isnan(s["drift_inl_low"])
+    assert math.isnan(s["drift_gain_error_high"])
+    assert math.isfinite(s["max_abs_inl_endpoint"])
+
+
 def test_rails_clipping_every_code_leave_the_added_inl_undefined():
     design = Design(topology="r2r-voltage", output="buffer", bits=4, vref=3.3,
                     board={"rail_low": 5.0, "rail_high": 6.0})
     s = evaluate(design).summary
     assert s["amp_codes_clipped"] == 16
     assert math.isnan(s["amp_inl_added"])
+
+
+def test_string_power_with_a_tiny_reference_resistance_is_solved():
+    design = Design(topology="string", bits=1, vref=-1.0, unit_r=33554433.0, ron_low=1.001,
+                    ref_r=0.001, load_r=228881121.001)
+    s = evaluate(design).summary
+    assert math.isfinite(s["power_total_max"])
+    assert s["power_total_max"] > 0
