@@ -1,0 +1,65 @@
+"""Background jobs: a cancelled statistics run stops promptly and delivers nothing more; a job that
+raises shows a message and leaves the window usable."""
+
+from __future__ import annotations
+
+import time
+
+from PySide6.QtCore import QCoreApplication
+
+from rungwise.app import live_results
+from rungwise.app.stats_job import StatsRequest, statistics_job
+from rungwise.app.workers import JobRunner
+from rungwise.core import Design
+
+CANCEL_WAIT_S = 2.0
+"""Upper bound here; the 200 ms goal is measured by tests/benchmarks/bench_cancel.py."""
+
+
+def _cancel_after_first_progress(qtbot, design: Design, trials: int) -> tuple[float, list]:
+    runner = JobRunner()
+    delivered: list = []
+    with qtbot.waitSignal(runner.progress, timeout=60000):
+        runner.submit("statistics", statistics_job(StatsRequest((design,), trials=trials, seed=3)))
+    task = runner._tasks[-1]
+    for signal in (runner.progress, runner.finished, runner.failed):
+        signal.connect(lambda *args: delivered.append(args))
+    start = time.perf_counter()
+    runner.cancel("statistics")
+    stopped = task.done.wait(CANCEL_WAIT_S)
+    elapsed = time.perf_counter() - start
+    assert stopped, f"the job was still running {CANCEL_WAIT_S} s after cancel"
+    assert runner.shutdown(5000)
+    QCoreApplication.processEvents()  # anything the task queued before stopping is handled now
+    return elapsed, delivered
+
+
+def test_cancelled_statistics_run_stops_and_delivers_nothing_more(qtbot):
+    # exact engine (ideal switches) and general engine (switch resistance): both check cancel
+    for design in (Design(topology="r2r-voltage", bits=12),
+                   Design(topology="r2r-voltage", bits=10, ron_high=40.0, ron_low=25.0)):
+        elapsed, delivered = _cancel_after_first_progress(qtbot, design, trials=200_000)
+        assert delivered == []
+        assert elapsed < CANCEL_WAIT_S
+
+
+def test_a_job_that_raises_is_shown_and_the_window_stays_usable(window, qtbot, monkeypatch):
+    def broken(design):
+        raise RuntimeError("simulated fault in the engine")
+
+    monkeypatch.setattr(live_results, "evaluate", broken)
+    shown: list[str] = []
+    window.problem_shown.connect(shown.append)
+    state = window.model.state
+    with qtbot.waitSignal(window.problem_shown, timeout=10000):
+        state.set_design(state.selected, state.current.design.replace(bits=7), "bits")
+    assert "simulated fault in the engine" in shown[0]
+    assert "simulated fault" in window.status_text.text()
+    assert not window.live.is_busy()
+    monkeypatch.undo()
+    with qtbot.waitSignal(window.live.results_changed, timeout=20000):
+        state.set_design(state.selected, state.current.design.replace(bits=6), "bits")
+    qtbot.waitUntil(lambda: not window.live.is_busy(), timeout=20000)
+    results = window.live.latest.results
+    assert [r.design.bits for r in results if r.design == state.current.design] == [6]
+    assert all(r.evaluation is not None for r in results)
