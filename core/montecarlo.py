@@ -39,8 +39,13 @@ Engine = Literal["auto", "exact", "general"]
 MAX_GENERAL_CODES = 1 << 20
 """Most codes the general engine takes per trial (20 bits); beyond, memory per trial is too big."""
 
-GENERAL_BATCH_ELEMENTS = 1 << 20
-"""(trial, code) pairs solved per general-engine batch: bounds working memory (~100 MB)."""
+GENERAL_BATCH_ELEMENTS = 1 << 18
+"""(trial, code) pairs solved per general-engine batch: bounds working memory (~25 MB) and keeps a
+batch near 100 ms, so a cancel (checked between batches) returns within about 200 ms."""
+
+EXACT_BATCH_TRIALS = 2048
+"""Most trials per exact-engine batch: a batch takes well under 100 ms even at 24 bits, so a
+cancel (checked between batches) returns within 200 ms; throughput per trial is unchanged."""
 
 ENVELOPE_ELEMENTS = 1 << 22
 """(trial, code) INL values kept for the per-code envelope (float32, 16 MB)."""
@@ -121,7 +126,7 @@ def plan_run(design: Design, trials: int, engine: Engine = "auto", net: Network 
                               "resistance breaks superposition), which is limited to 20 bits")
         batch = max(1, GENERAL_BATCH_ELEMENTS // n_codes)
     else:
-        batch = max(1, CHUNK_ELEMENTS // (design.bits + 1))
+        batch = max(1, min(EXACT_BATCH_TRIALS, CHUNK_ELEMENTS // (design.bits + 1)))
     if n_codes <= ENVELOPE_MAX_CODES:
         env_codes = np.arange(n_codes, dtype=np.int64)
     else:

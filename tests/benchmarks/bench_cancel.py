@@ -32,6 +32,7 @@ TARGET_MS = 200.0
 DESIGNS = {
     "r2r 12 bits, exact engine": Design(topology="r2r-voltage", bits=12),
     "r2r 12 bits, general engine": Design(topology="r2r-voltage", bits=12, ron_high=40.0, ron_low=25.0),
+    "r2r 24 bits, exact engine": Design(topology="r2r-voltage", bits=24),
     "segmented 16 bits": Design(topology="segmented", bits=16, thermometer_bits=4),
 }
 

@@ -52,5 +52,8 @@ def test_statistics_memory_is_bounded_at_24_bits_and_the_most_trials():
     assert plan.envelope_codes.size * plan.envelope_trials <= ENVELOPE_ELEMENTS
     with pytest.raises(DesignError, match=r"^bits: .*limited to 20 bits"):
         plan_run(Design(bits=21, ron_high=10.0), 10, engine="general")
-    general = plan_run(Design(bits=20, ron_high=10.0), MAX_TRIALS, engine="general")
-    assert general.batch_trials * MAX_GENERAL_CODES <= GENERAL_BATCH_ELEMENTS
+    general = plan_run(Design(bits=16, ron_high=10.0), MAX_TRIALS, engine="general")
+    assert general.batch_trials * 2**16 <= GENERAL_BATCH_ELEMENTS
+    widest = plan_run(Design(bits=20, ron_high=10.0), MAX_TRIALS, engine="general")
+    assert widest.batch_trials == 1  # one trial of MAX_GENERAL_CODES codes per batch
+    assert widest.n_codes == MAX_GENERAL_CODES
