@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import math
+import os
 import random
 
 from PySide6.QtWidgets import QComboBox, QLineEdit, QSpinBox
@@ -22,6 +23,9 @@ GOOD = {
     "gain": ["1", "2", "-1", "0.5"],
     "feedback_r": ["", "10k", "4k7", "default"],
 }
+ACTIONS = int(os.environ.get("RUNGWISE_SOAK_ACTIONS", "320"))
+"""Random actions per run; set RUNGWISE_SOAK_ACTIONS=2000 (or more) for the long run on demand."""
+
 BAD = ["", "abc", "-5k", "1e30", "nan", "0", "--1", "4k7k", "1 %%", "-inf"]
 
 
@@ -38,7 +42,7 @@ def test_random_entries_keep_a_consistent_design(window, qtbot):
     inputs = pane.binder.inputs
     text_keys = [k for k, w in inputs.items() if isinstance(w, QLineEdit)]
     applied = refused = 0
-    for _ in range(320):
+    for _ in range(ACTIONS):
         state = model.state
         before = state.current.design
         roll = rng.random()
