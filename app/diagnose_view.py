@@ -45,6 +45,7 @@ from rungwise.core.diagnose import (
 from rungwise.core.errors import RungwiseError
 from rungwise.core.units import format_value
 
+from .plot_theme import follow_palette
 from .workers import JobRunner
 
 CHANNEL = "diagnose"
@@ -243,8 +244,7 @@ class DiagnosePane(QWidget):
     def _plot(self, name: str, label: str, unit: str) -> pg.PlotWidget:
         w = pg.PlotWidget()
         w.setObjectName(name)
-        w.setBackground("w")
-        w.showGrid(x=True, y=True, alpha=0.3)
+        follow_palette(w)
         w.setLabel("left", f"{label} ({unit})")
         w.getAxis("left").enableAutoSIPrefix(False)
         w.setLabel("bottom", "Code")

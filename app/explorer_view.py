@@ -39,6 +39,7 @@ from rungwise.core.sweep import (
 from rungwise.core.topologies.segmented import SIZING_RULE
 from rungwise.core.types import MAX_ARRAY_BITS
 
+from .plot_theme import follow_palette
 from .workers import Progress, runner_for
 
 CHANNEL = "explorer"
@@ -139,7 +140,7 @@ class ExplorerPane(QWidget):
             self.combo_metric.addItem(f"{label.strip()} ({unit})" if unit else label.strip(), key)
         self.combo_metric.setCurrentIndex(self.combo_metric.findData(DEFAULT_METRIC))
         self.combo_metric.currentIndexChanged.connect(self.replot)
-        self.plot = pg.PlotWidget(objectName="plot_sweep")
+        self.plot = follow_palette(pg.PlotWidget(objectName="plot_sweep"))
         self.plot.addLegend()
         self.plot.showGrid(x=True, y=True, alpha=0.3)
         self.plot.getAxis("left").enableAutoSIPrefix(False)

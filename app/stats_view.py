@@ -32,6 +32,7 @@ from rungwise.core import Design
 from rungwise.core.grades import STANDARD_GRADES
 from rungwise.core.targets import MAX_SEED
 
+from .plot_theme import follow_palette
 from .stats_job import StatsOutcome, StatsRequest, statistics_job
 from .workers import Progress, runner_for
 
@@ -126,17 +127,17 @@ class StatisticsPane(QWidget):
         self.table.setMaximumHeight(160)
         self.combo_candidate = QComboBox(objectName="combo_stats_candidate")
         self.combo_candidate.currentIndexChanged.connect(self._show_candidate)
-        self.plot_hist = pg.PlotWidget(title="Boards by worst error")
+        self.plot_hist = follow_palette(pg.PlotWidget(title="Boards by worst error"))
         self.plot_hist.setObjectName("plot_stats_hist")
         self.plot_hist.setLabel("bottom", "max |error| (LSB)")
         self.plot_hist.setLabel("left", "boards")
         self.plot_hist.addLegend()
-        self.plot_envelope = pg.PlotWidget(title="INL spread against code")
+        self.plot_envelope = follow_palette(pg.PlotWidget(title="INL spread against code"))
         self.plot_envelope.setObjectName("plot_stats_envelope")
         self.plot_envelope.setLabel("bottom", "code")
         self.plot_envelope.setLabel("left", "INL (LSB)")
         self.plot_envelope.getAxis("left").enableAutoSIPrefix(False)
-        self.plot_yield = pg.PlotWidget(title="Yield against part grade")
+        self.plot_yield = follow_palette(pg.PlotWidget(title="Yield against part grade"))
         self.plot_yield.setObjectName("plot_stats_yield")
         self.plot_yield.setLogMode(x=True, y=False)
         self.plot_yield.setLabel("bottom", "part tolerance ± (%)")
