@@ -6,8 +6,6 @@ import numpy as np
 from PySide6.QtCore import QPoint
 from PySide6.QtGui import QImage
 
-from rungwise.app.main_window import MainWindow
-
 
 def _pixels(image: QImage) -> np.ndarray:
     image = image.convertToFormat(QImage.Format.Format_RGB32)
@@ -17,14 +15,8 @@ def _pixels(image: QImage) -> np.ndarray:
     return bgra[..., 2::-1].copy()  # RGB32 is B, G, R, A in memory on little-endian machines
 
 
-def test_window_on_demo_renders_text_and_curves(qtbot, tmp_path):
-    win = MainWindow(remember=False)
-    win.ask_before_closing = False
-    qtbot.addWidget(win)
-    win.resize(1366, 768)
-    win.show()
-    qtbot.waitUntil(lambda: win.live.latest is not None and not win.live.is_busy()
-                    and not win.plots.is_drawing(), timeout=10000)
+def test_window_on_demo_renders_text_and_curves(window, tmp_path):
+    win = window  # the shared fixture: the real window on the demo, first results drawn
     path = tmp_path / "window.png"
     assert win.grab().save(str(path))
     img = QImage(str(path))
