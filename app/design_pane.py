@@ -21,9 +21,10 @@ from PySide6.QtWidgets import (
 
 from rungwise.core.design import FIELDS, Design
 from rungwise.core.errors import DesignError
+from rungwise.core.field_use import unused_fields
 from rungwise.core.types import OUTPUTS_BY_TOPOLOGY, TOPOLOGIES
 
-from .binding import FieldBinder, unit_in_text
+from .binding import FieldBinder, bound_inputs, unit_in_text
 
 COMMIT_DELAY_MS = 450
 """A moving spin box counts as a finished edit after this pause, ms."""
@@ -138,6 +139,17 @@ class DesignPane(QWidget):
         self.binder.set_choices("output", [(o, o) for o in OUTPUTS_BY_TOPOLOGY[design.topology]])
         self.binder.show(design, keep_refused=same_candidate)
         self.heading.setText(f"<b>{design.label}</b>")
+        self._grey_unused(design)
+
+    def _grey_unused(self, design: Design) -> None:
+        """Disable the fields ``design`` does not use, saying why in their tooltips."""
+        unused = unused_fields(design)
+        inputs = bound_inputs(self)
+        for key in FIELDS:
+            w = inputs[key]
+            reason = unused.get(key)
+            w.setEnabled(reason is None)
+            w.setToolTip(f"Not used here: {reason}." if reason else HINTS.get(key, ""))
 
     # --- widgets → model -------------------------------------------------------------------------
     def _try(self, key: str, text: str) -> Design | None:

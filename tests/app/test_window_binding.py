@@ -42,6 +42,22 @@ def test_model_to_widgets(window, qtbot):
     assert pane.findChild(QLineEdit, "edit_unit_r").text() == "10 kΩ"
 
 
+def test_fields_the_design_does_not_use_are_greyed_with_the_reason(window):
+    state = window.model.state
+    inputs = bound_inputs(window.pane)
+    state.set_design(state.selected, state.current.design.replace(topology="string"), "test")
+    assert not inputs["thermometer_bits"].isEnabled()
+    assert not inputs["ron_low"].isEnabled()
+    assert "tap switch" in inputs["ron_low"].toolTip()
+    assert inputs["ron_high"].isEnabled()
+    state.set_design(state.selected, state.current.design.replace(topology="segmented",
+                                                                    output="buffer"), "test")
+    assert inputs["thermometer_bits"].isEnabled()
+    assert inputs["gain"].isEnabled()
+    assert inputs["ron_low"].isEnabled()
+    assert not inputs["feedback_r"].isEnabled()
+
+
 def test_widgets_to_model(window, qtbot):
     pane, state = window.pane, window.model.state
     with qtbot.waitSignal(window.model.candidates_changed):

@@ -1,0 +1,27 @@
+"""Which numeric design fields a network does not use, and why.
+
+The values pane greys such fields out (their values are kept, so switching back restores them);
+the rules are checked against the engine by a test that changes each unused field and finds every
+figure unchanged.
+"""
+
+from __future__ import annotations
+
+from .design import Design
+
+AMPLIFIER_OUTPUTS = ("summing-amp", "transimpedance")
+"""Outputs whose amplifier has a feedback resistor."""
+
+
+def unused_fields(design: Design) -> dict[str, str]:
+    """Field key → why ``design`` ignores it (empty when every field counts)."""
+    out: dict[str, str] = {}
+    if design.topology != "segmented":
+        out["thermometer_bits"] = "only segmented networks have thermometer-decoded bits"
+    if design.output != "buffer":
+        out["gain"] = "only a buffered output has a buffer gain"
+    if design.output not in AMPLIFIER_OUTPUTS:
+        out["feedback_r"] = "only an amplifier output (summing or transimpedance) has a feedback resistor"
+    if design.topology == "string":
+        out["ron_low"] = "a string's tap switch is either on (bit = 1 resistance) or open"
+    return out
