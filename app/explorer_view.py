@@ -39,7 +39,7 @@ from rungwise.core.sweep import (
 from rungwise.core.topologies.segmented import SIZING_RULE
 from rungwise.core.types import MAX_ARRAY_BITS
 
-from .plot_theme import follow_palette
+from .plot_theme import candidate_colour, follow_palette
 from .workers import Progress, runner_for
 
 CHANNEL = "explorer"
@@ -48,10 +48,28 @@ CHANNEL = "explorer"
 OVER = {"bits": "Resolution N (bits)", "thermometer_bits": "Segmented bits M (segmented designs)"}
 """Swept variables and their axis labels."""
 
-PENS = ("#1f5fa8", "#c8651b", "#2f8a3a", "#8a2f7c", "#6b6b6b")
-"""Line colours per candidate (our own palette)."""
 
 DEFAULT_METRIC = "max_abs_dnl"
+YIELD_METRIC = "yield_monotonic"
+"""Shown after a run with yields while the default figure is showing."""
+
+
+def metric_labels() -> dict[str, str]:
+    """Figure key → its name in the figure list and on the axis.
+
+    A sub-row of the figures table (indented, such as "at code") is named with its parent row, so
+    it reads "Output resistance, max: at code" on its own.
+    """
+    out: dict[str, str] = {}
+    parent = ""
+    for key, (label, unit) in SWEEP_KEYS.items():
+        name = label.strip()
+        if label.startswith(" ") and parent:
+            name = f"{parent}: {name}"
+        else:
+            parent = name
+        out[key] = f"{name} ({unit})" if unit else name
+    return out
 
 
 def sweep_job(designs: list[Design], over: str, values: list[int],
@@ -95,6 +113,8 @@ class ExplorerPane(QWidget):
         super().__init__(parent)
         self.setObjectName("explorer_pane")
         self._designs: list[Design] = []
+        self._colours: list[str] = []
+        self._show_yield_when_done = False
         self.result: SweepResult | None = None
         self.runner = runner_for(self)
         self._build()
@@ -136,8 +156,8 @@ class ExplorerPane(QWidget):
         for w in (self.button_run, self.button_cancel, self.progress):
             buttons.addWidget(w)
         self.combo_metric = QComboBox(objectName="combo_metric")
-        for key, (label, unit) in SWEEP_KEYS.items():
-            self.combo_metric.addItem(f"{label.strip()} ({unit})" if unit else label.strip(), key)
+        for key, text in metric_labels().items():
+            self.combo_metric.addItem(text, key)
         self.combo_metric.setCurrentIndex(self.combo_metric.findData(DEFAULT_METRIC))
         self.combo_metric.currentIndexChanged.connect(self.replot)
         self.plot = follow_palette(pg.PlotWidget(objectName="plot_sweep"))
@@ -193,6 +213,12 @@ class ExplorerPane(QWidget):
                 self.label_status.setText("Candidates changed: Run to update (computed points are "
                                           "reused)")
 
+    def set_colours(self, colours: list[str]) -> None:
+        """Draw candidate i in ``colours[i]`` (the comparison's colours), then redraw."""
+        if list(colours) != self._colours:
+            self._colours = list(colours)
+            self.replot()
+
     def shutdown(self) -> None:
         """Cancel the running sweep and wait for the worker thread."""
         self.runner.shutdown()
@@ -219,6 +245,8 @@ class ExplorerPane(QWidget):
         self.progress.setMaximum(len(values) * len(self._designs))
         self.progress.setValue(0)
         self.label_status.setText("Sweeping…")
+        self._show_yield_when_done = (self.check_stats.isChecked()
+                                      and self.combo_metric.currentData() == DEFAULT_METRIC)
         self.runner.submit(CHANNEL, sweep_job(self._designs, over, values, self.statistics()))
 
     def cancel(self) -> None:
@@ -256,6 +284,9 @@ class ExplorerPane(QWidget):
         skipped = sum(1 for p in result.points if p.design is None)
         self.label_status.setText(f"{result.done} points" + (f" ({skipped} not applicable)"
                                                             if skipped else ""))
+        if self._show_yield_when_done and YIELD_METRIC in result.metrics():
+            self.combo_metric.setCurrentIndex(self.combo_metric.findData(YIELD_METRIC))
+        self._show_yield_when_done = False
         self.replot()
         self.result_changed.emit(result)
 
@@ -273,14 +304,13 @@ class ExplorerPane(QWidget):
         result, key = self.result, self.combo_metric.currentData()
         if result is None or key is None:
             return
-        label, unit = SWEEP_KEYS[key]
-        self.plot.setLabel("left", f"{label.strip()}" + (f" ({unit})" if unit else ""))
+        self.plot.setLabel("left", metric_labels()[key])
         self.plot.setLabel("bottom", OVER[result.over])
         for ci, design in enumerate(result.candidates):
             x, y = result.series(ci, key)
             if x.size == 0 or np.all(np.isnan(y)):
                 continue
-            pen = PENS[ci % len(PENS)]
+            pen = candidate_colour(self._colours, ci)
             self.plot.plot(x, y, pen=pg.mkPen(pen, width=2), symbol="o", symbolSize=6,
                            symbolBrush=pen, name=design.label, connect="finite")
 

@@ -251,7 +251,11 @@ class MainWindow(QMainWindow):
 
     def _push_to_views(self) -> None:
         designs = self.model.state.designs
+        colours = [c.colour for c in self.model.state.candidates]
         for view in self.views.values():
+            paint = getattr(view, "set_colours", None)
+            if paint is not None:
+                paint(colours)
             setter = getattr(view, "set_candidates", None)
             if setter is not None:
                 setter(designs)

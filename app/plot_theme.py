@@ -7,6 +7,16 @@ from PySide6.QtCore import QEvent, QObject
 
 from .theme import plot_colours
 
+PENS = ("#1f5fa8", "#c8651b", "#2f8a3a", "#8a2f7c", "#6b6b6b")
+"""Our own line colours for analysis plots (used where no candidate colour is known)."""
+
+
+def candidate_colour(colours: list[str], index: int) -> str:
+    """Candidate ``index``'s colour in the comparison (``colours``), else one of :data:`PENS`."""
+    if 0 <= index < len(colours):
+        return colours[index]
+    return PENS[index % len(PENS)]
+
 
 def apply_plot_palette(widget: pg.PlotWidget) -> None:
     """Background, axes, title and grid of ``widget`` from its current palette."""

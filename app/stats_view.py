@@ -32,7 +32,7 @@ from rungwise.core import Design
 from rungwise.core.grades import STANDARD_GRADES
 from rungwise.core.targets import MAX_SEED
 
-from .plot_theme import follow_palette
+from .plot_theme import PENS, candidate_colour, follow_palette
 from .stats_job import StatsOutcome, StatsRequest, statistics_job
 from .workers import Progress, runner_for
 
@@ -47,8 +47,6 @@ COLUMNS = ("Candidate", "Engine", "Monotonic", "|DNL| ok", "|INL| ok", "All targ
            "Loosest passing grade")
 """Columns of the results table."""
 
-PENS = ("#1f5fa8", "#c8651b", "#2f8a3a", "#8a2f7c", "#6b6b6b")
-"""Line colours per candidate (our own palette)."""
 
 
 def grade_text(grade: float | None) -> str:
@@ -76,6 +74,7 @@ class StatisticsPane(QWidget):
         super().__init__(parent)
         self.setObjectName("stats_pane")
         self._designs: list[Design] = []
+        self._colours: list[str] = []
         self._outcome: StatsOutcome | None = None
         self._stale = False
         self.runner = runner_for(self)
@@ -161,6 +160,13 @@ class StatisticsPane(QWidget):
         top.addLayout(plots, 1)
 
     # --- the view contract ---------------------------------------------------------------------
+    def set_colours(self, colours: list[str]) -> None:
+        """Draw candidate i's yield curve in ``colours[i]`` (the comparison's colours)."""
+        if list(colours) != self._colours:
+            self._colours = list(colours)
+            if self._outcome is not None:
+                self._plot_yield(self._outcome)
+
     def set_candidates(self, designs: list[Design]) -> None:
         """New candidates after a finished edit; reruns when "Rerun" is ticked — at once if the
         view is on screen, else as soon as it is shown (no work for a hidden tab)."""
@@ -280,7 +286,8 @@ class StatisticsPane(QWidget):
             if curve is None or not curve.yields:
                 continue
             steps = curve.steps[:len(curve.yields)]
-            self.plot_yield.plot(steps * 100, curve.values * 100, pen=pg.mkPen(PENS[i % len(PENS)], width=2),
+            pen = pg.mkPen(candidate_colour(self._colours, i), width=2)
+            self.plot_yield.plot(steps * 100, curve.values * 100, pen=pen,
                                  symbol="o", name=outcome.request.designs[i].label)
         target = outcome.request.target_yield * 100
         dashed = pg.mkPen("#888", style=Qt.PenStyle.DashLine)

@@ -107,3 +107,34 @@ def test_review_question_segmented_bits_for_99_percent_monotonic():
     assert direct.yield_monotonic.value >= 0.99
     assert parts[m] == 2**m - 1 + max(2 * (12 - m), 1)
     assert mono[0] < 0.99  # the plain ladder does not make it
+
+
+def test_sub_rows_are_named_with_their_parent_figure(pane):
+    texts = [pane.combo_metric.itemText(i) for i in range(pane.combo_metric.count())]
+    assert "at code" not in texts
+    assert pane.combo_metric.itemText(pane.combo_metric.findData("rout_max_code")) == \
+        "Output resistance, max: at code"
+
+
+def test_lines_use_the_comparison_colours(qtbot, pane):
+    pane.set_colours(["#123456", "#abcdef"])
+    pane.set_candidates([LADDER, SEG])
+    pane.spin_from.setValue(3)
+    pane.spin_to.setValue(4)
+    _run(qtbot, pane)
+    pens = [item.opts["pen"].color().name() for item in pane.plot.getPlotItem().listDataItems()]
+    assert pens == ["#123456", "#abcdef"]
+
+
+def test_a_run_with_yields_shows_the_monotonic_yield(qtbot, pane):
+    pane.set_candidates([LADDER])
+    pane.check_stats.setChecked(True)
+    pane.spin_trials.setValue(20)
+    pane.spin_from.setValue(3)
+    pane.spin_to.setValue(4)
+    assert pane.combo_metric.currentData() == "max_abs_dnl"
+    _run(qtbot, pane)
+    assert pane.combo_metric.currentData() == "yield_monotonic"
+    pane.combo_metric.setCurrentIndex(pane.combo_metric.findData("n_resistors"))
+    _run(qtbot, pane)  # a figure the user chose stays chosen
+    assert pane.combo_metric.currentData() == "n_resistors"

@@ -39,6 +39,10 @@ def test_add_and_remove_update_curves_and_table(window, qtbot):
     assert window.table.columnCount() == 2
     assert [window.table.horizontalHeaderItem(i).text()[2:] for i in range(2)] == [
         c.name for c in state.candidates]
+    # the analysis views draw each candidate in its comparison colour too
+    colours = [c.colour for c in state.candidates]
+    assert window.views["explorer_pane"]._colours == colours
+    assert window.views["stats_pane"]._colours == colours
 
 
 def test_at_most_four_candidates(window, qtbot):
