@@ -39,7 +39,8 @@ def run(args: argparse.Namespace) -> int:
     from .report_content import gather
     from .report_pdf import write_report  # imports Qt: only this command needs it
 
-    data = gather(doc, title=title, with_stats=not args.no_stats)
+    data = gather(doc, title=title, with_stats=not args.no_stats,
+                  progress=lambda line: print(f"rungwise: {line}", file=sys.stderr, flush=True))
     try:
         write_report(out, data)
     except OSError as exc:

@@ -11,7 +11,7 @@ from __future__ import annotations
 import datetime as _dt
 import html
 import math
-from collections.abc import Mapping, Sequence
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -58,11 +58,12 @@ class ReviewData:
 
 
 def gather(doc: DesignFile, title: str = "Design review", with_stats: bool = True,
-           cancel: Any = None) -> ReviewData:
+           cancel: Any = None, progress: Callable[[str], None] | None = None) -> ReviewData:
     """Evaluate the candidates, run statistics (file's trials and seed), derive the recommendation.
 
     ``cancel`` (a ``threading.Event``) is checked between Monte Carlo batches; once it is set the
-    remaining statistics are skipped (a caller that cancels discards the result).
+    remaining statistics are skipped (a caller that cancels discards the result). ``progress``,
+    when given, receives a line of text about ten times per candidate's statistics (boards done).
     """
     evs = [evaluate(d) for d in doc.candidates]
     stats: list[Any] = [None] * len(evs)
@@ -75,8 +76,13 @@ def gather(doc: DesignFile, title: str = "Design review", with_stats: bool = Tru
             if cancel is not None and cancel.is_set():
                 break
             try:
-                *_, stats[i] = iter_monte_carlo(d, doc.analysis.trials, doc.analysis.seed,
-                                                cancel=cancel, targets=doc.targets, reports=1)
+                for partial in iter_monte_carlo(d, doc.analysis.trials, doc.analysis.seed,
+                                                cancel=cancel, targets=doc.targets,
+                                                reports=10 if progress else 1):
+                    stats[i] = partial
+                    if progress is not None:
+                        progress(f"statistics of {d.label} ({i + 1} of {len(evs)}): "
+                                 f"{partial.done:,} of {doc.analysis.trials:,} boards")
             except DesignError as exc:
                 notes.append(f"{d.label}: statistics not run ({exc})")
     yields = [float(s.yield_all) if s is not None else None for s in stats]

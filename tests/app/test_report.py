@@ -64,7 +64,11 @@ def test_report_text_matches_the_engine(tmp_path: Path, qapp, capsys):
     for heading in ("Design and assumptions", "Comparison", "Plots", "Statistics and yield",
                     "Parts and ratings", "Cautions", "Method and sources"):
         assert heading in text
-    assert rec.text.split(" — ")[0] in capsys.readouterr().err
+    err = capsys.readouterr().err
+    assert rec.text.split(" — ")[0] in err
+    # progress of the statistics on stderr, ending at every board of each candidate
+    for i, d in enumerate(doc.candidates):
+        assert f"statistics of {d.label} ({i + 1} of 2): 300 of 300 boards" in err
 
 
 def _images(pdf: Path) -> list[list[str]]:
