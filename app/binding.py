@@ -4,7 +4,8 @@ Naming convention (the part after the prefix is the design key):
 
 - ``spin_<key>`` — a ``QSpinBox`` for a whole-number field (``spin_bits``);
 - ``edit_<key>`` — a ``QLineEdit`` taking engineering notation (``edit_unit_r`` accepts ``4k7``);
-- ``combo_<key>`` — a ``QComboBox`` whose item data are the allowed words (``combo_topology``);
+- ``combo_<key>`` — a ``QComboBox`` whose item data are the allowed words (``combo_topology``,
+  ``combo_build.lsb_section`` for a build-style choice);
 - ``error_<key>`` — a ``QLabel`` that shows why the last entry in that field was refused.
 
 :class:`FieldBinder` finds these under a root widget, shows a design in them and reports finished
@@ -19,6 +20,7 @@ import math
 from PySide6.QtCore import QObject, Signal
 from PySide6.QtWidgets import QComboBox, QLabel, QLineEdit, QSpinBox, QWidget
 
+from rungwise.core.build_style import build_choice
 from rungwise.core.design import FIELDS, Design
 from rungwise.core.errors import DesignError
 from rungwise.core.units import format_value, parse_value
@@ -39,9 +41,17 @@ def unit_in_text(unit: str) -> bool:
         return False
 
 
+def design_value(design: Design, key: str):
+    """The design's value for a bound key; ``build.<key>`` is a build-style choice (its default
+    when unset)."""
+    if key.startswith("build."):
+        return build_choice(design, key.removeprefix("build."))
+    return getattr(design, key)
+
+
 def display_text(design: Design, key: str) -> str:
     """How a design value is written into its field (``10 kΩ``, ``open``, empty for default)."""
-    value = getattr(design, key)
+    value = design_value(design, key)
     if value is None:
         return ""
     if isinstance(value, str):

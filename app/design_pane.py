@@ -19,6 +19,7 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from rungwise.core.build_style import BUILD_OPTIONS, BUILD_TOPOLOGIES
 from rungwise.core.design import FIELDS, Design
 from rungwise.core.errors import DesignError
 from rungwise.core.field_use import unused_fields
@@ -39,6 +40,15 @@ HINTS: dict[str, str] = {
                   "giving the ideal full scale.",
 }
 """Tooltips for fields whose meaning is not obvious from the label."""
+
+BUILD_CHOICES: dict[str, tuple[str, dict[str, str]]] = {
+    "binary": ("Bit resistors made as", {"per-bit": "one resistor per bit",
+                                         "unit-array": "equal units (2^k for bit k)"}),
+    "two_r": ("2R parts made as", {"single": "one resistor", "two-units": "two R in series"}),
+    "lsb_section": ("Binary bits of a segmented network",
+                    {"r2r": "R-2R ladder", "unit-array": "equal units, one output node"}),
+}
+"""Build key (``core.build_style.BUILD_OPTIONS``) → caption and the words shown for each value."""
 
 CAPTION_WIDTH_TEXT = "Reference voltage"
 """Captions up to about this width sit beside their field; longer ones above it."""
@@ -71,6 +81,8 @@ class DesignPane(QWidget):
         self.setStyleSheet(REFUSED_STYLE)
         self.binder = FieldBinder(self)
         self.binder.set_choices("topology", [(t, t) for t in TOPOLOGIES])
+        for key, (_label, words) in BUILD_CHOICES.items():
+            self.binder.set_choices(f"build.{key}", [(words[v], v) for v in BUILD_OPTIONS[key]])
         self.binder.entry_finished.connect(self._on_finished)
         self.binder.entry_changing.connect(self._on_changing)
         self._commit_timer = QTimer(self, singleShot=True, interval=COMMIT_DELAY_MS)
@@ -104,6 +116,9 @@ class DesignPane(QWidget):
                 unit = "" if unit_in_text(spec.unit) else spec.unit  # else the text says ``10 kΩ``
             w.setToolTip(HINTS.get(key, ""))
             self._add_row(form, key, spec.label, w, unit)
+        for key, (label, _words) in BUILD_CHOICES.items():
+            combo = QComboBox(self, objectName=f"combo_build.{key}")
+            self._add_row(form, f"build.{key}", label, combo, "")
 
     def _add_row(self, form: QFormLayout, key: str, label: str, w: QWidget, unit: str) -> None:
         box = QWidget(self)
@@ -137,6 +152,10 @@ class DesignPane(QWidget):
         self._pending = None
         self._design = design
         self.binder.set_choices("output", [(o, o) for o in OUTPUTS_BY_TOPOLOGY[design.topology]])
+        for key, topologies in BUILD_TOPOLOGIES.items():  # offered only where the key changes the network
+            combo = self.binder.inputs[f"build.{key}"]
+            combo.setEnabled(design.topology in topologies)
+            combo.setToolTip("" if combo.isEnabled() else "Only for: " + ", ".join(topologies))
         self.binder.show(design, keep_refused=same_candidate)
         self.heading.setText(f"<b>{design.label}</b>")
         self._grey_unused(design)
@@ -159,8 +178,7 @@ class DesignPane(QWidget):
                 return self._design.replace(topology=text)
             return self._design.with_settings({key: text})
         except DesignError as exc:
-            label = FIELDS[key].label if key in FIELDS else key
-            self.binder.mark_error(key, f"{label}: {exc.reason}")
+            self.binder.mark_error(key, f"{_caption(key)}: {exc.reason}")
             return None
 
     def _on_finished(self, key: str, text: str) -> None:
@@ -175,8 +193,7 @@ class DesignPane(QWidget):
         if new.to_dict() == self._design.to_dict():
             self.binder.show(new, keep_refused=True)
             return
-        label = FIELDS[key].label if key in FIELDS else key
-        self.design_edited.emit(new, f"{label} of {new.label} = {text}")
+        self.design_edited.emit(new, f"{_caption(key)} of {new.label} = {text}")
 
     def _on_changing(self, key: str, text: str) -> None:
         if self._design is None:
@@ -206,3 +223,12 @@ class DesignPane(QWidget):
         w = self.binder.inputs.get(key)
         if w is not None:
             w.setFocus(Qt.FocusReason.OtherFocusReason)
+
+
+def _caption(key: str) -> str:
+    """The caption of a bound key, for messages and undo descriptions."""
+    if key in FIELDS:
+        return FIELDS[key].label
+    if key.startswith("build."):
+        return BUILD_CHOICES[key.removeprefix("build.")][0]
+    return key

@@ -37,6 +37,7 @@ from rungwise.core.sweep import (
     sweep_values,
 )
 from rungwise.core.topologies.segmented import SIZING_RULE
+from rungwise.core.topologies.segmented_units import SIZING_RULE as UNIT_SIZING_RULE
 from rungwise.core.types import MAX_ARRAY_BITS
 
 from .plot_theme import candidate_colour, follow_palette
@@ -167,8 +168,8 @@ class ExplorerPane(QWidget):
         self.plot.scene().sigMouseMoved.connect(self._mouse_moved)
         self.label_hover = QLabel("", objectName="label_hover", wordWrap=True)
         self.label_status = QLabel("Choose a range and Run", objectName="label_status", wordWrap=True)
-        self.label_rule = QLabel(f"Segmented sizing: {SIZING_RULE}.", objectName="label_rule",
-                                 wordWrap=True)
+        self.label_rule = QLabel(f"Segmented sizing: {SIZING_RULE}; with a {UNIT_SIZING_RULE}.",
+                                 objectName="label_rule", wordWrap=True)
         self.combo_candidate = QComboBox(objectName="combo_candidate")
         self.spin_value = QSpinBox(objectName="spin_value", minimum=0, maximum=MAX_ARRAY_BITS)
         self.button_add = QPushButton("Add as candidate", objectName="button_add")

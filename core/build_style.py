@@ -1,11 +1,15 @@
 """Build styles: how each network part is made of physical resistors (the design's ``build`` table).
 
-``build = {binary = "per-bit" | "unit-array", two_r = "single" | "two-units"}``
+``build = {binary = "per-bit" | "unit-array", two_r = "single" | "two-units",
+lsb_section = "r2r" | "unit-array"}``
 
 - ``binary = "unit-array"``: a binary-weighted network made of equal unit resistors, bit k = 2^k
   units of value R·2^(N−1) in parallel (2^N − 1 units in all; the terminating resistor is one more);
 - ``two_r = "two-units"``: every 2R part of an R-2R ladder (legs and terminator) is two resistors of
-  value R in series.
+  value R in series;
+- ``lsb_section = "unit-array"`` (segmented designs): the L = N − M binary bits are a unit-element
+  array instead of an R-2R section (``topologies/segmented_units.py``): bit k = 2^k units and each
+  segment 2^L units in parallel, one unit terminating, all joined at the output.
 
 The style changes the part count (``network.Part.units``) and what the statistics sample: each unit
 is drawn on its own and the units are combined in series or parallel into the part's value.
@@ -26,14 +30,25 @@ BinaryBuild = Literal["per-bit", "unit-array"]
 TwoRBuild = Literal["single", "two-units"]
 """How an R-2R ladder's 2R parts are made."""
 
+LsbSection = Literal["r2r", "unit-array"]
+"""What a segmented design's binary (LSB) section is made of."""
+
 BUILD_OPTIONS: dict[str, tuple[str, ...]] = {
     "binary": get_args(BinaryBuild),
     "two_r": get_args(TwoRBuild),
+    "lsb_section": get_args(LsbSection),
 }
 """Build keys and their allowed values; the first value is the default."""
 
 LADDER_TOPOLOGIES = ("r2r-voltage", "r2r-current", "segmented")
 """Topologies whose ``leg`` and ``termination`` parts are the ladder's 2R parts."""
+
+BUILD_TOPOLOGIES: dict[str, tuple[str, ...]] = {
+    "binary": ("binary-weighted",),
+    "two_r": LADDER_TOPOLOGIES,
+    "lsb_section": ("segmented",),
+}
+"""Build key → the topologies it changes (the window offers a key only for those)."""
 
 
 def check_build(data: Mapping[str, Any]) -> dict[str, str]:
@@ -63,8 +78,19 @@ def build_choice(design: Any, key: str) -> str:
     return design.build.get(key, BUILD_OPTIONS[key][0])
 
 
+def unit_lsb_section(design: Any) -> bool:
+    """Whether ``design`` is segmented with a unit-element binary section."""
+    return design.topology == "segmented" and build_choice(design, "lsb_section") == "unit-array"
+
+
 def _units_of(design: Any, part: Part) -> tuple[int, str]:
     """(unit count, how joined) for one part under the design's build style."""
+    if unit_lsb_section(design):  # bit k: 2^k units, a segment 2^L units, the terminator one
+        if part.role == "segment":
+            return 2 ** (design.bits - design.thermometer_bits), "parallel"
+        if part.role == "bit":
+            return 2 ** int(part.part_id.removeprefix("bit")), "parallel"
+        return 1, "single"
     if part.role == "bit" and build_choice(design, "binary") == "unit-array":
         k = int(part.part_id.removeprefix("bit"))
         return 2**k, "parallel"

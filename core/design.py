@@ -136,7 +136,7 @@ class Design:
         unset keys take their defaults there.
     build : Mapping[str, str]
         Build styles (``build_style.py``): ``binary`` per-bit | unit-array, ``two_r`` single |
-        two-units.
+        two-units, ``lsb_section`` r2r | unit-array (segmented designs).
     board : Mapping[str, float]
         Ratings and limits of the real parts, drift range, amplifier flaws given explicitly
         (``parts/board.py``); unset keys take their defaults there.
@@ -191,6 +191,9 @@ class Design:
                               f"allowed: a whole number from 0 to {self.bits} (the resolution)")
         if not isinstance(self.name, str):
             raise DesignError("name", "must be text")
+        from .build_style import check_build  # local: keeps this module's imports small
+
+        object.__setattr__(self, "build", MappingProxyType(check_build(self.build)))
         parts: dict[str, float] = {}
         if not isinstance(self.parts, Mapping):
             raise DesignError("parts", "must map part ids to ohms, e.g. {leg0 = 20.1e3}")
@@ -203,17 +206,16 @@ class Design:
         if parts:
             from .topologies import part_ids  # local: topologies import this module
 
-            known = part_ids(self.topology, self.output, self.bits, self.thermometer_bits)
+            known = part_ids(self.topology, self.output, self.bits, self.thermometer_bits,
+                             self.build)
             known_set = set(known)
             for pid in parts:
                 if pid not in known_set:
                     raise DesignError(f"parts.{pid}", f"unknown part id for {self.topology} with "
                                       f"{self.bits} bits; known ids: {_id_summary(known)}")
         object.__setattr__(self, "parts", MappingProxyType(parts))
-        from .build_style import check_build  # local: keeps this module's imports small
         from .mismatch import check_mismatch
 
-        object.__setattr__(self, "build", MappingProxyType(check_build(self.build)))
         object.__setattr__(self, "mismatch", MappingProxyType(check_mismatch(self.mismatch, self)))
         from .parts.board import check_board
 
@@ -246,7 +248,11 @@ class Design:
         data = self.to_dict()
         if "topology" in changes and "output" not in changes:
             data["output"] = None
-        if ({"bits", "topology", "thermometer_bits"} & set(changes)) and "parts" not in changes:
+        new_build = changes.get("build")
+        section_changed = isinstance(new_build, Mapping) and (  # part ids change with it
+            new_build.get("lsb_section", "r2r") != self.build.get("lsb_section", "r2r"))
+        if (({"bits", "topology", "thermometer_bits"} & set(changes)) or section_changed) and (
+                "parts" not in changes):
             data["parts"] = {}
             if "mismatch" not in changes:
                 data["mismatch"] = {k: v for k, v in data["mismatch"].items() if k != "tempco_parts"}

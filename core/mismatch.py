@@ -127,7 +127,8 @@ def _check_tempcos(value: Any, design: Any) -> dict[str, float]:
         raise DesignError("mismatch.tempco_parts", "must map part ids to 1/K, e.g. {leg0 = 50e-6}")
     from .topologies import part_ids  # local: topologies import the design module
 
-    known = part_ids(design.topology, design.output, design.bits, design.thermometer_bits)
+    known = part_ids(design.topology, design.output, design.bits, design.thermometer_bits,
+                     design.build)
     spec = NUMERIC_SETTINGS["tempco"]
     out = {}
     for pid, alpha in value.items():

@@ -6,6 +6,7 @@ registers here and in ``types.Topology``.
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from types import ModuleType
 
 from ..build_style import apply_build
@@ -30,9 +31,12 @@ def build(design: Design) -> Network:
     return snap_network(design, apply_build(design, BUILDERS[design.topology].build(design)))
 
 
-def part_ids(topology: str, output: str, bits: int, thermometer_bits: int = 0) -> list[str]:
+def part_ids(topology: str, output: str, bits: int, thermometer_bits: int = 0,
+             build: Mapping[str, str] | None = None) -> list[str]:
     """Every part id a design of this topology, output and resolution has, in display order
-    (``thermometer_bits`` matters to segmented designs only)."""
+    (``thermometer_bits`` and the ``build`` table's ``lsb_section`` matter to segmented designs
+    only)."""
     if topology == "segmented":
-        return segmented.part_ids(output, bits, thermometer_bits)
+        return segmented.part_ids(output, bits, thermometer_bits,
+                                  (build or {}).get("lsb_section", "r2r"))
     return BUILDERS[topology].part_ids(output, bits)

@@ -10,14 +10,19 @@ the binary section is only ``term`` = R from ``n0`` to ground, so 2^N − 1 segm
 make 2^N equal parts. Part ids: ``seg0 … seg{2^M−2}`` then the ladder's ``leg…``, ``series…``,
 ``term``. The segments are one :class:`ThermometerGroup` (legs 0 … t−1 driven at level t), so a
 design with 65,535 segments costs no codes × legs work.
+
+With the build key ``lsb_section = "unit-array"`` the binary section is a unit-element array
+instead (``segmented_units.py``: its own sizing rule and part ids).
 """
 
 from __future__ import annotations
 
 import numpy as np
 
+from ..build_style import build_choice
 from ..design import Design
 from ..network import GROUND, Network, Output, Part, SwitchedLeg, ThermometerGroup, thermometer_level
+from . import segmented_units
 from .common import r2r_section, reference
 
 SIZING_RULE = ("each segment leg equals the binary section's Thevenin resistance at the joining "
@@ -25,15 +30,19 @@ SIZING_RULE = ("each segment leg equals the binary section's Thevenin resistance
 """The segment sizing rule in words, for the screen and reports."""
 
 
-def part_ids(output: str, bits: int, thermometer_bits: int = 0) -> list[str]:
-    """Part ids in display order: segments, then the ladder's."""
+def part_ids(output: str, bits: int, thermometer_bits: int = 0, lsb_section: str = "r2r"
+             ) -> list[str]:
+    """Part ids in display order: segments, then the ladder's (or the unit array's bits and
+    terminator when ``lsb_section`` is ``"unit-array"``)."""
+    if lsb_section == "unit-array":
+        return segmented_units.part_ids(bits, thermometer_bits)
     m, lad = thermometer_bits, bits - thermometer_bits
     return ([f"seg{i}" for i in range(2**m - 1)] + [f"leg{k}" for k in range(lad)]
             + [f"series{k}" for k in range(lad - 1)] + ["term"])
 
 
-def _segment_ohms(design: Design, count: int) -> np.ndarray:
-    ohms = np.full(count, design.unit_r)
+def _segment_ohms(design: Design, count: int, nominal: float) -> np.ndarray:
+    ohms = np.full(count, nominal)
     for pid, x in design.parts.items():
         if pid.startswith("seg"):
             ohms[int(pid[3:])] = x
@@ -48,10 +57,14 @@ def build(design: Design, grouped: bool = True) -> Network:
     """
     n, m, r = design.bits, design.thermometer_bits, design.unit_r
     lad = n - m
-    fixed, resistors, source = reference(design)
     n_seg = 2**m - 1
+    if build_choice(design, "lsb_section") == "unit-array":
+        seg_ohms = _segment_ohms(design, n_seg, segmented_units.segment_nominal(design))
+        decode = _grouped_decoder(lad, bool(n_seg)) if grouped else _plain_decoder(lad, n_seg)
+        return segmented_units.build(design, decode, seg_ohms, grouped)
+    fixed, resistors, source = reference(design)
     join = f"n{max(lad, 1) - 1}"
-    seg_ohms = _segment_ohms(design, n_seg)
+    seg_ohms = _segment_ohms(design, n_seg, r)
     seg_parts = [Part(f"seg{i}", "segment", float(x)) for i, x in enumerate(seg_ohms)]
     legs, ladder, parts = r2r_section(design, lad, "ref", 2 * r if lad else r)
     resistors += ladder

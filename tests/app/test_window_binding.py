@@ -9,7 +9,9 @@ from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QComboBox, QLineEdit, QSpinBox
 
 from rungwise.app.binding import bound_inputs
+from rungwise.core.build_style import BUILD_OPTIONS
 from rungwise.core.design import FIELDS
+from rungwise.core.topologies import build
 
 
 def type_into(qtbot, edit: QLineEdit, text: str) -> None:
@@ -22,7 +24,7 @@ def type_into(qtbot, edit: QLineEdit, text: str) -> None:
 
 def test_every_field_has_a_widget_found_by_name(window):
     inputs = bound_inputs(window.pane)
-    assert set(FIELDS) | {"topology", "output"} == set(inputs)
+    assert set(FIELDS) | {"topology", "output"} | {f"build.{k}" for k in BUILD_OPTIONS} == set(inputs)
     assert isinstance(inputs["bits"], QSpinBox)
     assert isinstance(inputs["unit_r"], QLineEdit)
     assert isinstance(inputs["topology"], QComboBox)
@@ -104,3 +106,25 @@ def test_refused_entry_is_marked_and_not_applied(window, qtbot, key, text, words
     type_into(qtbot, edit, "3k3" if key != "vref" else "1.8")
     assert not message.isVisibleTo(pane)
     assert edit.property("refused") is False
+
+
+def test_lsb_section_choice_only_for_segmented_designs(window, qtbot):
+    pane, state = window.pane, window.model.state
+    combo = pane.findChild(QComboBox, "combo_build.lsb_section")
+    assert state.current.design.topology != "segmented"
+    assert not combo.isEnabled()
+    assert combo.currentData() == "r2r"
+    state.set_design(state.selected, state.current.design.replace(
+        topology="segmented", bits=6, thermometer_bits=2, parts={}), "test")
+    assert combo.isEnabled()
+    assert not pane.findChild(QComboBox, "combo_build.binary").isEnabled()
+    combo.setCurrentIndex(combo.findData("unit-array"))
+    combo.activated.emit(combo.currentIndex())
+    design = state.current.design
+    assert design.build["lsb_section"] == "unit-array"
+    assert [p.part_id for p in build(design).parts][-2:] == ["bit3", "term"]
+    # the model shown back: another candidate, then this one again
+    state.select(1)
+    assert combo.currentData() == "r2r"
+    state.select(0)
+    assert combo.currentData() == "unit-array"

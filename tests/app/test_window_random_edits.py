@@ -100,7 +100,7 @@ def test_random_entries_keep_a_consistent_design(window, qtbot):
         elif isinstance(w, QSpinBox):
             assert w.value() == getattr(design, key)
         elif isinstance(w, QComboBox):
-            assert w.currentData() == getattr(design, key)
+            assert w.currentData() == display_text(design, key)
     assert set(FIELDS) <= set(inputs)
     # the curves and the table follow the final candidates
     qtbot.waitUntil(lambda: not window.live.is_busy() and not window.plots.is_drawing()

@@ -25,31 +25,35 @@ def test_output_resistance_is_r_over_2m(m):
     np.testing.assert_allclose(ev.rout, 8e3 / 2**m, rtol=1e-12)
 
 
-def _as_built(m, bits=6):
+def _as_built(m, bits=6, section="r2r"):
     rng = np.random.default_rng(5)
     d = Design(topology="segmented", bits=bits, thermometer_bits=m, vref=3.3, unit_r=1e4,
-               ron_high=42.0, ron_low=23.0, ref_r=12.0, load_r=80e3)
+               ron_high=42.0, ron_low=23.0, ref_r=12.0, load_r=80e3,
+               build={"lsb_section": section})
     from rungwise.core.topologies import part_ids
 
-    ids = part_ids("segmented", d.output, bits, m)
+    ids = part_ids("segmented", d.output, bits, m, d.build)
     nominal = {p.part_id: p.ohms for p in build(d).parts}
     return d.replace(parts={i: nominal[i] * (1 + 0.01 * rng.standard_normal()) for i in ids})
 
 
+@pytest.mark.parametrize("section", ["r2r", "unit-array"])
 @pytest.mark.parametrize("m", [1, 2, 4, 6])
-def test_grouped_segments_equal_plain_legs(m):
-    d = _as_built(m)
+def test_grouped_segments_equal_plain_legs(m, section):
+    d = _as_built(m, section=section)
     grouped = solve(build(d))
     plain = solve(segmented.build(d, grouped=False), method="general")
     for name in ("vout", "rout", "iref"):
         np.testing.assert_allclose(getattr(grouped, name), getattr(plain, name), rtol=1e-11)
 
 
-def test_grouped_segments_equal_plain_legs_over_trials():
-    d = _as_built(3).replace(parts={})
+@pytest.mark.parametrize(("section", "other"), [("r2r", "leg1"), ("unit-array", "bit1")])
+def test_grouped_segments_equal_plain_legs_over_trials(section, other):
+    d = _as_built(3, section=section).replace(parts={})
+    nominal = {p.part_id: p.ohms for p in build(d).parts}
     rng = np.random.default_rng(9)
-    ohms = {f"seg{i}": 1e4 * (1 + 0.01 * rng.standard_normal((4, 1))) for i in range(7)}
-    ohms["leg1"] = 2e4 * (1 + 0.01 * rng.standard_normal((4, 1)))
+    ohms = {i: nominal[i] * (1 + 0.01 * rng.standard_normal((4, 1)))
+            for i in [f"seg{k}" for k in range(7)] + [other]}
     grouped = solve(build(d), ohms=ohms)
     plain = solve(segmented.build(d, grouped=False), ohms=ohms, method="general")
     assert grouped.vout.shape == (4, 64)

@@ -100,7 +100,7 @@ def designs(draw, max_bits: int = 24, practical: bool = False) -> Design:
     base = Design(topology=topology, output=output, series=draw(st.sampled_from(SERIES)),
                   name=draw(st.text(max_size=12).filter(lambda s: "\x00" not in s)),
                   mismatch=mismatch, build=build, board=board, **values)
-    ids = part_ids(topology, base.output, base.bits, base.thermometer_bits)
+    ids = part_ids(topology, base.output, base.bits, base.thermometer_bits, base.build)
     chosen = draw(st.lists(st.sampled_from(ids), max_size=3, unique=True))
     ohms = in_range(*PRACTICAL_OHMS) if practical else in_range(0.0, 1e12, low_open=True)
     parts = {pid: draw(ohms) for pid in chosen}

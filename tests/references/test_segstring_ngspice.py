@@ -21,7 +21,7 @@ def _scattered(design: Design, seed: int) -> Design:
     rng = np.random.default_rng(seed)
     nominal = {p["id"]: p["ohms"] for p in evaluate(design).parts}
     assert set(nominal) == set(part_ids(design.topology, design.output, design.bits,
-                                        design.thermometer_bits))
+                                        design.thermometer_bits, design.build))
     return design.replace(parts={k: v * (1 + 0.01 * rng.standard_normal()) for k, v in nominal.items()})
 
 
@@ -46,6 +46,22 @@ def test_as_built_6bit_segmented(m):
     d = _scattered(Design(topology="segmented", bits=6, thermometer_bits=m, vref=2.5, unit_r=10e3,
                           ron_high=38.0, ron_low=17.0, ref_r=15.0, load_r=56e3), seed=4 + m)
     ev = evaluate(d)
+    ref = spice.simulate(ev.network)
+    for name in ("vout", "iref", "rout"):
+        spice.assert_agree(getattr(ev, name), getattr(ref, name), rtol=1e-9, what=name)
+
+
+@pytest.mark.parametrize("m", [2, 4])
+@pytest.mark.parametrize("output", ["unbuffered", "buffer"])
+def test_as_built_6bit_unit_array_segmented(m, output):
+    # source: ngspice — every code of an as-built 6-bit segmented design whose binary bits are a
+    # unit-element array (lsb_section = "unit-array"), on-resistances 38 Ω (driven) and 17 Ω
+    # (resting), 15 Ω reference, 56 kΩ load (vout, iref, rout to 1e-9 relative)
+    d = _scattered(Design(topology="segmented", output=output, bits=6, thermometer_bits=m,
+                          vref=2.5, unit_r=10e3, ron_high=38.0, ron_low=17.0, ref_r=15.0,
+                          load_r=56e3, gain=2.0, build={"lsb_section": "unit-array"}), seed=9 + m)
+    ev = evaluate(d)
+    assert {"bit0", "term", "seg0"} <= set(d.parts)
     ref = spice.simulate(ev.network)
     for name in ("vout", "iref", "rout"):
         spice.assert_agree(getattr(ev, name), getattr(ref, name), rtol=1e-9, what=name)
