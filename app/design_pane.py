@@ -19,7 +19,7 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from rungwise.core.build_style import BUILD_OPTIONS, BUILD_TOPOLOGIES
+from rungwise.core.build_style import BUILD_OPTIONS, unused_build_keys
 from rungwise.core.design import FIELDS, Design
 from rungwise.core.errors import DesignError
 from rungwise.core.field_use import unused_fields
@@ -152,10 +152,6 @@ class DesignPane(QWidget):
         self._pending = None
         self._design = design
         self.binder.set_choices("output", [(o, o) for o in OUTPUTS_BY_TOPOLOGY[design.topology]])
-        for key, topologies in BUILD_TOPOLOGIES.items():  # offered only where the key changes the network
-            combo = self.binder.inputs[f"build.{key}"]
-            combo.setEnabled(design.topology in topologies)
-            combo.setToolTip("" if combo.isEnabled() else "Only for: " + ", ".join(topologies))
         self.binder.show(design, keep_refused=same_candidate)
         self.heading.setText(f"<b>{design.label}</b>")
         self._grey_unused(design)
@@ -169,6 +165,11 @@ class DesignPane(QWidget):
             reason = unused.get(key)
             w.setEnabled(reason is None)
             w.setToolTip(f"Not used here: {reason}." if reason else HINTS.get(key, ""))
+        unused_build = unused_build_keys(design)
+        for key in BUILD_CHOICES:
+            w, reason = inputs[f"build.{key}"], unused_build.get(key)
+            w.setEnabled(reason is None)
+            w.setToolTip(f"Not used here: {reason}." if reason else "")
 
     # --- widgets → model -------------------------------------------------------------------------
     def _try(self, key: str, text: str) -> Design | None:

@@ -43,12 +43,6 @@ BUILD_OPTIONS: dict[str, tuple[str, ...]] = {
 LADDER_TOPOLOGIES = ("r2r-voltage", "r2r-current", "segmented")
 """Topologies whose ``leg`` and ``termination`` parts are the ladder's 2R parts."""
 
-BUILD_TOPOLOGIES: dict[str, tuple[str, ...]] = {
-    "binary": ("binary-weighted",),
-    "two_r": LADDER_TOPOLOGIES,
-    "lsb_section": ("segmented",),
-}
-"""Build key → the topologies it changes (the window offers a key only for those)."""
 
 
 def check_build(data: Mapping[str, Any]) -> dict[str, str]:
@@ -81,6 +75,18 @@ def build_choice(design: Any, key: str) -> str:
 def unit_lsb_section(design: Any) -> bool:
     """Whether ``design`` is segmented with a unit-element binary section."""
     return design.topology == "segmented" and build_choice(design, "lsb_section") == "unit-array"
+
+
+def unused_build_keys(design: Any) -> dict[str, str]:
+    """Build key → why it does not change ``design`` (the window greys such keys out)."""
+    out: dict[str, str] = {}
+    if design.topology != "binary-weighted":
+        out["binary"] = "only a binary-weighted network has one resistor per bit to choose"
+    if design.topology not in LADDER_TOPOLOGIES or unit_lsb_section(design):
+        out["two_r"] = "only a network with an R-2R ladder has 2R parts"
+    if design.topology != "segmented":
+        out["lsb_section"] = "only a segmented network has a binary section to choose"
+    return out
 
 
 def _units_of(design: Any, part: Part) -> tuple[int, str]:
