@@ -22,7 +22,9 @@ from .units import parse_value
 class FieldSpec:
     """What one numeric design field accepts.
 
-    ``low``/``high`` are inclusive unless ``low_open``; ``allow_inf`` admits +∞ (an open load).
+    ``low``/``high`` are inclusive unless ``low_open``; ``allow_inf`` admits +∞ (an open load);
+    ``zero_ok`` admits 0 below ``low`` (an ideal switch); ``min_abs`` > 0 makes a two-sided range
+    ``low … −min_abs`` or ``min_abs … high`` (a reference voltage, a gain: never 0).
     """
 
     label: str
@@ -33,12 +35,19 @@ class FieldSpec:
     allow_inf: bool = False
     integer: bool = False
     optional: bool = False
+    zero_ok: bool = False
+    min_abs: float = 0.0
 
     def describe(self) -> str:
         """The allowed range in words, e.g. ``"> 0 Ω and ≤ 1e+12 Ω, or open"``."""
         u = f" {self.unit}" if self.unit else ""
         low = f"> {self.low:g}{u}" if self.low_open else f"≥ {self.low:g}{u}"
         text = f"{low} and ≤ {self.high:g}{u}"
+        if self.min_abs:
+            text = (f"{self.low:g} … {-self.min_abs:g}{u} or {self.min_abs:g} … {self.high:g}{u} "
+                    "(not 0)")
+        if self.zero_ok:
+            text = f"0 (ideal) or {text}"
         if self.integer:
             text = f"a whole number from {self.low:g} to {self.high:g}"
         if self.allow_inf:
@@ -48,19 +57,29 @@ class FieldSpec:
         return text
 
 
+MIN_OHMS = 1e-3
+"""Smallest resistance of a part, a non-ideal switch, a reference or a load: 1 mΩ (a copper
+trace; below it the network's conductances span more than double precision can solve)."""
+
+MAX_OHMS = 1e12
+"""Largest resistance of a part: 1 TΩ (above it leakage of any real board dominates)."""
+
+PARTS_ALLOWED = f"≥ {MIN_OHMS:g} Ω and ≤ {MAX_OHMS:g} Ω"
+"""The allowed range of an as-built ``parts`` value, in words."""
+
 FIELDS: dict[str, FieldSpec] = {
     "bits": FieldSpec("Resolution", "bits", 1, MAX_BITS, integer=True),
-    "vref": FieldSpec("Reference voltage", "V", -1000.0, 1000.0),
-    "unit_r": FieldSpec("Unit resistor R", "Ω", 0.0, 1e12, low_open=True),
-    "ron_high": FieldSpec("Switch resistance, bit = 1", "Ω", 0.0, 1e9),
-    "ron_low": FieldSpec("Switch resistance, bit = 0", "Ω", 0.0, 1e9),
-    "ref_r": FieldSpec("Reference output resistance", "Ω", 0.0, 1e9),
-    "load_r": FieldSpec("Load resistance", "Ω", 0.0, 1e15, low_open=True, allow_inf=True),
-    "gain": FieldSpec("Buffer gain", "V/V", -1e6, 1e6),
-    "feedback_r": FieldSpec("Feedback resistor", "Ω", 0.0, 1e12, low_open=True, optional=True),
+    "vref": FieldSpec("Reference voltage", "V", -1000.0, 1000.0, min_abs=1e-6),
+    "unit_r": FieldSpec("Unit resistor R", "Ω", MIN_OHMS, MAX_OHMS),
+    "ron_high": FieldSpec("Switch resistance, bit = 1", "Ω", MIN_OHMS, 1e9, zero_ok=True),
+    "ron_low": FieldSpec("Switch resistance, bit = 0", "Ω", MIN_OHMS, 1e9, zero_ok=True),
+    "ref_r": FieldSpec("Reference output resistance", "Ω", MIN_OHMS, 1e9, zero_ok=True),
+    "load_r": FieldSpec("Load resistance", "Ω", MIN_OHMS, 1e15, allow_inf=True),
+    "gain": FieldSpec("Buffer gain", "V/V", -1e6, 1e6, min_abs=1e-3),
+    "feedback_r": FieldSpec("Feedback resistor", "Ω", MIN_OHMS, MAX_OHMS, optional=True),
     "load_c": FieldSpec("Load capacitance", "F", 0.0, 1.0),
     "temperature_c": FieldSpec("Temperature", "°C", -273.15, 1000.0, low_open=True),
-    "bandwidth": FieldSpec("Noise bandwidth", "Hz", 0.0, 1e12, low_open=True),
+    "bandwidth": FieldSpec("Noise bandwidth", "Hz", 1e-3, 1e12),
     "thermometer_bits": FieldSpec("Segmented (thermometer) bits", "bits", 0, MAX_ARRAY_BITS,
                                   integer=True, optional=True),
 }
@@ -90,11 +109,13 @@ def _check_number(key: str, value: Any) -> float | None:
         raise DesignError(key, f"must be finite; allowed: {spec.describe()}")
     if spec.integer and x != int(x):
         raise DesignError(key, f"{x:g} is not a whole number; allowed: {spec.describe()}")
+    if spec.min_abs and x == 0:
+        raise DesignError(key, f"must not be zero; allowed: {spec.describe()}")
+    if spec.zero_ok and x == 0:
+        return 0.0
     too_low = x <= spec.low if spec.low_open else x < spec.low
-    if too_low or x > spec.high:
+    if too_low or x > spec.high or abs(x) < spec.min_abs:
         raise DesignError(key, f"{x:g} is out of range; allowed: {spec.describe()}")
-    if key in {"vref", "gain"} and x == 0:
-        raise DesignError(key, f"must not be zero; allowed: {spec.describe()}, not 0")
     return int(x) if spec.integer else x
 
 
@@ -198,10 +219,9 @@ class Design:
         if not isinstance(self.parts, Mapping):
             raise DesignError("parts", "must map part ids to ohms, e.g. {leg0 = 20.1e3}")
         for pid, ohms in self.parts.items():
-            x = _parse(ohms, f"parts.{pid}", "> 0 Ω and ≤ 1e+12 Ω")
-            if not (math.isfinite(x) and 0 < x <= 1e12):
-                raise DesignError(f"parts.{pid}", f"{x:g} is out of range; allowed: > 0 Ω and "
-                                  "≤ 1e+12 Ω")
+            x = _parse(ohms, f"parts.{pid}", PARTS_ALLOWED)
+            if not (math.isfinite(x) and MIN_OHMS <= x <= MAX_OHMS):
+                raise DesignError(f"parts.{pid}", f"{x:g} is out of range; allowed: {PARTS_ALLOWED}")
             parts[str(pid)] = x
         if parts:
             from .topologies import part_ids  # local: topologies import this module

@@ -75,9 +75,8 @@ def compile_groups(st, net, ohms: Mapping[str, np.ndarray | float]) -> list[Comp
         c_hi = _cumulative(1.0 / (r + grp.ron_high))
         if grp.low is None:
             c_lo = np.zeros_like(c_hi)
-        else:
-            c = _cumulative(1.0 / (r + grp.ron_low))
-            c_lo = c[..., -1:] - c
+        else:  # summed from the far end, not total − partial sum: no round-off for unequal legs
+            c_lo = np.flip(_cumulative(np.flip(1.0 / (r + grp.ron_low), axis=-1)), axis=-1)
         out.append(CompiledGroup(grp.node, grp.high, grp.low, c_hi, c_lo))
         for rail in (grp.high, grp.low):
             if rail is not None:

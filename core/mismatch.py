@@ -65,11 +65,11 @@ class SettingSpec:
 
 NUMERIC_SETTINGS: dict[str, SettingSpec] = {
     "tolerance": SettingSpec("Tolerance (± fraction)", "", 0.01, 0.0, 0.5),
-    "coverage_sigma": SettingSpec("Tolerance covers ± this many σ", "σ", 3.0, 0.0, 10.0, low_open=True),
+    "coverage_sigma": SettingSpec("Tolerance covers ± this many σ", "σ", 3.0, 0.5, 10.0),
     "shared_tolerance": SettingSpec("Shared array tolerance (± fraction)", "", 0.0, 0.0, 0.5),
     "area_coefficient": SettingSpec("Area coefficient A_R", "fraction·m", 1e-8, 0.0, 1e-5),
-    "unit_width": SettingSpec("Width W of a unit_r device", "m", 2e-6, 0.0, 1e-2, low_open=True),
-    "unit_length": SettingSpec("Length L of a unit_r device", "m", 20e-6, 0.0, 1e-2, low_open=True),
+    "unit_width": SettingSpec("Width W of a unit_r device", "m", 2e-6, 1e-9, 1e-2),
+    "unit_length": SettingSpec("Length L of a unit_r device", "m", 20e-6, 1e-9, 1e-2),
     "tempco": SettingSpec("Temperature coefficient, every part", "1/K", 0.0, -0.01, 0.01),
     "reference_c": SettingSpec("Reference temperature", "°C", 25.0, -273.15, 1000.0),
 }
@@ -260,6 +260,10 @@ def sample_ohms(design: Any, net: Network, rng: np.random.Generator, n_trials: i
             err = scale * _standard(rng, (n_trials, part.units), distribution)
         values = unit * temperature_factor(model, part.part_id) * (1.0 + shared + err)
         if np.any(values <= 0):
+            if model.model == "on-chip":
+                raise DesignError("mismatch.area_coefficient", "the area law's spread drew a "
+                                  f"resistor at or below 0 Ω ({part.part_id}); lower the area "
+                                  "coefficient or make the devices larger")
             raise DesignError("mismatch.tolerance", "the spread drew a resistor at or below 0 Ω; "
                               "lower the tolerance or use the uniform distribution")
         if part.joined == "parallel":

@@ -80,6 +80,7 @@ class _Stamps:
         self.a0: dict[tuple[int, int], np.ndarray | float] = {}
         self.b0: dict[int, list] = {}
         self.leg_da: list[dict[tuple[int, int], np.ndarray | float]] = []
+        self.leg_on: list[tuple[dict, dict]] = []  # per leg: entries when driven, when not
         self.leg_db: list[dict[int, list]] = []
         self.pairs: set[tuple[int, int]] = set()
         out = net.output
@@ -90,6 +91,7 @@ class _Stamps:
         for r in net.resistors:
             g = _conductance(ohms.get(r.part_id, r.ohms))
             self._stamp(self.a0, self.b0, r.a, r.b, g)
+        self.a_fixed = dict(self.a0)
         # legs: base = state 0, delta = state 1 − state 0
         self.leg_g: list[tuple[np.ndarray | float, np.ndarray | float | None]] = []
         for leg in net.legs:
@@ -100,9 +102,14 @@ class _Stamps:
             da: dict[tuple[int, int], np.ndarray | float] = {}
             db: dict[int, list] = {}
             self._stamp(da, db, leg.node, leg.high, g_hi)
+            on: dict[tuple[int, int], np.ndarray | float] = {}
+            off: dict[tuple[int, int], np.ndarray | float] = {}
+            self._stamp(on, {}, leg.node, leg.high, g_hi)
             if leg.low is not None:
                 self._stamp(self.a0, self.b0, leg.node, leg.low, g_lo)
                 self._stamp(da, db, leg.node, leg.low, -g_lo)
+                self._stamp(off, {}, leg.node, leg.low, g_lo)
+            self.leg_on.append((on, off))
             self.leg_da.append(da)
             self.leg_db.append(db)
         self.groups = element_arrays.compile_groups(self, net, ohms)
@@ -115,12 +122,12 @@ class _Stamps:
         for i, other, j in ((ia, nb, ib), (ib, na, ia)):
             if i is None:
                 continue
-            a[(i, i)] = a.get((i, i), 0.0) + g
             if j is not None:
                 if i < j:
                     a[(i, j)] = a.get((i, j), 0.0) - g
                     self.pairs.add((i, j))
             else:
+                a[(i, i)] = a.get((i, i), 0.0) + g  # the shunt to fixed nodes (sparse_elim)
                 v = fixed[other]
                 col = b.setdefault(i, [0.0, 0.0])
                 if v != 0.0:
@@ -320,13 +327,18 @@ TENSOR_ELEMENTS = 1 << 20
 def _solve_general(st: _Stamps, cols, probe_node, plan):
     """Batched sparse elimination; ``cols[l]`` is leg l's drive (0/1), broadcastable to the batch."""
     n = st.n
-    entries = dict(st.a0)
+    entries = dict(st.a_fixed)
     b = {i: list(v) for i, v in st.b0.items()}
     cols, levels = cols[:len(st.leg_da)], cols[len(st.leg_da):]  # group levels follow the legs
     element_arrays.stamp_groups(st, levels, entries, b)
-    for d, da, db in zip(cols, st.leg_da, st.leg_db, strict=True):
-        for key, val in da.items():
+    # each leg's entries in its driven or its resting state (not a delta: no round-off when the
+    # two conductances differ by many orders of magnitude)
+    for d, (on, off), db in zip(cols, st.leg_on, st.leg_db, strict=True):
+        for key, val in on.items():
             entries[key] = entries.get(key, 0.0) + val * d
+        rest = 1.0 - np.asarray(d) if off else None
+        for key, val in off.items():
+            entries[key] = entries.get(key, 0.0) + val * rest
         for i, (v0, v1) in db.items():
             cur = b.setdefault(i, [0.0, 0.0])
             cur[0] = cur[0] + v0 * d

@@ -155,10 +155,10 @@ BAD = [
     # (arguments after "compute", field named, words of the allowed range)
     (["--set", "bits=0"], "bits", "1 to 24"),
     (["--set", "bits=99"], "bits", "1 to 24"),
-    (["--set", "unit_r=-4k7"], "unit_r", "> 0 Ω"),
-    (["--set", "ron_low=-1"], "ron_low", "≥ 0 Ω"),
+    (["--set", "unit_r=-4k7"], "unit_r", "≥ 0.001 Ω"),
+    (["--set", "ron_low=-1"], "ron_low", "0 (ideal) or ≥ 0.001 Ω"),
     (["--set", "vref=nan"], "vref", "1000 V"),
-    (["--set", "unit_r=abc"], "unit_r", "> 0 Ω"),
+    (["--set", "unit_r=abc"], "unit_r", "≥ 0.001 Ω"),
     (["--set", "parts.leg9=10k"], "parts.leg9", "leg0"),
     (["--topology", "ladder"], "topology", "r2r-voltage"),
     (["--topology", "r2r-voltage:summing-amp"], "output", "unbuffered"),

@@ -85,7 +85,7 @@ def test_widgets_to_model(window, qtbot):
 
 
 @pytest.mark.parametrize(("key", "text", "words"), [
-    ("unit_r", "-5k", "> 0 Ω"),
+    ("unit_r", "-5k", "≥ 0.001 Ω"),
     ("unit_r", "abc", "cannot read"),
     ("ron_high", "2G", "≤ 1e+09 Ω"),
     ("vref", "0", "must not be zero"),

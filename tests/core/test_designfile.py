@@ -3,34 +3,20 @@
 from __future__ import annotations
 
 import dataclasses
-import math
 import os
 from pathlib import Path
 
 import pytest
+from hardening.strategies import field_value
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from rungwise.core import FIELDS, OUTPUTS_BY_TOPOLOGY, TOPOLOGIES, Design, DesignError
 from rungwise.core import designfile as dfile
 from rungwise.core.demo import demo_candidates
+from rungwise.core.design import MAX_OHMS, MIN_OHMS
 from rungwise.core.targets import AnalysisSettings, Targets
 from rungwise.core.topologies import part_ids
-
-
-def _field_value(spec) -> st.SearchStrategy:
-    if spec.integer:
-        return st.integers(int(spec.low), min(int(spec.high), 12))
-    low = spec.low
-    values = st.floats(low, spec.high, allow_nan=False, allow_infinity=False,
-                       exclude_min=spec.low_open)
-    if low < 0 < spec.high:  # vref, gain: zero is refused
-        values = values.filter(lambda x: x != 0)
-    if spec.allow_inf:
-        values = st.one_of(values, st.just(math.inf))
-    if spec.optional:
-        values = st.one_of(values, st.none())
-    return values
 
 
 @st.composite
@@ -38,15 +24,16 @@ def designs(draw) -> Design:
     """Any valid design: every numeric key from its FIELDS range, topology/output, name, parts."""
     topology = draw(st.sampled_from(TOPOLOGIES))
     output = draw(st.sampled_from(OUTPUTS_BY_TOPOLOGY[topology]))
-    values = {k: draw(_field_value(spec)) for k, spec in FIELDS.items()}
-    values["thermometer_bits"] = min(values["thermometer_bits"], values["bits"])
+    values = {k: draw(field_value(k, 12)) for k in FIELDS}
+    if values["thermometer_bits"] is not None:
+        values["thermometer_bits"] = min(values["thermometer_bits"], values["bits"])
     if topology == "string":
         values["bits"] = min(values["bits"], 10)
     name = draw(st.text(max_size=20).filter(lambda s: "\x00" not in s))
     base = Design(topology=topology, output=output, **values, name=name)
     ids = part_ids(topology, base.output, base.bits, base.thermometer_bits)
     chosen = draw(st.lists(st.sampled_from(ids), max_size=3, unique=True))
-    parts = {pid: draw(st.floats(1e-3, 1e12, allow_nan=False)) for pid in chosen}
+    parts = {pid: draw(st.floats(MIN_OHMS, MAX_OHMS, allow_nan=False)) for pid in chosen}
     return base.replace(parts=parts) if parts else base
 
 

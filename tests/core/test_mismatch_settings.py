@@ -13,11 +13,12 @@ from rungwise.core.topologies import build
 @pytest.mark.parametrize(("table", "value", "field", "words"), [
     ("mismatch", {"tolerance": 0.7}, "mismatch.tolerance", "≤ 0.5"),
     ("mismatch", {"tolerance": -0.01}, "mismatch.tolerance", "≥ 0"),
-    ("mismatch", {"coverage_sigma": 0}, "mismatch.coverage_sigma", "> 0"),
+    ("mismatch", {"coverage_sigma": 0}, "mismatch.coverage_sigma", "≥ 0.5 σ"),
     ("mismatch", {"distribution": "normal"}, "mismatch.distribution", "uniform"),
     ("mismatch", {"model": "chip"}, "mismatch.model", "on-chip"),
     ("mismatch", {"tolerence": 0.01}, "mismatch.tolerence", "known keys"),
-    ("mismatch", {"unit_width": 0}, "mismatch.unit_width", "> 0"),
+    ("mismatch", {"unit_width": 0}, "mismatch.unit_width", "≥ 1e-09 m"),
+    ("mismatch", {"unit_length": 5e-324}, "mismatch.unit_length", "≥ 1e-09 m"),
     ("mismatch", {"tempco_parts": {"leg9": 1e-4}}, "mismatch.tempco_parts.leg9", "unknown part"),
     ("mismatch", {"reference_c": "abc"}, "mismatch.reference_c", "cannot read"),
     ("mismatch", "loose", "mismatch", "table"),
@@ -124,3 +125,11 @@ def test_equal_tempcos_leave_the_ladder_exact_and_unequal_ones_do_not():
     np.testing.assert_allclose(r.gain_error, 0.0, atol=1e-12)
     skew = same.replace(mismatch={**same.to_dict()["mismatch"], "tempco_parts": {"leg5": -200e-6}})
     assert monte_carlo(skew, 2, seed=0).max_abs_dnl[0] > 0.1
+
+
+def test_an_area_law_spread_below_zero_ohms_names_the_area_coefficient():
+    design = Design(bits=4, mismatch={"model": "on-chip", "unit_width": 1e-9, "unit_length": 1e-9,
+                                      "area_coefficient": 1e-5})
+    with pytest.raises(DesignError) as info:
+        monte_carlo(design, 50, seed=1)
+    assert info.value.field == "mismatch.area_coefficient"

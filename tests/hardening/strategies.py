@@ -8,6 +8,7 @@ from hypothesis import strategies as st
 
 from rungwise.core import FIELDS, OUTPUTS_BY_TOPOLOGY, TOPOLOGIES, Design
 from rungwise.core.build_style import BUILD_OPTIONS
+from rungwise.core.design import MAX_OHMS, MIN_OHMS
 from rungwise.core.mismatch import CHOICE_SETTINGS, NUMERIC_SETTINGS
 from rungwise.core.parts.board import BOARD_KEYS
 from rungwise.core.topologies import part_ids
@@ -27,30 +28,20 @@ def in_range(low: float, high: float, low_open: bool = False) -> st.SearchStrate
     return st.one_of(plain, ends)
 
 
-PRACTICAL_OHMS = (1e-3, 1e9)
-"""Resistances the finiteness check covers: a milliohm to a gigaohm (zero too where allowed)."""
-
-PRACTICAL_SCALE = 1e-6
-"""Smallest |vref| (V) and |gain| (V/V) the finiteness check covers."""
-
-
-def field_value(key: str, max_bits: int, practical: bool = False) -> st.SearchStrategy:
-    """A valid value of one ``FIELDS`` key (bits capped at ``max_bits``); ``practical`` keeps
-    resistances in ``PRACTICAL_OHMS`` instead of the whole allowed range."""
+def field_value(key: str, max_bits: int) -> st.SearchStrategy:
+    """A valid value of one ``FIELDS`` key over its whole range, ends included (bits capped at
+    ``max_bits``): two-sided ranges (``min_abs``) from both signs, 0 where ``zero_ok``, +∞ where
+    ``allow_inf``, ``None`` where optional."""
     spec = FIELDS[key]
     if spec.integer:
         values = st.integers(int(spec.low), min(int(spec.high), max_bits))
-    elif practical and spec.unit == "Ω":
-        values = in_range(*PRACTICAL_OHMS)
-        if not spec.low_open:
-            values = st.one_of(values, st.just(0.0))
-    elif practical and key in {"vref", "gain"}:
-        values = st.builds(lambda sign, x: sign * x, st.sampled_from([-1.0, 1.0]),
-                           in_range(PRACTICAL_SCALE, spec.high))
+    elif spec.min_abs:
+        values = st.one_of(in_range(spec.min_abs, spec.high),
+                           in_range(spec.min_abs, -spec.low).map(lambda x: -x))
     else:
         values = in_range(spec.low, spec.high, spec.low_open)
-        if key in {"vref", "gain"}:
-            values = values.filter(lambda x: x != 0)
+    if spec.zero_ok:
+        values = st.one_of(values, st.just(0.0))
     if spec.allow_inf:
         values = st.one_of(values, st.just(math.inf))
     if spec.optional:
@@ -66,13 +57,12 @@ def _board_value(spec) -> st.SearchStrategy[float]:
 
 
 @st.composite
-def designs(draw, max_bits: int = 24, practical: bool = False) -> Design:
+def designs(draw, max_bits: int = 24) -> Design:
     """Any valid design: topology, output, series, every ``FIELDS`` key, name, and random subsets
-    of the ``mismatch``, ``build``, ``board`` and ``parts`` tables (``practical``: resistances
-    in ``PRACTICAL_OHMS``)."""
+    of the ``mismatch``, ``build``, ``board`` and ``parts`` tables, each over its whole range."""
     topology = draw(st.sampled_from(TOPOLOGIES))
     output = draw(st.sampled_from(OUTPUTS_BY_TOPOLOGY[topology]))
-    values = {k: draw(field_value(k, max_bits, practical)) for k in FIELDS}
+    values = {k: draw(field_value(k, max_bits)) for k in FIELDS}
     if topology == "string":
         values["bits"] = min(values["bits"], MAX_ARRAY_BITS)
     if values["thermometer_bits"] is not None:
@@ -102,8 +92,7 @@ def designs(draw, max_bits: int = 24, practical: bool = False) -> Design:
                   mismatch=mismatch, build=build, board=board, **values)
     ids = part_ids(topology, base.output, base.bits, base.thermometer_bits, base.build)
     chosen = draw(st.lists(st.sampled_from(ids), max_size=3, unique=True))
-    ohms = in_range(*PRACTICAL_OHMS) if practical else in_range(0.0, 1e12, low_open=True)
-    parts = {pid: draw(ohms) for pid in chosen}
+    parts = {pid: draw(in_range(MIN_OHMS, MAX_OHMS)) for pid in chosen}
     tempcos = draw(st.lists(st.sampled_from(ids), max_size=2, unique=True))
     if tempcos:
         spec = NUMERIC_SETTINGS["tempco"]
