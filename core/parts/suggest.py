@@ -76,6 +76,7 @@ def _figures(design: Any, units: np.ndarray) -> list[Suggestion]:
     column = {p.part_id: k for k, p in enumerate(parts)}
     solved_ids = [g.part_id for g in base.legs] + [r.part_id for r in base.resistors
                                                    if r.part_id in column]
+    solved_ids += [f"{g.prefix}{i}" for g in [*base.groups, *base.chains] for i in range(g.size)]
     step = max(1, CHUNK_ELEMENTS // base.n_codes)
     out = []
     for start in range(0, len(units), step):

@@ -14,7 +14,11 @@ from rungwise.core.parts.suggest import Limits, suggest
     Design(bits=8, load_c=20e-12, ron_high=40.0, ron_low=25.0, series="E24"),
     Design(topology="binary-weighted", output="summing-amp", bits=6, feedback_r=4.99e3, series="E12"),
     Design(topology="r2r-current", bits=6, series="E96", build={"two_r": "two-units"}),
-], ids=["ladder", "summing", "current-two-units"])
+    Design(topology="segmented", bits=6, thermometer_bits=2, ron_high=50.0, series="E24"),
+    Design(topology="segmented", bits=6, thermometer_bits=3, ron_high=50.0, series="E24",
+           build={"lsb_section": "unit-array"}),
+    Design(topology="string", bits=4, ron_high=50.0, load_r=1e5, series="E24"),
+], ids=["ladder", "summing", "current-two-units", "segmented", "segmented-units", "string"])
 def test_suggestions_match_full_evaluations(design):
     limits = Limits(iref_max=1e-3, settling_max=1e-6, noise_lsb_max=0.01)
     found = suggest(design, limits, top=5)
