@@ -22,7 +22,7 @@ from collections.abc import Mapping
 from typing import Any, Literal, get_args
 
 from .errors import DesignError
-from .network import Network, Part
+from .network import Network, Part, PartArray, PartList
 
 BinaryBuild = Literal["per-bit", "unit-array"]
 """How a binary-weighted network's bit resistors are made."""
@@ -107,13 +107,17 @@ def _units_of(design: Any, part: Part) -> tuple[int, str]:
 
 
 def apply_build(design: Any, net: Network) -> Network:
-    """``net`` with every part's ``units`` and ``joined`` set from ``design.build`` (in place)."""
-    parts = []
-    for part in net.parts:
-        units, joined = _units_of(design, part)
-        same = units == part.units and joined == part.joined  # skip a copy (65,536-part strings)
-        parts.append(part if same else dataclasses.replace(part, units=units, joined=joined))
-    net.parts = parts
+    """``net`` with every part's ``units`` and ``joined`` set from ``design.build`` (in place).
+
+    A :class:`PartArray` block (one role) takes the style of its first part, set once for the
+    whole block.
+    """
+    blocks = []
+    for part in (net.parts.blocks if isinstance(net.parts, PartList) else net.parts):
+        units, joined = _units_of(design, part.element(0) if isinstance(part, PartArray) else part)
+        same = units == part.units and joined == part.joined  # skip a copy
+        blocks.append(part if same else dataclasses.replace(part, units=units, joined=joined))
+    net.parts = PartList(blocks) if isinstance(net.parts, PartList) else blocks
     return net
 
 

@@ -11,8 +11,10 @@ from .design import Design
 from .limits import check_evaluation
 from .metrics import linearity
 from .metrics.power import WHOLE_CODES
+from .metrics.power_arrays import part_power_arrays
 from .metrics.structure import structure
 from .network import Network
+from .part_rows import PartRows
 from .parts.figures import SUMMARY_KEYS as PART_SUMMARY_KEYS
 from .parts.figures import part_figures
 from .solve import Solution, solve
@@ -35,9 +37,10 @@ class Evaluation:
     dnl : ndarray, shape (n_codes − 1,), endpoint LSB
     summary : dict[str, float | int | bool | str]
         Scalar figures (see :data:`SUMMARY_KEYS`).
-    parts : list[dict]
+    parts : sequence of dict
         ``{"id", "ohms", "role", "power_max", "power_code"}`` per resistor, in display order:
-        value after snapping (Ω), worst-case power over all codes (W) and the code where it happens.
+        value after snapping (Ω), worst-case power over all codes (W) and the code where it happens
+        (a :class:`~rungwise.core.part_rows.PartRows`, whose dicts are made when read).
     network : Network
     solution : Solution
     """
@@ -167,13 +170,14 @@ def evaluate(design: Design) -> Evaluation:
     """
     check_evaluation(design.bits)
     net = build(design)
-    plain = not (net.chains or net.groups or net.selector is not None)
-    # node voltages kept for the power figures of plain networks (saves a second solve)
-    sol = solve(net, keep_nodes=plain and net.n_codes <= WHOLE_CODES)
+    # node voltages kept for the power figures (saves a second solve); a string's come from its
+    # reference and load currents instead
+    sol = solve(net, keep_nodes=net.selector is None and not net.chains
+                and net.n_codes <= WHOLE_CODES)
     v = sol.vout
     curves = linearity_curves(v)
     extra, elements = part_figures(design, net, sol)
-    worst = {e.name: e for e in elements}
+    power_max, power_code = part_power_arrays(elements, net.parts)
     return Evaluation(
         design=design,
         codes=np.arange(net.n_codes),
@@ -184,10 +188,7 @@ def evaluate(design: Design) -> Evaluation:
         inl_bestfit=curves["inl_bestfit"],
         dnl=curves["dnl"],
         summary={**summarize(design, net, sol, curves), **extra},
-        parts=[{"id": p.part_id, "ohms": p.ohms, "role": p.role,
-                "power_max": worst[p.part_id].power_max if p.part_id in worst else np.nan,
-                "power_code": worst[p.part_id].power_code if p.part_id in worst else -1}
-               for p in net.parts],
+        parts=PartRows(net.parts, power_max, power_code),
         network=net,
         solution=sol,
     )

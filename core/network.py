@@ -10,6 +10,7 @@ from __future__ import annotations
 
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
+from functools import lru_cache
 from typing import Literal
 
 import numpy as np
@@ -191,6 +192,143 @@ class Part:
     joined: Literal["single", "series", "parallel"] = "single"
 
 
+@lru_cache(maxsize=64)
+def array_ids(prefix: str, m: int) -> tuple[str, ...]:
+    """Part ids ``prefix0 … prefix{m−1}`` (cached: strings of 65,536 parts reuse them)."""
+    return tuple(f"{prefix}{i}" for i in range(m))
+
+
+@dataclass(frozen=True, eq=False)
+class PartArray:
+    """Many parts of one role held as arrays (a string's resistors, a group's segments).
+
+    Part ``i`` has id ``f"{prefix}{i}"`` and value ``ohms[i]``; every one is made of ``units`` equal
+    resistors joined as ``joined`` (the build style sets both from the role). :class:`Part`
+    objects are made only when asked for (``element(i)``, iteration of :class:`PartList`).
+    """
+
+    prefix: str
+    role: str
+    ohms: np.ndarray
+    units: int = 1
+    joined: Literal["single", "series", "parallel"] = "single"
+
+    @property
+    def size(self) -> int:
+        """Number of parts m."""
+        return int(np.shape(self.ohms)[0])
+
+    def ids(self) -> tuple[str, ...]:
+        """Every part id, in order."""
+        return array_ids(self.prefix, self.size)
+
+    def element(self, i: int) -> Part:
+        """Part ``i`` as a :class:`Part`."""
+        return Part(f"{self.prefix}{i}", self.role, float(self.ohms[i]), units=self.units,
+                    joined=self.joined)
+
+    def index_of(self, part_id: str) -> int | None:
+        """Position of ``part_id`` in this array, or ``None``."""
+        tail = part_id[len(self.prefix):] if part_id.startswith(self.prefix) else ""
+        if tail.isdigit() and (tail == "0" or not tail.startswith("0")) and int(tail) < self.size:
+            return int(tail)
+        return None
+
+
+class BlockSequence(Sequence):
+    """A sequence read from blocks: single items and array blocks (anything with ``size`` and
+    ``element(i)``) whose items are made on demand."""
+
+    def __init__(self, blocks) -> None:
+        self.blocks = [b for b in blocks if not (self._is_array(b) and b.size == 0)]
+        sizes = [b.size if self._is_array(b) else 1 for b in self.blocks]
+        self._starts = np.concatenate([[0], np.cumsum(sizes, dtype=np.int64)])
+
+    @staticmethod
+    def _is_array(block) -> bool:
+        return hasattr(block, "element")
+
+    def __len__(self) -> int:
+        return int(self._starts[-1])
+
+    def __getitem__(self, i):  # type: ignore[override]
+        if isinstance(i, slice):
+            return [self[j] for j in range(*i.indices(len(self)))]
+        i = i + len(self) if i < 0 else i
+        if not 0 <= i < len(self):
+            raise IndexError(i)
+        k = int(np.searchsorted(self._starts, i, side="right")) - 1
+        block = self.blocks[k]
+        return block.element(i - int(self._starts[k])) if self._is_array(block) else block
+
+    def __iter__(self):
+        for block in self.blocks:
+            if self._is_array(block):
+                for i in range(block.size):
+                    yield block.element(i)
+            else:
+                yield block
+
+
+class PartList(BlockSequence):
+    """A network's parts in display order: plain :class:`Part` entries and :class:`PartArray`
+    blocks, read as one sequence of :class:`Part` (made on demand for the blocks).
+
+    The array accessors (``ohms``, ``units``, ``unit_ohms``) cost O(parts) in numpy, never a
+    Python object per part.
+    """
+
+    @classmethod
+    def of(cls, parts: Sequence[Part | PartArray]) -> PartList:
+        """``parts`` as a :class:`PartList` (itself when it already is one)."""
+        return parts if isinstance(parts, PartList) else cls(list(parts))
+
+    def __eq__(self, other) -> bool:
+        return isinstance(other, Sequence) and list(self) == list(other)
+
+    __hash__ = None  # type: ignore[assignment]
+
+    def __repr__(self) -> str:
+        return f"PartList({len(self)} parts in {len(self.blocks)} blocks)"
+
+    def _per_block(self, plain, array) -> np.ndarray:
+        pieces = [np.broadcast_to(np.asarray(array(b), dtype=float), (b.size,))
+                  if isinstance(b, PartArray) else np.array([plain(b)], dtype=float)
+                  for b in self.blocks]
+        return np.concatenate(pieces) if pieces else np.zeros(0)
+
+    def ohms(self) -> np.ndarray:
+        """Every part's value, shape (n_parts,), ohms."""
+        return self._per_block(lambda p: p.ohms, lambda b: b.ohms)
+
+    def units(self) -> np.ndarray:
+        """Every part's unit count, shape (n_parts,)."""
+        return self._per_block(lambda p: p.units, lambda b: b.units)
+
+    def unit_ohms(self) -> np.ndarray:
+        """Every part's unit value (series units split it, parallel units multiply), ohms."""
+        scale = {"series": lambda x, u: x / u, "parallel": lambda x, u: x * u,
+                 "single": lambda x, u: x}
+        return self._per_block(lambda p: scale[p.joined](p.ohms, p.units),
+                               lambda b: scale[b.joined](np.asarray(b.ohms, float), b.units))
+
+    def ids(self) -> list[str]:
+        """Every part id, in order."""
+        out: list[str] = []
+        for b in self.blocks:
+            out.extend(b.ids() if isinstance(b, PartArray) else (b.part_id,))
+        return out
+
+    def index_of(self, part_id: str) -> int | None:
+        """Position of ``part_id``, or ``None`` (no list of ids is made for the blocks)."""
+        for k, b in enumerate(self.blocks):
+            i = b.index_of(part_id) if isinstance(b, PartArray) else (0 if b.part_id == part_id
+                                                                      else None)
+            if i is not None:
+                return int(self._starts[k]) + i
+        return None
+
+
 @dataclass
 class Network:
     """The neutral description a builder returns and the solver consumes.
@@ -211,8 +349,10 @@ class Network:
         Whether each leg is driven (switched to ``high``) at each code, then each thermometer
         group's level (how many of its legs are driven).
     output : Output
-    parts : list[Part]
+    parts : list[Part] or PartList
         The resistors with their ids and roles (the feedback resistor included), in display order.
+        Builders of array-held elements give a :class:`PartList` with :class:`PartArray` blocks;
+        ``PartList.of(net.parts)`` reads either kind with the array accessors.
     counts : dict[str, int]
         Active parts: ``{"switches": …, "amplifiers": …}``.
     ideal_lsb : float

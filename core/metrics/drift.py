@@ -15,7 +15,7 @@ from typing import Any
 import numpy as np
 
 from ..mismatch import MismatchModel, temperature_factor
-from ..network import Network
+from ..network import Network, PartList
 from ..solve import solve
 from . import linearity
 
@@ -53,10 +53,12 @@ def part_ohms_at(design: Any, net: Network, temperatures_c: np.ndarray) -> dict[
     # parts without their own coefficient share one factor per temperature (one array, not one
     # temperature_factor call per part: strings have 65,536 parts)
     common = np.array([1.0 + m.tempco * (m.temperature_c - m.reference_c) for m in models])[:, None]
-    scaled = np.array([p.ohms for p in net.parts])[:, None, None] * common  # (n_parts, n_temps, 1)
-    return {p.part_id: (p.ohms * np.array([temperature_factor(m, p.part_id) for m in models])[:, None]
-                        if p.part_id in own else scaled[i])
-            for i, p in enumerate(net.parts)}
+    parts = PartList.of(net.parts)
+    ohms = parts.ohms()
+    scaled = ohms[:, None, None] * common  # (n_parts, n_temps, 1)
+    return {pid: (ohms[i] * np.array([temperature_factor(m, pid) for m in models])[:, None]
+                  if pid in own else scaled[i])
+            for i, pid in enumerate(parts.ids())}
 
 
 def _any_part_drifts(design: Any, temperatures_c: np.ndarray) -> bool:

@@ -42,8 +42,10 @@ def bestfit_line(v: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     cm = c.mean()
     vm = v.mean(axis=-1)
     cc = c - cm
-    denom = float(np.dot(cc, cc)) or 1.0
-    slope = (v @ cc) / denom
+    denom = float(np.einsum("i,i->", cc, cc)) or 1.0
+    # einsum, not ``@``: a BLAS dot of one long vector may start threads, which costs
+    # milliseconds per call on a busy machine (measured 0.03 → 12 ms at 65,536 codes)
+    slope = np.einsum("...i,i->...", v, cc) / denom
     return vm - slope * cm, slope
 
 

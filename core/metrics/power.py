@@ -20,7 +20,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..element_arrays import plain_equivalent, plain_size
-from ..network import Network
+from ..network import Network, PartList
 from ..solve import Solution, solve
 
 CODE_CHUNK = 1 << 15
@@ -131,7 +131,12 @@ def worst_case(net: Network, solved: Solution | None = None
         |Vref·Iref − Σ reference-fed elements|, a check that should be round-off).
     """
     if net.chains or net.groups or net.selector is not None:
-        # array-held elements: worked on their plain equivalent while that stays small
+        # array-held elements: exact vectorised forms (power_arrays.py) where they apply, else
+        # their plain equivalent while that stays small
+        fast = _array_worst_case(net, solved)
+        if fast is not None:
+            return fast
+        solved = None  # its node voltages are not those of the plain equivalent
         if plain_size(net) * net.n_codes > PLAIN_ELEMENTS:
             return [], {k: math.nan for k in ("power_total_max", "power_total_max_code",
                                               "ref_power_max", "ref_power_max_code",
@@ -156,23 +161,7 @@ def worst_case(net: Network, solved: Solution | None = None
         sol = solved if reuse else solve(net, codes=None if whole else codes, keep_nodes=True)
         volts = {k: np.broadcast_to(v, codes.shape) for k, v in sol.node_voltages.items()}
         drive = net.decode(codes).astype(bool)
-        legs = {f"switch:{g.part_id}": col for col, g in enumerate(net.legs)}
-        elems = element_powers(net, drive, volts, sol.vout)
-        total = np.zeros(len(codes))
-        fed = np.zeros(len(codes))
-        for name, (kind, p, i) in elems.items():
-            total = total + p
-            if name not in FROM_AMPLIFIER:
-                fed = fed + p
-            k = int(np.argmax(p))
-            row = best.setdefault(name, [kind, -1.0, 0, 0.0, 0.0, 0.0])
-            if p[k] > row[1]:
-                row[1], row[2] = float(p[k]), int(codes[k])
-            row[3] = max(row[3], float(np.max(np.abs(i))))
-            if kind == "switch":
-                d = drive[:, legs[name]]
-                row[4] = max(row[4], float(np.max(np.where(d, i, 0.0), initial=0.0)))
-                row[5] = max(row[5], float(np.max(np.where(d, 0.0, i), initial=0.0)))
+        total, fed = _track(best, net, codes, drive, element_powers(net, drive, volts, sol.vout))
         p_ref = vref * sol.iref
         balance = max(balance, float(np.max(np.abs(p_ref - fed))))
         k = int(np.argmax(total))
@@ -181,12 +170,79 @@ def worst_case(net: Network, solved: Solution | None = None
         k = int(np.argmax(np.abs(p_ref)))
         if abs(p_ref[k]) > ref_best[0]:
             ref_best = [float(abs(p_ref[k])), int(codes[k])]
-    order = {p.part_id: i for i, p in enumerate(net.parts)}
-    kinds = {"part": 0, "switch": 1, "reference": 2, "load": 3}
-    names = sorted(best, key=lambda n: (kinds[best[n][0]], order.get(n.split(":")[-1], 0)))
-    elements = [ElementPower(n, best[n][0], best[n][1], best[n][2], best[n][3], best[n][4],
-                             best[n][5]) for n in names]
+    elements = _ordered(best, net)
     totals = {"power_total_max": tot_best[0], "power_total_max_code": tot_best[1],
               "ref_power_max": ref_best[0], "ref_power_max_code": ref_best[1],
               "balance_error_max": balance}
     return elements, totals
+
+
+KIND_ORDER = {"part": 0, "switch": 1, "reference": 2, "load": 3}
+"""Display order of element kinds."""
+
+
+def _track(best: dict[str, list], net: Network, codes: np.ndarray, drive: np.ndarray,
+           elems: dict[str, tuple[str, np.ndarray, np.ndarray]]) -> tuple[np.ndarray, np.ndarray]:
+    """Fold one chunk of per-code element figures into ``best`` (name → [kind, power, code,
+    |current|, sourced, sunk]); returns the chunk's total and reference-fed power per code."""
+    legs = {f"switch:{g.part_id}": col for col, g in enumerate(net.legs)}
+    total = np.zeros(len(codes))
+    fed = np.zeros(len(codes))
+    for name, (kind, p, i) in elems.items():
+        total = total + p
+        if name not in FROM_AMPLIFIER:
+            fed = fed + p
+        k = int(np.argmax(p))
+        row = best.setdefault(name, [kind, -1.0, 0, 0.0, 0.0, 0.0])
+        if p[k] > row[1]:
+            row[1], row[2] = float(p[k]), int(codes[k])
+        row[3] = max(row[3], float(np.max(np.abs(i))))
+        if kind == "switch":
+            d = drive[:, legs[name]]
+            row[4] = max(row[4], float(np.max(np.where(d, i, 0.0), initial=0.0)))
+            row[5] = max(row[5], float(np.max(np.where(d, 0.0, i), initial=0.0)))
+    return total, fed
+
+
+def _ordered(best: dict[str, list], net: Network) -> list[ElementPower]:
+    """``best`` rows as elements: parts in display order, then switches, ``ref_r``, ``load``."""
+    order = {pid: i for i, pid in enumerate(PartList.of(net.parts).ids())}
+    names = sorted(best, key=lambda n: (KIND_ORDER[best[n][0]], order.get(n.split(":")[-1], 0)))
+    return [ElementPower(n, *best[n]) for n in names]
+
+
+def _array_worst_case(net: Network, solved: Solution | None):
+    """Worst case of a network with array-held elements in exact vectorised form: a string with a
+    tap switch, or plain elements with thermometer groups (``power_arrays.py``); ``None`` when
+    neither applies (then the plain equivalent is used)."""
+    from .power_arrays import ElementPowers, _totals, group_blocks, string_worst_case
+
+    if net.selector is not None:
+        return string_worst_case(net, solved)
+    if net.chains or net.n_codes > WHOLE_CODES:
+        return None
+    codes = np.arange(net.n_codes)
+    reuse = solved is not None and solved.node_voltages and solved.vout.shape == (net.n_codes,)
+    sol = solved if reuse else solve(net, keep_nodes=True)
+    volts = {k: np.broadcast_to(v, codes.shape) for k, v in sol.node_voltages.items()}
+    raw = np.asarray(net.decode(codes))
+    n_legs = len(net.legs)
+    drive = raw[:, :n_legs].astype(bool)
+    got = group_blocks(net, volts, [raw[:, n_legs + g] for g in range(len(net.groups))])
+    if got is None:
+        return None
+    blocks, group_total = got
+    best: dict[str, list] = {}
+    total, fed = _track(best, net, codes, drive, element_powers(net, drive, volts, sol.vout))
+    plain = _ordered(best, net)
+    # group legs go where their parts are listed; the rest keep the plain order
+    order = {pid: i for i, pid in enumerate(PartList.of(net.parts).ids())}
+    parts = [(order.get(e.name, 0), e) for e in plain if e.kind == "part"]
+    parts += [(order.get(f"{b.prefix}0", 0), b) for b in blocks if b.kind == "part"]
+    switches = [(order.get(e.name.split(":")[-1], 0), e) for e in plain if e.kind == "switch"]
+    switches += [(order.get(f"{b.prefix.split(':')[-1]}0", 0), b) for b in blocks
+                 if b.kind == "switch"]
+    rest = [e for e in plain if e.kind not in ("part", "switch")]
+    ordered = ([x for _, x in sorted(parts, key=lambda t: t[0])]
+               + [x for _, x in sorted(switches, key=lambda t: t[0])] + rest)
+    return ElementPowers(ordered), _totals(net, total + group_total, fed + group_total, sol.iref)

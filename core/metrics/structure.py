@@ -4,8 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..build_style import unit_ohms
-from ..network import Network
+from ..network import Network, PartList
 
 
 def distinct_values(ohms: np.ndarray, rel_tol: float = 1e-9) -> int:
@@ -24,8 +23,8 @@ def structure(net: Network, unit_r: float) -> dict[str, float | int]:
     ``n_switches``, ``n_amplifiers``, ``n_distinct_values``, ``spread`` (largest/smallest physical
     resistor) and ``total_r_units`` (sum of all physical resistances in units of ``unit_r``).
     """
-    ohms = np.array([unit_ohms(p) for p in net.parts], dtype=float)
-    units = np.array([p.units for p in net.parts], dtype=float)
+    parts = PartList.of(net.parts)
+    ohms, units = parts.unit_ohms(), parts.units()
     return {
         "n_resistors": int(units.sum()),
         "n_switches": int(net.counts.get("switches", 0)),

@@ -20,6 +20,7 @@ from typing import Any
 
 from ..evaluate import Evaluation
 from ..metrics.power import worst_case
+from ..metrics.power_arrays import part_power_arrays, switch_maxima
 from ..mismatch import NUMERIC_SETTINGS
 from ..units import format_value
 from .board import board_value
@@ -102,17 +103,17 @@ def bill_of_materials(ev: Evaluation) -> list[BomLine]:
     """The candidate's bill of materials (resistor lines, then switches and amplifiers)."""
     design, net = ev.design, ev.network
     elements, _ = worst_case(net)
-    worst = {e.name: e for e in elements}
+    power_max, _ = part_power_arrays(elements, net.parts)
     allowed = board_value(design, "power_rating") * board_value(design, "derating")
     derating = board_value(design, "derating")
     tol = tolerance_of(design)
     groups: dict[tuple, dict[str, Any]] = {}
     number = 0
-    for p in net.parts:
+    for p, p_max in zip(net.parts, power_max.tolist(), strict=True):
         units = int(p.units)
         unit = p.ohms * units if p.joined == "parallel" else p.ohms / units
         # networks too large for the per-element power pass carry NaN (said in the line's note)
-        p_unit = worst[p.part_id].power_max / units if p.part_id in worst else math.nan
+        p_unit = p_max / units
         key = (round(unit, 9), tempco_of(design, p.part_id))
         g = groups.setdefault(key, {"numbers": [], "ids": [], "power": 0.0})
         g["numbers"].extend(range(number + 1, number + 1 + units))
@@ -139,11 +140,10 @@ def bill_of_materials(ev: Evaluation) -> list[BomLine]:
         else:
             lines.append(BomLine(ranges("R", g["numbers"]), "resistor", unit, design.series, tol, tc,
                                  g["power"] / derating, count, g["ids"], 0, over, note))
-    switches = [e for e in elements if e.kind == "switch"]
     n_sw = int(net.counts.get("switches", 0))
     if n_sw:
         limit = board_value(design, "switch_limit")
-        need = max((e.current_max for e in switches), default=0.0)
+        need = switch_maxima(elements)[0]
         over = need > limit
         lines.append(BomLine(ranges("S", list(range(1, n_sw + 1))), "switch", math.nan, "", math.nan,
                              math.nan, need, n_sw, [g.part_id for g in net.legs], 0, over,

@@ -10,6 +10,7 @@ import numpy as np
 from ..metrics import amplifier, noise, settling
 from ..metrics.drift import drift
 from ..metrics.power import ElementPower, worst_case
+from ..metrics.power_arrays import switch_maxima
 from ..network import Network
 from ..solve import Solution
 from .board import board_value
@@ -54,9 +55,8 @@ def part_figures(design: Any, net: Network, sol: Solution
     sol : Solution
         Its nominal solution, shape (n_codes,).
     """
-    plain = not (net.chains or net.groups or net.selector is not None)
-    elements, totals = worst_case(net, sol if plain else None)
-    switches = [e for e in elements if e.kind == "switch"]
+    elements, totals = worst_case(net, sol)
+    sw_current, sw_source, sw_sink = switch_maxima(elements)
     tau = settling.time_constant(net, sol.rout, design.load_c)
     density = noise.output_density(net, sol.rout, design.temperature_c)
     worst = float(np.max(density))
@@ -66,9 +66,9 @@ def part_figures(design: Any, net: Network, sol: Solution
         "power_total_max": totals["power_total_max"],
         "power_total_max_code": totals["power_total_max_code"],
         "ref_power_max": totals["ref_power_max"],
-        "switch_current_max": max((e.current_max for e in switches), default=0.0),
-        "switch_source_max": max((e.source_max for e in switches), default=0.0),
-        "switch_sink_max": max((e.sink_max for e in switches), default=0.0),
+        "switch_current_max": sw_current,
+        "switch_source_max": sw_source,
+        "switch_sink_max": sw_sink,
         "settling_tau": tau,
         "settling_time": settling.settling_time(tau, net.n_codes),
         "noise_density": worst,

@@ -21,7 +21,16 @@ import numpy as np
 
 from ..build_style import build_choice
 from ..design import Design
-from ..network import GROUND, Network, Output, Part, SwitchedLeg, ThermometerGroup, thermometer_level
+from ..network import (
+    GROUND,
+    Network,
+    Output,
+    PartArray,
+    PartList,
+    SwitchedLeg,
+    ThermometerGroup,
+    thermometer_level,
+)
 from . import segmented_units
 from .common import r2r_section, reference
 
@@ -65,7 +74,7 @@ def build(design: Design, grouped: bool = True) -> Network:
     fixed, resistors, source = reference(design)
     join = f"n{max(lad, 1) - 1}"
     seg_ohms = _segment_ohms(design, n_seg, r)
-    seg_parts = [Part(f"seg{i}", "segment", float(x)) for i, x in enumerate(seg_ohms)]
+    seg_parts = PartArray("seg", "segment", seg_ohms)
     legs, ladder, parts = r2r_section(design, lad, "ref", 2 * r if lad else r)
     resistors += ladder
     groups = []
@@ -76,13 +85,13 @@ def build(design: Design, grouped: bool = True) -> Network:
         decode = _grouped_decoder(lad, bool(n_seg))
     else:
         legs = [SwitchedLeg(p.part_id, "segment", join, "ref", GROUND, p.ohms, design.ron_high,
-                            design.ron_low) for p in seg_parts] + legs
+                            design.ron_low) for p in PartList([seg_parts])] + legs
         decode = _plain_decoder(lad, n_seg)
     buffered = design.output == "buffer"
     output = Output("node", join, buffered=buffered, gain=design.gain if buffered else 1.0,
                     load_ohms=design.load_r)
     return Network(fixed=fixed, source=source, resistors=resistors, legs=legs, n_codes=2**n,
-                   decode=decode, output=output, parts=seg_parts + parts,
+                   decode=decode, output=output, parts=PartList([seg_parts, *parts]),
                    counts={"switches": n_seg + lad, "amplifiers": int(buffered)},
                    ideal_lsb=design.vref / 2**n * (design.gain if buffered else 1.0),
                    groups=groups)

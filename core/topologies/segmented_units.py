@@ -19,7 +19,17 @@ from __future__ import annotations
 import numpy as np
 
 from ..design import Design
-from ..network import GROUND, Network, Output, Part, Resistor, SwitchedLeg, ThermometerGroup
+from ..network import (
+    GROUND,
+    Network,
+    Output,
+    Part,
+    PartArray,
+    PartList,
+    Resistor,
+    SwitchedLeg,
+    ThermometerGroup,
+)
 from .common import reference, value
 
 SIZING_RULE = ("unit-element LSB section: one unit is R·2^(N−1), bit k is 2^k units and each "
@@ -49,7 +59,8 @@ def build(design: Design, decode, segment_ohms: np.ndarray, grouped: bool = True
     unit = design.unit_r * 2.0 ** (n - 1)
     fixed, resistors, source = reference(design)
     n_seg = 2**m - 1
-    parts = [Part(f"seg{i}", "segment", float(x)) for i, x in enumerate(segment_ohms)]
+    segments = PartArray("seg", "segment", np.asarray(segment_ohms, dtype=float))
+    parts: list = []
     legs, groups = [], []
     for k in range(lad):
         ohms = value(design, f"bit{k}", unit / 2**k)
@@ -61,7 +72,7 @@ def build(design: Design, decode, segment_ohms: np.ndarray, grouped: bool = True
     parts.append(Part("term", "termination", term.ohms))
     if not grouped:
         legs = [SwitchedLeg(p.part_id, "segment", OUT, "ref", GROUND, p.ohms, design.ron_high,
-                            design.ron_low) for p in parts[:n_seg]] + legs
+                            design.ron_low) for p in PartList([segments])] + legs
     elif n_seg:
         groups.append(ThermometerGroup("seg", "segment", OUT, "ref", GROUND, segment_ohms,
                                        design.ron_high, design.ron_low))
@@ -69,7 +80,7 @@ def build(design: Design, decode, segment_ohms: np.ndarray, grouped: bool = True
     output = Output("node", OUT, buffered=buffered, gain=design.gain if buffered else 1.0,
                     load_ohms=design.load_r)
     return Network(fixed=fixed, source=source, resistors=resistors, legs=legs, n_codes=2**n,
-                   decode=decode, output=output, parts=parts,
+                   decode=decode, output=output, parts=PartList([segments, *parts]),
                    counts={"switches": n_seg + lad, "amplifiers": int(buffered)},
                    ideal_lsb=design.vref / 2**n * (design.gain if buffered else 1.0),
                    groups=groups)

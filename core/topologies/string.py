@@ -12,24 +12,16 @@ solved in closed form in O(2^N) without a matrix (``selector.py``). Part count: 
 
 from __future__ import annotations
 
-from functools import lru_cache
-
 import numpy as np
 
 from ..design import Design
-from ..network import GROUND, Network, Output, Part, ResistorChain, Selector
+from ..network import GROUND, Network, Output, PartArray, PartList, ResistorChain, Selector
 from .common import reference
 
 
 def part_ids(output: str, bits: int) -> list[str]:
     """Part ids in display order, from the ground end."""
     return [f"string{i}" for i in range(2**bits)]
-
-
-@lru_cache(maxsize=8)
-def _nominal_parts(bits: int, unit_r: float) -> tuple[Part, ...]:
-    """The part list of a string of equal resistors (shared: parts are immutable)."""
-    return tuple(Part(f"string{i}", "string", unit_r) for i in range(2**bits))
 
 
 def _select(codes: np.ndarray) -> np.ndarray:
@@ -45,8 +37,7 @@ def build(design: Design) -> Network:
     for pid, x in design.parts.items():
         ohms[int(pid[len("string"):])] = x
     chain = ResistorChain("string", "string", GROUND, "ref", "t", ohms)
-    parts = (list(_nominal_parts(n, design.unit_r)) if not design.parts
-             else [Part(f"string{i}", "string", x) for i, x in enumerate(ohms.tolist())])
+    parts = PartList([PartArray("string", "string", ohms)])  # Part objects only on demand
     buffered = design.output == "buffer"
     output = Output("node", "out", buffered=buffered, gain=design.gain if buffered else 1.0,
                     load_ohms=design.load_r)

@@ -4,11 +4,11 @@ from __future__ import annotations
 
 import csv
 import io
-import math
 
 import pytest
 
 from rungwise.core import Design, evaluate
+from rungwise.core.parts.board import board_value
 from rungwise.core.parts.bom import CAUTION, bill_of_materials, ranges, to_csv
 
 
@@ -63,10 +63,13 @@ def test_overloads_are_flagged_with_the_caution():
     assert "caution" not in calm
 
 
-def test_large_string_bom_lists_every_resistor_without_power_figures():
-    # a 10-bit string is past the per-element power pass: the BOM still lists all 1024 parts
-    lines = bill_of_materials(evaluate(Design(topology="string", bits=10)))
+def test_large_string_bom_lists_every_resistor_with_its_power():
+    # a 12-bit string, open output: one current Vref/(2^N·R) through every resistor, so each
+    # dissipates Vref²/(4^N·R) (common practice: Ohm's law along a series string)
+    d = Design(topology="string", bits=12, vref=2.5, unit_r=1e3)
+    lines = bill_of_materials(evaluate(d))
     resistors = [line for line in lines if line.kind == "resistor"]
-    assert sum(line.quantity for line in resistors) == 1024
-    assert all(math.isnan(line.power_needed) for line in resistors)
-    assert "network this large" in resistors[0].note
+    assert sum(line.quantity for line in resistors) == 4096
+    expected = 2.5**2 / (4.0**12 * 1e3) / board_value(d, "derating")
+    assert [line.power_needed for line in resistors] == [pytest.approx(expected, rel=1e-12)]
+    assert "network this large" not in resistors[0].note

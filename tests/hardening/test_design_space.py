@@ -27,8 +27,6 @@ from .profiles import budget
 from .strategies import designs
 
 ARRAYS = ("vout", "iref", "inl_endpoint", "inl_bestfit", "dnl")
-POWER_TOTALS = ("power_total_max", "power_total_max_code", "ref_power_max", "ref_power_max_code",
-                "balance_error_max")
 
 
 def _allowed_non_finite(ev, key: str) -> bool:
@@ -36,8 +34,6 @@ def _allowed_non_finite(ev, key: str) -> bool:
     net, s = ev.network, ev.summary
     if key in {"settling_tau", "settling_time"}:  # metrics/settling.py: NaN behind an amplifier
         return has_amplifier(net) and math.isnan(s[key])
-    if key in POWER_TOTALS:  # metrics/power.py: NaN for array networks too big to expand
-        return bool(net.chains or net.groups or net.selector is not None) and math.isnan(s[key])
     if key == "amp_inl_added":  # metrics/amplifier.py: NaN when the rails clip every code alike
         return s["amp_codes_clipped"] > 0 and math.isnan(s[key])
     if key.startswith("drift_"):  # metrics/drift.py: NaN where 1 + α·ΔT takes a part to ≤ 0 Ω
