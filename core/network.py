@@ -401,23 +401,32 @@ class Network:
 
 
 class BinaryDecoder:
-    """Decoder for legs driven by one code bit each (``leg_bits[l]`` is leg l's bit, 0 = LSB).
+    """Decoder for legs driven by one code bit each (``leg_bits[l]`` is leg l's bit, 0 = LSB),
+    then one level column per thermometer group, ``code >> level_shifts[g]``.
 
-    The solver reads ``leg_bits`` to lay codes out as one array axis per bit (see ``solve.py``).
+    The solver reads ``leg_bits`` and ``level_shifts`` to lay codes out as one array axis per bit
+    (see ``solve.py``): a group's level then depends only on the bits above its shift.
     """
 
-    def __init__(self, leg_bits: list[int]) -> None:
+    def __init__(self, leg_bits: list[int], level_shifts: Sequence[int] = ()) -> None:
         self.leg_bits = tuple(int(b) for b in leg_bits)
+        self.level_shifts = tuple(int(s) for s in level_shifts)
         self._bits = np.asarray(self.leg_bits, dtype=np.int64)
 
     def __call__(self, codes: np.ndarray) -> np.ndarray:
-        """Drive states, shape (n_codes, n_legs), bool."""
-        return ((np.asarray(codes, dtype=np.int64)[:, None] >> self._bits[None, :]) & 1).astype(bool)
+        """Drive states, shape (n_codes, n_legs), bool; with level columns, shape
+        (n_codes, n_legs + n_groups), int."""
+        codes = np.asarray(codes, dtype=np.int64)
+        bits = (codes[:, None] >> self._bits[None, :]) & 1
+        if not self.level_shifts:
+            return bits.astype(bool)
+        levels = [thermometer_level(codes, s)[:, None] for s in self.level_shifts]
+        return np.concatenate([bits, *levels], axis=1)
 
 
-def binary_decoder(leg_bits: list[int]) -> BinaryDecoder:
-    """A :class:`BinaryDecoder` for ``leg_bits``."""
-    return BinaryDecoder(leg_bits)
+def binary_decoder(leg_bits: list[int], level_shifts: Sequence[int] = ()) -> BinaryDecoder:
+    """A :class:`BinaryDecoder` for ``leg_bits`` (and thermometer levels ``code >> shift``)."""
+    return BinaryDecoder(leg_bits, level_shifts)
 
 
 def thermometer_level(codes: np.ndarray, shift: int) -> np.ndarray:

@@ -253,10 +253,12 @@ def solve(
     plan = _plan(st.n, st.pairs)
     per_code = max(1, int(np.prod(trial_shape)))
     leg_bits = getattr(net.decode, "leg_bits", None)
+    shifts = getattr(net.decode, "level_shifts", ())
+    groups_fit = len(shifts) == len(net.groups) and not (net.groups and trial_shape)
     if (full_range and leg_bits is not None and st.n > 0 and per_code * len(codes) <= TENSOR_ELEMENTS
-            and not (use_super and trial_shape)):
+            and not (use_super and trial_shape) and groups_fit):
         return _solve_bit_tensor(st, leg_bits, len(codes), trial_shape, probe_node, plan, keep_nodes,
-                                 use_super)
+                                 use_super, shifts)
     step = max(1, CHUNK_ELEMENTS // per_code)
     pieces = []
     for start in range(0, len(codes), step):
@@ -283,7 +285,7 @@ def solve(
 
 
 def _solve_bit_tensor(st: _Stamps, leg_bits, n_codes, trial_shape, probe_node, plan, keep_nodes,
-                      use_super=False):
+                      use_super=False, level_shifts=()):
     """All codes with one array axis per code bit.
 
     Bit b of the code is axis ``N − 1 − b`` of a (2,)*N tensor (so a C-order reshape gives code
@@ -291,7 +293,9 @@ def _solve_bit_tensor(st: _Stamps, leg_bits, n_codes, trial_shape, probe_node, p
     only the bits of the legs eliminated so far, so most of the work is on tiny arrays and only the
     last pivots and the back substitution run at full size; a leg's drive is a 2-element array
     wherever it enters. Exact; same arithmetic as the flat layout. The superposition path (nominal
-    only) forms its node voltages by one matrix product and views them on the same layout.
+    only) forms its node voltages by one matrix product and views them on the same layout. A
+    thermometer group's level ``code >> shift`` (nominal only) lies on the axes of the bits above
+    the shift, so its conductances are 2^(N − shift) values, not 2^N.
     """
     n_bits = n_codes.bit_length() - 1
     prefix = trial_shape[:-1] if trial_shape else ()
@@ -304,6 +308,9 @@ def _solve_bit_tensor(st: _Stamps, leg_bits, n_codes, trial_shape, probe_node, p
         shape = [1] * n_bits
         shape[n_bits - 1 - b] = 2
         cols.append(np.array([0.0, 1.0]).reshape(shape))
+    for shift in level_shifts:  # group levels follow the legs, as in ``decode``
+        top = n_bits - shift
+        cols.append(np.arange(2**top).reshape((2,) * top + (1,) * shift))
     full = prefix + (2,) * n_bits
     if use_super:
         volts = _solve_superposition(st, None, (), probe_node, plan, tensor_cols=cols)

@@ -29,6 +29,7 @@ from ..network import (
     PartList,
     SwitchedLeg,
     ThermometerGroup,
+    binary_decoder,
     thermometer_level,
 )
 from . import segmented_units
@@ -98,16 +99,9 @@ def build(design: Design, grouped: bool = True) -> Network:
 
 
 def _grouped_decoder(lad: int, has_group: bool):
-    """Ladder bits 0 … L−1, then the segment level ``code >> L``."""
-
-    def decode(codes: np.ndarray) -> np.ndarray:
-        codes = np.asarray(codes, dtype=np.int64)
-        cols = [(codes[:, None] >> np.arange(lad)[None, :]) & 1]
-        if has_group:
-            cols.append(thermometer_level(codes, lad)[:, None])
-        return np.concatenate(cols, axis=1)
-
-    return decode
+    """Ladder bits 0 … L−1, then the segment level ``code >> L`` (a decoder the solver can lay out
+    one axis per bit)."""
+    return binary_decoder(list(range(lad)), [lad] if has_group else [])
 
 
 def _plain_decoder(lad: int, n_seg: int):

@@ -62,3 +62,25 @@ def test_floating_node_is_named():
     with pytest.raises(NetworkError, match="island") as info:
         solve(net)
     assert info.value.node in {"island", "island2"}
+
+
+@pytest.mark.parametrize(("bits", "m"), [(4, 0), (5, 2), (7, 3), (6, 6)])
+@pytest.mark.parametrize("output", ["unbuffered", "buffer"])
+def test_segment_levels_on_the_bit_tensor_equal_plain_legs(bits, m, output):
+    # the thermometer level laid on the axes of the top bits (nominal tensor path) against one
+    # plain leg per segment at explicit codes (per-code layout), with nodes kept
+    from rungwise.core.topologies import segmented
+
+    rng = np.random.default_rng(bits + m)
+    d = Design(topology="segmented", output=output, bits=bits, thermometer_bits=m, vref=2.5,
+               unit_r=1e4, ron_high=40, ron_low=25, ref_r=3, load_r=6e4)
+    d = d.replace(parts={p.part_id: p.ohms * (1 + 0.02 * rng.standard_normal())
+                         for p in build(d).parts})
+    tensor = solve(build(d), keep_nodes=True)
+    plain_net = segmented.build(d, grouped=False)
+    plain = solve(plain_net, codes=np.arange(plain_net.n_codes), keep_nodes=True)
+    for name in ("vout", "rout", "iref"):
+        np.testing.assert_allclose(getattr(tensor, name), getattr(plain, name), rtol=1e-12,
+                                   atol=1e-18)
+    for node, v in plain.node_voltages.items():
+        np.testing.assert_allclose(tensor.node_voltages[node], v, rtol=1e-12, atol=1e-15)
