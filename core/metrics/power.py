@@ -98,13 +98,8 @@ def element_powers(net: Network, drive: np.ndarray, volts: dict[str, np.ndarray]
         ron = np.where(d, leg.ron_high, leg.ron_low if leg.low is not None else 0.0)
         out[leg.part_id] = ("part", i * i * leg.ohms, i)
         out[f"switch:{leg.part_id}"] = ("switch", i * i * ron, i)
-    o = net.output
-    if o.kind == "virtual-ground" and o.feedback_ohms > 0:
-        i = vout / o.feedback_ohms
-        out["feedback"] = ("part", i * i * o.feedback_ohms, i)
-    elif o.kind == "node" and not o.buffered and np.isfinite(o.load_ohms):
-        i = volts[o.node] / o.load_ohms
-        out["load"] = ("load", i * i * o.load_ohms, i)
+    for name, kind, i, ohms in _output_elements(net, volts, vout):
+        out[name] = (kind, i * i * ohms, i)
     return out
 
 
@@ -161,7 +156,7 @@ def worst_case(net: Network, solved: Solution | None = None
         sol = solved if reuse else solve(net, codes=None if whole else codes, keep_nodes=True)
         volts = {k: np.broadcast_to(v, codes.shape) for k, v in sol.node_voltages.items()}
         drive = net.decode(codes).astype(bool)
-        total, fed = _track(best, net, codes, drive, element_powers(net, drive, volts, sol.vout))
+        total, fed = _track(best, net, codes, drive, volts, sol.vout)
         p_ref = vref * sol.iref
         balance = max(balance, float(np.max(np.abs(p_ref - fed))))
         k = int(np.argmax(total))
@@ -182,26 +177,80 @@ KIND_ORDER = {"part": 0, "switch": 1, "reference": 2, "load": 3}
 
 
 def _track(best: dict[str, list], net: Network, codes: np.ndarray, drive: np.ndarray,
-           elems: dict[str, tuple[str, np.ndarray, np.ndarray]]) -> tuple[np.ndarray, np.ndarray]:
-    """Fold one chunk of per-code element figures into ``best`` (name → [kind, power, code,
-    |current|, sourced, sunk]); returns the chunk's total and reference-fed power per code."""
-    legs = {f"switch:{g.part_id}": col for col, g in enumerate(net.legs)}
-    total = np.zeros(len(codes))
-    fed = np.zeros(len(codes))
-    for name, (kind, p, i) in elems.items():
-        total = total + p
-        if name not in FROM_AMPLIFIER:
-            fed = fed + p
-        k = int(np.argmax(p))
+           volts: dict[str, np.ndarray], vout: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Fold one chunk of codes into ``best`` (name → [kind, power, code, |current|, sourced,
+    sunk]); returns the chunk's total and reference-fed power per code.
+
+    The same figures as :func:`element_powers` (tests compare them) in fewer passes over the
+    codes: |current| is read back from the worst power (R fixed), a switch's worst case from its
+    leg's when both on-resistances are equal, sourced/sunk currents by masked maxima.
+    """
+    n = len(codes)
+    total = np.zeros(n)
+
+    def fold(name: str, kind: str, p_max: float, k: int, current_max: float, src=0.0,
+             snk=0.0) -> None:
+        """Fold one element's worst power (at chunk index ``k``), |current|, sourced, sunk."""
         row = best.setdefault(name, [kind, -1.0, 0, 0.0, 0.0, 0.0])
-        if p[k] > row[1]:
-            row[1], row[2] = float(p[k]), int(codes[k])
-        row[3] = max(row[3], float(np.max(np.abs(i))))
-        if kind == "switch":
-            d = drive[:, legs[name]]
-            row[4] = max(row[4], float(np.max(np.where(d, i, 0.0), initial=0.0)))
-            row[5] = max(row[5], float(np.max(np.where(d, 0.0, i), initial=0.0)))
+        if p_max > row[1]:
+            row[1], row[2] = p_max, int(codes[k])
+        row[3] = max(row[3], current_max)
+        row[4], row[5] = max(row[4], src), max(row[5], snk)
+
+    def value(node: str):
+        """A node's volts: a scalar for a fixed node (no pass over the codes)."""
+        return net.fixed[node] if node in net.fixed else volts[node]
+
+    for r in net.resistors:
+        dv = value(r.a) - value(r.b)
+        p = np.broadcast_to(dv * dv * (1.0 / r.ohms), (n,))
+        total += p
+        k = int(np.argmax(p))
+        fold(r.part_id, "reference" if r.role == "reference" else "part", float(p[k]), k,
+             math.sqrt(float(p[k]) / r.ohms))
+    driven = np.ascontiguousarray(np.asarray(drive, dtype=bool).T)
+    resting = ~driven
+    for col, leg in enumerate(net.legs):
+        d = driven[col]
+        v_node = value(leg.node)
+        i = np.broadcast_to((value(leg.high) - v_node) / (leg.ohms + leg.ron_high), (n,))
+        low = 0.0 if leg.low is None else (v_node - value(leg.low)) / (leg.ohms + leg.ron_low)
+        i = np.where(d, i, low)
+        i2 = i * i
+        k = int(np.argmax(i2))  # the leg's and (equal on-resistances) its switch's worst code
+        current = math.sqrt(float(i2[k]))
+        fold(leg.part_id, "part", float(i2[k]) * leg.ohms, k, current)
+        ron_low = leg.ron_low if leg.low is not None else 0.0
+        if leg.ron_high == ron_low:
+            p_sw, k_sw = float(i2[k]) * leg.ron_high, k
+            total += i2 * (leg.ohms + leg.ron_high)
+        else:
+            p = i2 * np.where(d, leg.ron_high, ron_low)
+            k_sw = int(np.argmax(p))
+            p_sw = float(p[k_sw])
+            total += i2 * leg.ohms + p
+        # largest current sourced (driven) and sunk (resting), 0 at least: i·mask keeps the
+        # current where the mask holds and 0 elsewhere (a masked ``max(where=…)`` is far slower)
+        fold(f"switch:{leg.part_id}", "switch", p_sw, k_sw, current,
+             max(float(np.max(i * d)), 0.0), max(float(np.max(i * resting[col])), 0.0))
+    fed = total.copy()
+    for name, kind, i, ohms in _output_elements(net, volts, vout):
+        p = i * i * ohms
+        total += p
+        if name not in FROM_AMPLIFIER:
+            fed += p
+        k = int(np.argmax(p))
+        fold(name, kind, float(p[k]), k, float(np.max(np.abs(i))))
     return total, fed
+
+
+def _output_elements(net: Network, volts, vout):
+    """(name, kind, current per code, ohms) of the feedback resistor or the resistive load."""
+    o = net.output
+    if o.kind == "virtual-ground" and o.feedback_ohms > 0:
+        yield "feedback", "part", vout / o.feedback_ohms, o.feedback_ohms
+    elif o.kind == "node" and not o.buffered and np.isfinite(o.load_ohms):
+        yield "load", "load", volts[o.node] / o.load_ohms, o.load_ohms
 
 
 def _ordered(best: dict[str, list], net: Network) -> list[ElementPower]:
@@ -233,7 +282,7 @@ def _array_worst_case(net: Network, solved: Solution | None):
         return None
     blocks, group_total = got
     best: dict[str, list] = {}
-    total, fed = _track(best, net, codes, drive, element_powers(net, drive, volts, sol.vout))
+    total, fed = _track(best, net, codes, drive, volts, sol.vout)
     plain = _ordered(best, net)
     # group legs go where their parts are listed; the rest keep the plain order
     order = {pid: i for i, pid in enumerate(PartList.of(net.parts).ids())}

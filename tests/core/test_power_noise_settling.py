@@ -61,19 +61,29 @@ def test_current_ladder_draws_vref_squared_over_r_at_every_code():
     assert totals["balance_error_max"] < 1e-15
 
 
-def test_worst_case_matches_a_brute_force_over_codes():
-    d = CASES[1]
-    net = build(d)
+@pytest.mark.parametrize("design", CASES, ids=lambda d: f"{d.topology}-{d.output}")
+def test_worst_case_matches_a_brute_force_over_codes(design):
+    net = build(design)
     elements, totals = worst_case(net)
     codes = np.arange(net.n_codes)
     sol = solve(net, keep_nodes=True)
-    elems = element_powers(net, net.decode(codes).astype(bool), sol.node_voltages, sol.vout)
+    drive = net.decode(codes).astype(bool)
+    elems = element_powers(net, drive, sol.node_voltages, sol.vout)
+    assert sorted(e.name for e in elements) == sorted(elems)
+    legs = {f"switch:{leg.part_id}": col for col, leg in enumerate(net.legs)}
     for e in elements:
-        p = elems[e.name][1]
-        assert e.power_max == pytest.approx(p.max(), rel=1e-12)
-        assert p[e.power_code] == pytest.approx(p.max(), rel=1e-12)
+        kind, p, i = elems[e.name]
+        assert e.kind == kind
+        assert e.power_max == pytest.approx(p.max(), rel=1e-12, abs=1e-300)
+        assert p[e.power_code] == pytest.approx(p.max(), rel=1e-12, abs=1e-300)
+        assert e.current_max == pytest.approx(np.max(np.abs(i)), rel=1e-12)
+        if kind == "switch":
+            d = drive[:, legs[e.name]]
+            assert e.source_max == pytest.approx(max(np.max(np.where(d, i, 0.0)), 0.0), rel=1e-12)
+            assert e.sink_max == pytest.approx(max(np.max(np.where(d, 0.0, i)), 0.0), rel=1e-12)
     total = sum(p for _, p, _ in elems.values())
     assert totals["power_total_max"] == pytest.approx(total.max(), rel=1e-12)
+    assert total[totals["power_total_max_code"]] == pytest.approx(total.max(), rel=1e-12)
 
 
 def test_switch_source_and_sink_currents():
