@@ -317,7 +317,6 @@ def group_blocks(net: Network, volts, levels: list[np.ndarray]
         blocks.append(ArrayPower(f"switch:{grp.prefix}", "switch", p_sw, k_sw, cur,
                                  np.maximum(src, 0.0), np.maximum(snk, 0.0)))
         c_hi = np.concatenate([[0.0], np.cumsum(gh)])
-        c_lo = np.concatenate([[0.0], np.cumsum(gl)])
-        c_lo = c_lo[-1] - c_lo
+        c_lo = np.concatenate([np.cumsum(gl[::-1])[::-1], [0.0]])  # from the far end (no total − part)
         total = total + dh * dh * c_hi[t] + dl * dl * c_lo[t]
     return blocks, np.broadcast_to(np.asarray(total, float), (n or 0,))
