@@ -5,7 +5,8 @@ Run on demand (pytest does not collect this folder)::
 
     .venv/bin/python tests/benchmarks/bench_sweep.py [--repeat 3]
 
-Times:
+Times (wall and CPU, with the load average; the sweep also as a multiple of a fixed numpy
+workload timed in the same run, which moves less with the machine and its load):
 
 * ``sweep``: ``core.sweep.sweep`` of N = 2 … 16 over every topology and output variant (nominal
   figures, cache cleared first) — target < 2 s; also the same sweep again (cached: re-plotting);
@@ -56,6 +57,14 @@ def wall_and_cpu(fn, repeat: int):
     return best[0], best[1], os.getloadavg()[0]
 
 
+def calibration() -> None:
+    """A fixed numpy workload (element-wise passes over 65,536 values, like the engine's): the
+    sweep is printed as a multiple of it, a figure that moves less with the machine and its load."""
+    x = np.linspace(0.0, 1.0, 1 << 16)
+    for _ in range(400):
+        x = np.sqrt(x * x + 1.0) - 0.5
+
+
 def candidates() -> list[Design]:
     out = []
     for topology, outputs in OUTPUTS_BY_TOPOLOGY.items():
@@ -83,6 +92,7 @@ def main() -> None:
         return sw.sweep(cands, "bits", values)
 
     fresh()  # warm imports and caches of ids
+    t_cal, c_cal, _ = wall_and_cpu(calibration, args.repeat)
     t_sweep, c_sweep, load = wall_and_cpu(fresh, args.repeat)
     result = sw.sweep(cands, "bits", values)
     t_cached, _ = best_of(lambda: sw.sweep(cands, "bits", values), args.repeat)
@@ -90,6 +100,9 @@ def main() -> None:
           f"CPU {c_sweep:.3f} s, load average {load:.2f} (target < {SWEEP_TARGET_S} s: "
           f"{'met' if t_sweep < SWEEP_TARGET_S else 'MISSED'}); cached again: "
           f"{t_cached * 1e3:.1f} ms (×{t_sweep / t_cached:.0f} faster)")
+    print(f"  baseline (fixed numpy workload, same run): wall {t_cal * 1e3:.0f} ms, CPU "
+          f"{c_cal * 1e3:.0f} ms; sweep = ×{t_sweep / t_cal:.1f} of it by wall, "
+          f"×{c_sweep / c_cal:.1f} by CPU")
     # where the time goes: CPU per candidate (each point evaluated once more, uncached)
     for d in cands:
         c = time.process_time()
