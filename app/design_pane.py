@@ -38,15 +38,17 @@ HINTS: dict[str, str] = {
     "gain": "Gain of the buffer amplifier (buffered outputs only).",
     "feedback_r": "Feedback resistor of the summing or transimpedance amplifier; empty = the value "
                   "giving the ideal full scale.",
+    "build.lsb_section": "Segmented networks: the binary bits as an R-2R ladder, or as equal units "
+                         "(bit k = 2^k units, each segment 2^(N−M) units, one unit to ground) all "
+                         "joined at the output.",
 }
 """Tooltips for fields whose meaning is not obvious from the label."""
 
 BUILD_CHOICES: dict[str, tuple[str, dict[str, str]]] = {
     "binary": ("Bit resistors made as", {"per-bit": "one resistor per bit",
-                                         "unit-array": "equal units (2^k for bit k)"}),
+                                         "unit-array": "equal-unit array"}),
     "two_r": ("2R parts made as", {"single": "one resistor", "two-units": "two R in series"}),
-    "lsb_section": ("Binary bits of a segmented network",
-                    {"r2r": "R-2R ladder", "unit-array": "equal units, one output node"}),
+    "lsb_section": ("Segmented LSBs made as", {"r2r": "R-2R ladder", "unit-array": "equal-unit array"}),
 }
 """Build key (``core.build_style.BUILD_OPTIONS``) → caption and the words shown for each value."""
 
