@@ -30,7 +30,9 @@ class AmplifierEffect:
     vout : ndarray, shape (n_codes,), volts — with offset, finite gain and clipping
     offset_error : float, volts — V(0) change from the ideal amplifier
     gain_error : float, fraction — endpoint slope change relative to the ideal amplifier's
-    inl_added : float, endpoint LSB — largest |INL| change the amplifier causes
+    inl_added : float, endpoint LSB — largest |INL| change the amplifier causes; NaN when the real
+        output has no step between its endpoints (the rails clip every code alike, or a signal
+        below 1e-16 of the offset is lost in round-off; then ``gain_error`` is −1)
     noise_gain : ndarray, shape (n_codes,) — 1 + Rf/rout (virtual ground) or G (buffer)
     codes_clipped : int — codes whose output lies beyond a rail
     """
@@ -76,7 +78,7 @@ def apply(net: Network, vout: np.ndarray, rout: np.ndarray, offset: float, open_
     ideal_lsb = float(linearity.endpoint_lsb(vout))
     lsb = float(linearity.endpoint_lsb(real))
     inl_added = np.abs(linearity.inl_endpoint(real) - linearity.inl_endpoint(vout))
-    inl_added = inl_added[np.isfinite(inl_added)]  # none when the rails clip every code alike
+    inl_added = inl_added[np.isfinite(inl_added)]  # none when the real output is flat
     return AmplifierEffect(
         vout=real,
         offset_error=float(real[0] - vout[0]),

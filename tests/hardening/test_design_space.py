@@ -34,8 +34,9 @@ def _allowed_non_finite(ev, key: str) -> bool:
     net, s = ev.network, ev.summary
     if key in {"settling_tau", "settling_time"}:  # metrics/settling.py: NaN behind an amplifier
         return has_amplifier(net) and math.isnan(s[key])
-    if key == "amp_inl_added":  # metrics/amplifier.py: NaN when the rails clip every code alike
-        return s["amp_codes_clipped"] > 0 and math.isnan(s[key])
+    if key == "amp_inl_added":  # metrics/amplifier.py: NaN when the real output is flat (the
+        # rails clip every code alike, or the steps are lost in round-off beside a large offset)
+        return (s["amp_codes_clipped"] > 0 or s["amp_gain_error"] == -1.0) and math.isnan(s[key])
     if key.startswith("drift_"):  # metrics/drift.py: NaN where 1 + α·ΔT takes a part to ≤ 0 Ω
         return math.isnan(s[key]) and _coefficient_breaks_down(ev.design)
     if key in {"rout_max", "rout_min"}:  # an output fed by a current with no resistive path
@@ -255,3 +256,15 @@ def test_a_milliohm_part_in_a_string_of_megohms_gives_power_figures():
     s = evaluate(design).summary
     assert math.isfinite(s["power_total_max"])
     assert s["power_total_max"] > 0
+
+
+def test_a_signal_lost_beside_the_amplifier_offset_leaves_the_added_inl_undefined():
+    # found by the long profile: a 1e-16 V full scale behind a 1 V offset is flat in double
+    # precision, so the amplifier's endpoint line (and the INL it adds) is undefined
+    design = Design(topology="r2r-voltage", output="buffer", bits=1, vref=1e-6, unit_r=0.015625,
+                    ron_high=1.0, ron_low=1.0, ref_r=281474976.0, load_r=1.0,
+                    board={"amp_offset": 1.0})
+    s = evaluate(design).summary
+    assert s["amp_gain_error"] == -1.0
+    assert math.isnan(s["amp_inl_added"])
+    assert s["amp_codes_clipped"] == 0
