@@ -16,7 +16,7 @@ import numpy as np
 from .design import Design
 from .errors import DesignError
 from .mismatch import MismatchModel
-from .montecarlo import monte_carlo
+from .montecarlo import iter_monte_carlo, monte_carlo
 from .stats_result import YieldFigure
 from .targets import Targets
 
@@ -100,7 +100,7 @@ def iter_yield_vs_tolerance(design: Design, grades: Sequence[float] = STANDARD_G
     targets : Targets, optional
     criterion : {"all", "monotonic", "dnl", "inl"}
     cancel : object with ``is_set()``, optional
-        Checked between grades; the generator stops early when set.
+        Checked between grades and inside each grade's run; the generator stops early when set.
 
     Yields
     ------
@@ -111,7 +111,10 @@ def iter_yield_vs_tolerance(design: Design, grades: Sequence[float] = STANDARD_G
     for grade in curve.steps:
         if cancel is not None and cancel.is_set():
             return
-        result = monte_carlo(with_tolerance(design, grade), trials, seed, targets=targets)
+        *_, result = iter_monte_carlo(with_tolerance(design, grade), trials, seed, cancel=cancel,
+                                      targets=targets, reports=1)
+        if result.cancelled:
+            return
         curve.yields.append(_pick(result, criterion))
         yield curve
 

@@ -249,28 +249,49 @@ def sample_ohms(design: Any, net: Network, rng: np.random.Generator, n_trials: i
         s_scale = model.shared_tolerance / (model.coverage_sigma if distribution == "gaussian" else 1.0)
         shared = s_scale * _standard(rng, (n_trials, 1), distribution)
     out: dict[str, np.ndarray] = {}
-    for part in net.parts:
-        unit = unit_ohms(part)
-        if model.model == "on-chip":
-            rel_area = unit / design.unit_r
-            sigma = area_law_sigma(model.area_coefficient, model.unit_width,
-                                   model.unit_length * rel_area)
-            err = sigma * _standard(rng, (n_trials, part.units), distribution)
-        else:
-            err = scale * _standard(rng, (n_trials, part.units), distribution)
-        values = unit * temperature_factor(model, part.part_id) * (1.0 + shared + err)
-        if np.any(values <= 0):
-            if model.model == "on-chip":
-                raise DesignError("mismatch.area_coefficient", "the area law's spread drew a "
-                                  f"resistor at or below 0 Ω ({part.part_id}); lower the area "
-                                  "coefficient or make the devices larger")
-            raise DesignError("mismatch.tolerance", "the spread drew a resistor at or below 0 Ω; "
-                              "lower the tolerance or use the uniform distribution")
-        if part.joined == "parallel":
-            combined = 1.0 / np.sum(1.0 / values, axis=1, keepdims=True)
-        elif part.joined == "series":
-            combined = np.sum(values, axis=1, keepdims=True)
-        else:
-            combined = values
-        out[part.part_id] = combined
+    parts = list(net.parts)
+    first = 0
+    while first < len(parts):  # runs of parts drawn alike, one draw each (same order as part by part)
+        kind = (parts[first].units, parts[first].joined)
+        last = first + 1
+        while last < len(parts) and (parts[last].units, parts[last].joined) == kind:
+            last += 1
+        run = parts[first:last]
+        _sample_run(run, design, model, rng, n_trials, scale, shared, distribution, out)
+        first = last
     return out
+
+
+def _sample_run(run: list, design: Any, model: MismatchModel, rng: np.random.Generator,
+                n_trials: int, scale: float, shared: np.ndarray | float, distribution: str,
+                out: dict[str, np.ndarray]) -> None:
+    """Values of consecutive parts of equal ``units`` and ``joined`` into ``out`` (shape
+    (n_trials, 1) each): one draw of shape (parts, n_trials, units), the same numbers as drawing
+    part by part."""
+    units, joined = run[0].units, run[0].joined
+    unit = [unit_ohms(part) for part in run]
+    coef = np.array([u * temperature_factor(model, part.part_id) for u, part in zip(unit, run,
+                                                                                   strict=True)])
+    if model.model == "on-chip":
+        sigma = np.array([area_law_sigma(model.area_coefficient, model.unit_width,
+                                         model.unit_length * (u / design.unit_r)) for u in unit])
+        err = sigma[:, None, None] * _standard(rng, (len(run), n_trials, units), distribution)
+    else:
+        err = scale * _standard(rng, (len(run), n_trials, units), distribution)
+    values = coef[:, None, None] * (1.0 + shared + err)
+    low = np.any(values <= 0, axis=(1, 2))
+    if np.any(low):
+        if model.model == "on-chip":
+            raise DesignError("mismatch.area_coefficient", "the area law's spread drew a "
+                              f"resistor at or below 0 Ω ({run[int(np.argmax(low))].part_id}); "
+                              "lower the area coefficient or make the devices larger")
+        raise DesignError("mismatch.tolerance", "the spread drew a resistor at or below 0 Ω; "
+                          "lower the tolerance or use the uniform distribution")
+    if joined == "parallel":
+        combined = 1.0 / np.sum(1.0 / values, axis=2, keepdims=True)
+    elif joined == "series":
+        combined = np.sum(values, axis=2, keepdims=True)
+    else:
+        combined = values
+    for part, v in zip(run, combined, strict=True):
+        out[part.part_id] = v

@@ -40,8 +40,13 @@ MAX_GENERAL_CODES = 1 << 20
 """Most codes the general engine takes per trial (20 bits); beyond, memory per trial is too big."""
 
 GENERAL_BATCH_ELEMENTS = 1 << 18
-"""(trial, code) pairs solved per general-engine batch: bounds working memory (~25 MB) and keeps a
-batch near 100 ms, so a cancel (checked between batches) returns within about 200 ms."""
+"""Most (trial, code) pairs solved per general-engine batch: bounds working memory (~25 MB)."""
+
+GENERAL_PIECE_WORK = 1 << 20
+"""Estimated work of one general-engine solve, (trial, code) pairs × :func:`work_nodes`: about
+20–60 ms here. Batches hold fewer trials when their work is larger, and a trial too big for one
+piece is solved in aligned blocks of codes; the cancel event is checked between pieces (and
+between the linearity figures of a long curve), so a cancel returns within 200 ms at any size."""
 
 EXACT_BATCH_TRIALS = 2048
 """Most trials per exact-engine batch: a batch takes well under 100 ms even at 24 bits, so a
@@ -59,7 +64,10 @@ BLOCK_DRAWS = 1 << 20
 
 @dataclass(frozen=True)
 class MonteCarloPlan:
-    """How a run will be done, known before it starts (memory is bounded by construction)."""
+    """How a run will be done, known before it starts (memory is bounded by construction).
+
+    ``piece_codes`` < ``n_codes``: each batch's codes are solved in aligned blocks of that many.
+    """
 
     engine: str
     trials: int
@@ -67,6 +75,7 @@ class MonteCarloPlan:
     n_codes: int
     envelope_codes: np.ndarray = field(repr=False)
     envelope_trials: int = 0
+    piece_codes: int = 0
 
     @property
     def n_batches(self) -> int:
@@ -75,9 +84,11 @@ class MonteCarloPlan:
 
     def describe(self) -> str:
         """One line for people, e.g. ``"general engine, 6250 batches of 16 trials × 65536 codes"``."""
+        pieces = (f" (solved {self.piece_codes} codes at a time)"
+                  if 0 < self.piece_codes < self.n_codes else "")
         return (f"{self.engine} engine, {self.n_batches} batch(es) of ≤ {self.batch_trials} trials × "
-                f"{self.n_codes} codes; INL envelope from the first {self.envelope_trials} trials "
-                f"at {self.envelope_codes.size} codes")
+                f"{self.n_codes} codes{pieces}; INL envelope from the first {self.envelope_trials} "
+                f"trials at {self.envelope_codes.size} codes")
 
 
 def check_run(trials: Any, seed: Any) -> tuple[int, int]:
@@ -124,15 +135,36 @@ def plan_run(design: Design, trials: int, engine: Engine = "auto", net: Network 
         if n_codes > MAX_GENERAL_CODES:
             raise DesignError("bits", f"{design.bits} bits need the general engine (switch or reference "
                               "resistance breaks superposition), which is limited to 20 bits")
-        batch = max(1, GENERAL_BATCH_ELEMENTS // n_codes)
+        pairs = max(1, min(GENERAL_BATCH_ELEMENTS, GENERAL_PIECE_WORK // work_nodes(net)))
+        batch = max(1, pairs // n_codes)
+        piece = n_codes if batch * n_codes <= pairs else 1 << ((pairs // batch).bit_length() - 1)
     else:
         batch = max(1, min(EXACT_BATCH_TRIALS, CHUNK_ELEMENTS // (design.bits + 1)))
+        piece = n_codes
     if n_codes <= ENVELOPE_MAX_CODES:
         env_codes = np.arange(n_codes, dtype=np.int64)
     else:
         env_codes = np.unique(np.linspace(0, n_codes - 1, ENVELOPE_MAX_CODES).round().astype(np.int64))
     env_trials = min(trials, max(1, ENVELOPE_ELEMENTS // env_codes.size))
-    return MonteCarloPlan(chosen, trials, min(batch, trials), n_codes, env_codes, env_trials)
+    return MonteCarloPlan(chosen, trials, min(batch, trials), n_codes, env_codes, env_trials,
+                          min(piece, n_codes))
+
+
+def work_nodes(net: Network) -> int:
+    """Weight of one (trial, code) pair in a general solve: the nodes eliminated per pair (a
+    resistor chain's interior is solved in closed form: it counts once), 16 per leg group (its
+    cumulative tables), at least 16 (a string's per-code Thevenin divider and its set-up)."""
+    chain_interior = sum(c.size - 1 for c in net.chains)
+    return max(16, len(net.unknown_nodes()) - chain_interior + 16 * len(net.groups))
+
+
+class _Cancelled(Exception):
+    """Raised between the pieces of a batch when the run's cancel event is set."""
+
+
+def _stop_if(cancel: Any) -> None:
+    if cancel is not None and cancel.is_set():
+        raise _Cancelled
 
 
 class _Sampler:
@@ -161,6 +193,8 @@ class _Sampler:
             block = self._block(index)
             pieces.append({k: v[offset:offset + count] for k, v in block.items()})
             pos += count
+        if len(pieces) == 1:
+            return pieces[0]
         return {k: np.concatenate([p[k] for p in pieces]) for k in pieces[0]}
 
 
@@ -183,11 +217,24 @@ def _feedback_factor(net: Network, ohms: dict[str, np.ndarray]) -> np.ndarray | 
     return ohms["feedback"] / net.output.feedback_ohms
 
 
+def _general_vout(net: Network, ohms: dict[str, np.ndarray], piece: int, cancel: Any
+                  ) -> np.ndarray:
+    """Output voltages of a batch at every code, shape (n_trials, n_codes), solved in aligned
+    blocks of ``piece`` codes with a cancel check before each."""
+    if piece >= net.n_codes:
+        return solve(net, ohms=ohms).vout
+    blocks = []
+    for start in range(0, net.n_codes, piece):
+        _stop_if(cancel)
+        blocks.append(solve(net, ohms=ohms, codes=np.arange(start, start + piece)).vout)
+    return np.concatenate(blocks, axis=-1)
+
+
 def _run_batch(design: Design, net: Network, ohms: dict[str, np.ndarray], engine: str,
-               env_codes: np.ndarray, env_rows: int, line: str
-               ) -> tuple[dict[str, np.ndarray], np.ndarray]:
+               env_codes: np.ndarray, env_rows: int, line: str, piece: int = 0,
+               cancel: Any = None) -> tuple[dict[str, np.ndarray], np.ndarray]:
     """Per-trial figures and the INL at the envelope codes of the batch's first ``env_rows``
-    trials (shape (env_rows, n_env))."""
+    trials (shape (env_rows, n_env)); raises ``_Cancelled`` between pieces when cancelled."""
     fb = _feedback_factor(net, ohms)
     if engine == "exact":
         v = solve(net, ohms=ohms, codes=mc_exact.basis_codes(design.bits)).vout * fb
@@ -196,10 +243,15 @@ def _run_batch(design: Design, net: Network, ohms: dict[str, np.ndarray], engine
         figures = mc_exact.statistics(w)
         inl = mc_exact.inl_at(w[:env_rows], env_codes, line)
     else:
-        v = solve(net, ohms=ohms).vout * fb
+        v = _general_vout(net, ohms, piece or net.n_codes, cancel) * fb
+        long = piece and piece < net.n_codes  # a long curve: checks between its figures too
         v0 = v[:, 0]
         inl_e = linearity.inl_endpoint(v)
+        if long:
+            _stop_if(cancel)
         inl_b = linearity.inl_bestfit(v)
+        if long:
+            _stop_if(cancel)
         steps = linearity.dnl(v)
         figures = {
             "max_abs_inl_endpoint": np.max(np.abs(inl_e), axis=-1),
@@ -265,8 +317,14 @@ def iter_monte_carlo(design: Design, trials: int, seed: int | None = None, cance
             return
         n = min(plan.batch_trials, trials - start)
         env_rows = max(0, min(n, plan.envelope_trials - start))
-        figures, inl = _run_batch(design, net, sampler.take(start, n), plan.engine,
-                                  plan.envelope_codes, env_rows, targets.inl_line)
+        try:
+            figures, inl = _run_batch(design, net, sampler.take(start, n), plan.engine,
+                                      plan.envelope_codes, env_rows, targets.inl_line,
+                                      plan.piece_codes, cancel)
+        except _Cancelled:
+            result.cancelled = True
+            yield result
+            return
         result.store(start, figures, inl)
         if result.done - last_report >= every and result.done < trials:
             last_report = result.done

@@ -240,8 +240,8 @@ def solve(
         return solve_selected(net, ohms, codes, method, keep_nodes)
     st = _Stamps(net, ohms)
     _check_connected(net, st.nodes)
-    full_range = codes is None
     codes = np.arange(net.n_codes) if codes is None else np.asarray(codes, dtype=np.int64)
+    block = _aligned_block(codes)
     linear = st.superposition_holds()
     if method == "superposition" and not linear:
         raise NetworkError(net.output.node, "superposition is not exact for this network: a switch "
@@ -255,10 +255,10 @@ def solve(
     leg_bits = getattr(net.decode, "leg_bits", None)
     shifts = getattr(net.decode, "level_shifts", ())
     groups_fit = len(shifts) == len(net.groups) and not (net.groups and trial_shape)
-    if (full_range and leg_bits is not None and st.n > 0 and per_code * len(codes) <= TENSOR_ELEMENTS
+    if (block and leg_bits is not None and st.n > 0 and per_code * len(codes) <= TENSOR_ELEMENTS
             and not (use_super and trial_shape) and groups_fit):
         return _solve_bit_tensor(st, leg_bits, len(codes), trial_shape, probe_node, plan, keep_nodes,
-                                 use_super, shifts)
+                                 use_super, shifts, first=int(codes[0]))
     step = max(1, CHUNK_ELEMENTS // per_code)
     pieces = []
     for start in range(0, len(codes), step):
@@ -284,9 +284,18 @@ def solve(
     )
 
 
+def _aligned_block(codes: np.ndarray) -> bool:
+    """True when ``codes`` are 2^k consecutive codes starting at a multiple of 2^k (all codes, or
+    one aligned piece of them: the bit-tensor layout applies, its high bits constant)."""
+    n = codes.size
+    return (n > 1 and n & (n - 1) == 0 and int(codes[0]) % n == 0
+            and int(codes[-1]) - int(codes[0]) == n - 1 and bool(np.all(np.diff(codes) == 1)))
+
+
 def _solve_bit_tensor(st: _Stamps, leg_bits, n_codes, trial_shape, probe_node, plan, keep_nodes,
-                      use_super=False, level_shifts=()):
-    """All codes with one array axis per code bit.
+                      use_super=False, level_shifts=(), first=0):
+    """All codes (or the aligned block of ``n_codes`` from ``first``) with one array axis per code
+    bit; a bit above the block is constant in it and enters as a scalar drive.
 
     Bit b of the code is axis ``N − 1 − b`` of a (2,)*N tensor (so a C-order reshape gives code
     order). A value that depends on few bits stays small: early pivots of the elimination touch
@@ -306,11 +315,18 @@ def _solve_bit_tensor(st: _Stamps, leg_bits, n_codes, trial_shape, probe_node, p
     cols = []
     for b in leg_bits:
         shape = [1] * n_bits
+        if b >= n_bits:
+            cols.append(np.full(shape, float((first >> b) & 1)))
+            continue
         shape[n_bits - 1 - b] = 2
         cols.append(np.array([0.0, 1.0]).reshape(shape))
     for shift in level_shifts:  # group levels follow the legs, as in ``decode``
         top = n_bits - shift
-        cols.append(np.arange(2**top).reshape((2,) * top + (1,) * shift))
+        base = first >> shift  # the level of the block's first code (0 for all codes)
+        if top <= 0:
+            cols.append(np.full([1] * n_bits, base, dtype=np.int64))
+            continue
+        cols.append((base + np.arange(2**top)).reshape((2,) * top + (1,) * shift))
     full = prefix + (2,) * n_bits
     if use_super:
         volts = _solve_superposition(st, None, (), probe_node, plan, tensor_cols=cols)

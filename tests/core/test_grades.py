@@ -72,3 +72,18 @@ def test_curve_stops_between_grades_when_cancelled():
         seen.append(len(curve.yields))
         cancel.set()
     assert seen == [1]
+
+
+def test_a_cancel_stops_the_yield_curve_inside_a_grade_run():
+    class SetAfterFirstGrade:  # a cancel event set while the second grade's run is going
+        calls = 0
+
+        def is_set(self) -> bool:
+            self.calls += 1
+            return self.calls > 3
+
+    d = Design(topology="r2r-voltage", bits=6, ron_high=40.0, ron_low=25.0)
+    curves = list(iter_yield_vs_tolerance(d, [0.001, 0.01, 0.05], trials=200, seed=1,
+                                          cancel=SetAfterFirstGrade()))
+    assert len(curves) == 1
+    assert len(curves[-1].yields) == 1

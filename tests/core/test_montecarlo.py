@@ -187,3 +187,33 @@ def test_exact_engine_handles_24_bits():
     assert r.engine == "exact"
     assert r.envelope_codes[-1] == 2**24 - 1
     assert np.all(r.max_abs_dnl > 1.0)  # 0.1 % parts are far too loose for 24 bits
+
+
+class _Countdown:
+    """A cancel event that turns set at its ``n``-th check."""
+
+    def __init__(self, n: int) -> None:
+        self.calls, self.n = 0, n
+
+    def is_set(self) -> bool:
+        self.calls += 1
+        return self.calls >= self.n
+
+
+def test_a_trial_solved_in_pieces_gives_the_same_figures_and_cancels_inside_a_batch(monkeypatch):
+    d = Design(topology="r2r-voltage", bits=8, ron_high=40.0, ron_low=25.0)
+    whole = monte_carlo(d, 30, seed=3)
+    monkeypatch.setattr("rungwise.core.montecarlo.GENERAL_PIECE_WORK", 64 * 16)
+    plan = plan_run(d, 30)
+    assert (plan.batch_trials, plan.piece_codes) == (1, 64)
+    assert "64 codes at a time" in plan.describe()
+    pieces = monte_carlo(d, 30, seed=3)
+    for key in ("max_abs_inl_endpoint", "max_abs_inl_bestfit", "max_abs_dnl", "offset"):
+        np.testing.assert_allclose(getattr(pieces, key), getattr(whole, key), rtol=1e-12)
+    # checks per batch: one before it, one per piece (4), two between the linearity figures;
+    # the 10th check is the second piece of the second batch
+    cancel = _Countdown(10)
+    runs = list(iter_monte_carlo(d, 30, seed=3, cancel=cancel))
+    assert runs[-1].cancelled
+    assert runs[-1].done == 1
+    assert cancel.calls == 10

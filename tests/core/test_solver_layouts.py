@@ -26,11 +26,21 @@ def test_bit_tensor_layout_equals_per_code_layout(topology, output, bits):
     ohms = {p.part_id: p.ohms * (1 + 0.01 * rng.standard_normal((3, 1))) for p in net.parts}
     for kw in ({}, {"ohms": ohms}):
         tensor = solve(net, **kw)  # all codes: bit-tensor layout
-        flat = solve(net, codes=np.arange(net.n_codes), **kw)  # explicit codes: per-code layout
+        backwards = np.arange(net.n_codes)[::-1]  # not an aligned block: per-code layout
+        flat = solve(net, codes=backwards, **kw)
         assert tensor.vout.shape == flat.vout.shape == ((3, net.n_codes) if kw else (net.n_codes,))
         for name in ("vout", "rout", "iref"):
-            np.testing.assert_allclose(getattr(tensor, name), getattr(flat, name), rtol=1e-12,
-                                       atol=1e-18)
+            np.testing.assert_allclose(getattr(tensor, name), getattr(flat, name)[..., ::-1],
+                                       rtol=1e-12, atol=1e-18)
+        # an aligned block of codes (the high bits constant) takes the tensor layout too
+        for size, first in ((8, 8), (16, 2**bits - 16), (4, 0)):
+            if size > net.n_codes:
+                continue
+            block = solve(net, codes=np.arange(first, first + size), keep_nodes=True, **kw)
+            for name in ("vout", "rout", "iref"):
+                np.testing.assert_allclose(getattr(block, name),
+                                           getattr(flat, name)[..., ::-1][..., first:first + size],
+                                           rtol=1e-12, atol=1e-18)
 
 
 @pytest.mark.parametrize(("topology", "output"), VARIANTS)
@@ -84,3 +94,27 @@ def test_segment_levels_on_the_bit_tensor_equal_plain_legs(bits, m, output):
                                    atol=1e-18)
     for node, v in plain.node_voltages.items():
         np.testing.assert_allclose(tensor.node_voltages[node], v, rtol=1e-12, atol=1e-15)
+
+
+def test_an_aligned_block_of_codes_takes_the_bit_tensor_layout(monkeypatch):
+    import rungwise.core.solve as solver
+
+    calls = []
+    real = solver._solve_bit_tensor
+    monkeypatch.setattr(solver, "_solve_bit_tensor", lambda *a, **k: calls.append(k) or real(*a, **k))
+    net = build(Design(bits=6, ron_high=40, ron_low=25))
+    solve(net, codes=np.arange(16, 32))
+    assert calls[-1]["first"] == 16
+    solve(net, codes=np.arange(8, 24))  # 16 codes not starting at a multiple of 16
+    solve(net, codes=np.array([0, 1, 3, 2]))
+    assert len(calls) == 1
+    # segment levels inside a block: constant (high block) or counting from the block's level
+    d = Design(topology="segmented", bits=7, thermometer_bits=3, ron_high=40, ron_low=25, load_r=5e4)
+    seg = build(d)
+    flat = solve(seg, codes=np.arange(seg.n_codes)[::-1], keep_nodes=True)
+    for first, size in ((64, 64), (96, 16), (32, 8)):
+        block = solve(seg, codes=np.arange(first, first + size), keep_nodes=True)
+        assert calls[-1]["first"] == first
+        for name in ("vout", "rout", "iref"):
+            np.testing.assert_allclose(getattr(block, name),
+                                       getattr(flat, name)[::-1][first:first + size], rtol=1e-12)
