@@ -255,9 +255,21 @@ def _output_elements(net: Network, volts, vout):
 
 def _ordered(best: dict[str, list], net: Network) -> list[ElementPower]:
     """``best`` rows as elements: parts in display order, then switches, ``ref_r``, ``load``."""
-    order = {pid: i for i, pid in enumerate(PartList.of(net.parts).ids())}
-    names = sorted(best, key=lambda n: (KIND_ORDER[best[n][0]], order.get(n.split(":")[-1], 0)))
+    position = _positions(net)
+    names = sorted(best, key=lambda n: (KIND_ORDER[best[n][0]], position(n)))
     return [ElementPower(n, *best[n]) for n in names]
+
+
+def _positions(net: Network):
+    """Display position of the part an element name refers to (``switch:<id>`` → ``<id>``; 0
+    when it is no part), without a table of every part id (strings have 65,536)."""
+    parts = PartList.of(net.parts)
+
+    def position(name: str) -> int:
+        i = parts.index_of(name.split(":")[-1])
+        return 0 if i is None else i
+
+    return position
 
 
 def _array_worst_case(net: Network, solved: Solution | None):
@@ -285,12 +297,11 @@ def _array_worst_case(net: Network, solved: Solution | None):
     total, fed = _track(best, net, codes, drive, volts, sol.vout)
     plain = _ordered(best, net)
     # group legs go where their parts are listed; the rest keep the plain order
-    order = {pid: i for i, pid in enumerate(PartList.of(net.parts).ids())}
-    parts = [(order.get(e.name, 0), e) for e in plain if e.kind == "part"]
-    parts += [(order.get(f"{b.prefix}0", 0), b) for b in blocks if b.kind == "part"]
-    switches = [(order.get(e.name.split(":")[-1], 0), e) for e in plain if e.kind == "switch"]
-    switches += [(order.get(f"{b.prefix.split(':')[-1]}0", 0), b) for b in blocks
-                 if b.kind == "switch"]
+    position = _positions(net)
+    parts = [(position(e.name), e) for e in plain if e.kind == "part"]
+    parts += [(position(f"{b.prefix}0"), b) for b in blocks if b.kind == "part"]
+    switches = [(position(e.name), e) for e in plain if e.kind == "switch"]
+    switches += [(position(f"{b.prefix}0"), b) for b in blocks if b.kind == "switch"]
     rest = [e for e in plain if e.kind not in ("part", "switch")]
     ordered = ([x for _, x in sorted(parts, key=lambda t: t[0])]
                + [x for _, x in sorted(switches, key=lambda t: t[0])] + rest)

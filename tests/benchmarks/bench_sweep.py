@@ -13,6 +13,8 @@ workload timed in the same run, which moves less with the machine and its load):
 * ``string16``: a 16-bit string (tap switch, finite load) solved at all 65,536 codes with INL/DNL
   (``solve`` + linearity; target < 100 ms), and the whole ``evaluate`` (65,536 parts held as
   arrays, every power figure in closed form);
+* ``segmented16``: 16-bit segmented designs, M = 0 … 16, solve + INL/DNL on the bit-tensor layout
+  (target < 50 ms) against the per-code layout of the same solver, and the whole ``evaluate``;
 * baselines: the string's tap table by the general sparse LU path (``selector.tap_table(...,
   "sparse")``, one solve per tap, timed on a 10-bit string and scaled by n²) and the dense nodal
   matrix inverse of a 12-bit string (``numpy.linalg.inv``, scaled by n³). The largest relative
@@ -36,6 +38,11 @@ from rungwise.core.topologies import build
 
 SWEEP_TARGET_S = 2.0
 STRING_TARGET_MS = 100.0
+SEGMENTED_TARGET_MS = 50.0
+
+
+def curves(v):
+    return linearity.inl_endpoint(v), linearity.inl_bestfit(v), linearity.dnl(v)
 
 
 def best_of(fn, repeat: int):
@@ -119,6 +126,23 @@ def main() -> None:
           f"{STRING_TARGET_MS:.0f} ms: {'met' if t_eng * 1e3 < STRING_TARGET_MS else 'MISSED'}); "
           f"whole evaluate (65,536 parts, power figures in closed form): "
           f"{t_eval * 1e3:.0f} ms")
+
+    # 16-bit segmented designs: the bit-tensor layout (group level on the top bits' axes) against
+    # the per-code layout of the same solver (explicit codes), same run
+    for m in (0, 3, 8, 12, 16):
+        ds = Design(topology="segmented", bits=16, thermometer_bits=m, vref=2.5, unit_r=10e3,
+                    ron_high=40.0, ron_low=25.0, load_r=100e3)
+        net = build(ds)
+        codes = np.arange(net.n_codes)
+        t_seg, c_seg, load = wall_and_cpu(lambda net=net: curves(solve(net).vout), args.repeat)
+        t_flat, _ = best_of(lambda net=net, codes=codes: curves(solve(net, codes=codes).vout), 1)
+        diff = float(np.max(np.abs(solve(net).vout - solve(net, codes=codes).vout)))
+        t_ev, c_ev, _ = wall_and_cpu(lambda ds=ds: evaluate(ds), 1)
+        print(f"16-bit segmented M={m:2d}: solve + INL/DNL wall {t_seg * 1e3:.1f} ms, CPU "
+              f"{c_seg * 1e3:.1f} ms (target < {SEGMENTED_TARGET_MS:.0f} ms: "
+              f"{'met' if t_seg * 1e3 < SEGMENTED_TARGET_MS else 'MISSED'}); per-code layout "
+              f"{t_flat * 1e3:.0f} ms (×{t_flat / t_seg:.1f}), max |Δvout| {diff:.1e} V; whole "
+              f"evaluate wall {t_ev * 1e3:.0f} ms, CPU {c_ev * 1e3:.0f} ms; load {load:.2f}")
 
     # baseline 1: general sparse path, one LU solve per tap (10 bits, scaled by n²)
     d10 = d16.replace(bits=10)
