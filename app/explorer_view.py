@@ -207,9 +207,6 @@ class ExplorerPane(QWidget):
         designs = list(designs)
         if designs != self._designs:
             self._designs = designs
-            self.combo_candidate.clear()
-            for d in designs:
-                self.combo_candidate.addItem(d.label)
             if self.result is not None:
                 self.label_status.setText("Candidates changed: Run to update (computed points are "
                                           "reused)")
@@ -271,17 +268,29 @@ class ExplorerPane(QWidget):
                                                 f" ({tag})"))
 
     # --- results -------------------------------------------------------------------------------
+    def _show(self, result: SweepResult) -> None:
+        """Keep ``result`` and offer its points: the point list names the swept candidates (they
+        may differ from the compared ones after an edit)."""
+        self.result = result
+        labels = [d.label for d in result.candidates]
+        shown = [self.combo_candidate.itemText(i) for i in range(self.combo_candidate.count())]
+        if labels != shown:
+            row = self.combo_candidate.currentIndex()
+            self.combo_candidate.clear()
+            self.combo_candidate.addItems(labels)
+            self.combo_candidate.setCurrentIndex(min(max(row, 0), len(labels) - 1))
+        self.replot()
+
     def _on_progress(self, channel: str, p: Progress) -> None:
         if channel == CHANNEL:
             self.progress.setValue(p.done)
             if p.partial is not None:
-                self.result = p.partial
-                self.replot()
+                self._show(p.partial)
 
     def _on_finished(self, channel: str, result: SweepResult) -> None:
         if channel != CHANNEL:
             return
-        self.result = result
+        self._show(result)
         skipped = sum(1 for p in result.points if p.design is None)
         self.label_status.setText(f"{result.done} points" + (f" ({skipped} not applicable)"
                                                             if skipped else ""))

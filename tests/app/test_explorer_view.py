@@ -138,3 +138,23 @@ def test_a_run_with_yields_shows_the_monotonic_yield(qtbot, pane):
     pane.combo_metric.setCurrentIndex(pane.combo_metric.findData("n_resistors"))
     _run(qtbot, pane)  # a figure the user chose stays chosen
     assert pane.combo_metric.currentData() == "n_resistors"
+
+
+def test_point_list_names_the_swept_candidates_after_the_comparison_changes(qtbot, pane):
+    # found by the soak run: after an edit the list showed the new candidates while the points
+    # came from the sweep, so "Add as candidate" added another candidate's design than the one named
+    pane.set_candidates([LADDER, SEG])
+    pane.spin_from.setValue(3)
+    pane.spin_to.setValue(4)
+    _run(qtbot, pane)
+    other = Design(topology="string", bits=5, name="String")
+    pane.set_candidates([other])
+    assert [pane.combo_candidate.itemText(i) for i in range(pane.combo_candidate.count())] == [
+        "Ladder", "Segmented"]
+    pane.combo_candidate.setCurrentIndex(1)
+    pane.spin_value.setValue(4)
+    with qtbot.waitSignal(pane.candidate_requested) as blocker:
+        pane.button_add.click()
+    design = blocker.args[0]
+    assert design.name == "Segmented (N=4, M=2)"
+    assert design.replace(name="") == SEG.replace(bits=4, name="")
