@@ -45,6 +45,10 @@ from .window_texts import ABOUT_HTML, APP_TITLE
 BUSY_SHOW_MS = 250
 """Progress and Cancel appear when a computation runs longer than this, ms."""
 
+STOPPED_TEXT = ("Stopped: the curves and figures are of earlier values; change a value or press F5 "
+                "(Compute again)")
+"""Status line after a Stop that left results of earlier values on screen."""
+
 FILE_FILTER = "Rungwise designs (*.rwd.toml *.toml);;All files (*)"
 """File dialog filter for design files."""
 
@@ -185,7 +189,8 @@ class MainWindow(QMainWindow):
         action(m, "&Copy figures for a spreadsheet", self.copy_tsv, "Ctrl+Shift+C", "action_copy_tsv")
         action(m, "Copy figures as &text", self.copy_text, "Ctrl+Alt+C", "action_copy_text")
         m.addSeparator()
-        action(m, "&Stop computing", self.live.cancel, "Esc", "action_stop")
+        action(m, "&Stop computing", self.stop_computing, "Esc", "action_stop")
+        action(m, "Compute a&gain", self.compute_again, "F5", "action_compute")
 
         m = bar.addMenu("&Candidate")
         self.action_add = action(m, "&Add a network", lambda: self.model.state.add(), "Ctrl+T",
@@ -228,7 +233,7 @@ class MainWindow(QMainWindow):
         self.live.busy_changed.connect(self._on_busy)
         self.live.progress_changed.connect(self._on_progress)
         self.live.failed.connect(lambda msg: self.show_problem(f"The computation failed: {msg}"))
-        self.cancel_button.clicked.connect(self.live.cancel)
+        self.cancel_button.clicked.connect(self.stop_computing)
         self.splitter.splitterMoved.connect(self._on_splitter_moved)
 
     def _on_splitter_moved(self, *_args) -> None:
@@ -310,6 +315,18 @@ class MainWindow(QMainWindow):
         self.progress.setMaximum(total)
         self.progress.setValue(done)
         self.progress.setFormat(f"candidate {done} of {total}")
+
+    def stop_computing(self) -> None:
+        """Stop the running computation; when that leaves curves and figures of earlier values,
+        say so (they stay until a value changes or Compute again)."""
+        self.live.cancel()
+        latest = self.live.latest
+        if latest is None or [r.design for r in latest.results] != self.model.state.designs:
+            self.status_text.setText(STOPPED_TEXT)
+
+    def compute_again(self) -> None:
+        """Compute the shown candidates now (after a Stop)."""
+        self.live.request(self.model.state.designs, now=True)
 
     # --- candidate actions ---------------------------------------------------------------------------
     def _rename_current(self) -> None:
