@@ -3,11 +3,14 @@ offered back when the program starts after a crash (no Qt).
 
 Each running program writes ``autosave-<pid>.toml`` (a normal design file; the file it was opened
 from is kept in ``[settings] autosave_of``). A clean exit removes it. At start, copies whose process
-is no longer running are *orphans*: the comparison of a program that stopped without closing.
+is no longer running are *orphans*: the comparison of a program that stopped without closing. A
+copy that cannot be read is never offered: it is renamed ``damaged-<pid>.toml`` (kept for a person
+to look at, never offered again) and listed in :attr:`Autosave.set_aside` with the reason.
 """
 
 from __future__ import annotations
 
+import contextlib
 import os
 import re
 from dataclasses import dataclass
@@ -21,6 +24,9 @@ SOURCE_KEY = "autosave_of"
 """``[settings]`` key holding the path of the file the comparison came from."""
 
 _NAME = re.compile(r"^autosave-(\d+)\.toml$")
+
+DAMAGED_PREFIX = "damaged-"
+"""Name prefix of an unreadable copy set aside (it replaces ``autosave-``)."""
 
 
 def _running(pid: int) -> bool:
@@ -55,6 +61,8 @@ class Autosave:
     def __init__(self, folder: Path, pid: int | None = None) -> None:
         self.folder = Path(folder)
         self.path = self.folder / f"autosave-{os.getpid() if pid is None else pid}.toml"
+        self.set_aside: list[tuple[Path, str]] = []
+        """Unreadable copies found by :meth:`orphans`: where each was moved, and why it was refused."""
 
     def write(self, doc: DesignFile, source: Path | None) -> None:
         """Write the crash copy atomically (errors are swallowed: a copy must never stop work)."""
@@ -75,7 +83,7 @@ class Autosave:
     def orphans(self) -> list[Recovered]:
         """Readable copies left by programs that are no longer running, newest first.
 
-        Unreadable copies are removed: nothing can be restored from them.
+        Unreadable copies are renamed ``damaged-<pid>.toml`` and added to :attr:`set_aside`.
         """
         found = []
         if not self.folder.is_dir():
@@ -86,8 +94,8 @@ class Autosave:
                 continue
             try:
                 doc = designfile.load(p)
-            except RungwiseError:
-                p.unlink(missing_ok=True)
+            except RungwiseError as exc:
+                self._set_aside(p, str(exc))
                 continue
             settings = dict(doc.settings)
             source = settings.pop(SOURCE_KEY, None)
@@ -95,3 +103,13 @@ class Autosave:
             found.append(Recovered(doc, Path(source) if isinstance(source, str) else None, p))
         found.sort(key=lambda r: r.copy.stat().st_mtime, reverse=True)
         return found
+
+    def _set_aside(self, copy: Path, reason: str) -> None:
+        target = copy.with_name(DAMAGED_PREFIX + copy.name.removeprefix("autosave-"))
+        try:
+            copy.replace(target)
+        except OSError:  # cannot move it: remove it so it is not refused again at every start
+            with contextlib.suppress(OSError):
+                copy.unlink(missing_ok=True)
+            target = copy
+        self.set_aside.append((target, reason))

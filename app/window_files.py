@@ -172,11 +172,18 @@ class FileFeatures(QObject):
         self.write_crash_copy()
 
     def offer_recovery(self) -> None:
-        """Ask whether to restore the newest crash copy (others are kept for a later start)."""
+        """Ask whether to restore the newest crash copy (others are kept for a later start); say
+        which copies could not be read and where they were set aside."""
         found = self.orphans()
-        if not found:
-            return
-        newest = found[0]
+        if found:
+            self._ask_to_restore(found[0])
+        aside = self.autosave.set_aside if self.autosave is not None else []
+        for path, reason in aside:
+            self.window.show_problem(f"A copy of unsaved work could not be read and was not "
+                                     f"restored:\n{reason}\nIt is kept as {path}.")
+        aside.clear()
+
+    def _ask_to_restore(self, newest: Recovered) -> None:
         where = f" of {newest.source.name}" if newest.source else ""
         answer = QMessageBox.question(
             self.window, "Restore unsaved work",

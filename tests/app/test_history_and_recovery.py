@@ -152,13 +152,19 @@ def test_copies_of_running_programs_and_our_own_are_not_orphans(tmp_path: Path):
     assert Autosave(tmp_path).orphans() == []
 
 
-def test_unreadable_copy_is_dropped_and_discard_removes_ours(tmp_path: Path):
+def test_unreadable_copy_is_set_aside_with_its_reason_and_discard_removes_ours(tmp_path: Path):
     pid = _dead_pid()
     (tmp_path / f"autosave-{pid}.toml").write_text("damaged = [")
     mine = Autosave(tmp_path)
     assert mine.orphans() == []
     assert not (tmp_path / f"autosave-{pid}.toml").exists()
+    kept = tmp_path / f"damaged-{pid}.toml"
+    assert kept.read_text() == "damaged = ["  # kept as it was, for a person to look at
+    assert [p for p, _why in mine.set_aside] == [kept]
+    assert str(tmp_path / f"autosave-{pid}.toml") in mine.set_aside[0][1]
+    assert mine.orphans() == []  # not offered (or refused) again
+    assert len(mine.set_aside) == 1
     mine.write(DesignFile(demo_candidates()), None)
     assert mine.path.exists()
     mine.discard()
-    assert list(tmp_path.iterdir()) == []
+    assert list(tmp_path.iterdir()) == [kept]
