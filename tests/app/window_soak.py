@@ -1,0 +1,557 @@
+"""A seeded random run of the window's user actions (the soak run), shared by its tests.
+
+:class:`Soak` drives the real window through its widgets and menu actions — typing into fields,
+choosing from lists, the candidate and edit menus, the statistics and trade-off views — and checks
+after every action that the comparison is consistent. :class:`Guard` turns any Python exception
+(``sys.excepthook``) or Qt warning (``qInstallMessageHandler``) into a failure of the action that
+caused it. Every action is logged; a failure reports the seed and the log so it can be replayed.
+"""
+
+from __future__ import annotations
+
+import random
+import sys
+import time
+import traceback
+from collections import Counter
+from collections.abc import Callable
+
+from PySide6.QtCore import QEvent, Qt, QtMsgType, qInstallMessageHandler
+from PySide6.QtGui import QAction, QKeyEvent
+from PySide6.QtWidgets import QApplication, QComboBox, QLineEdit, QMessageBox, QSpinBox
+
+from rungwise.app.binding import display_text
+from rungwise.app.edit_history import UNDO_LIMIT
+from rungwise.app.main_window import STOPPED_TEXT
+from rungwise.core.design import FIELDS, Design
+from rungwise.core.errors import DesignError
+from rungwise.core.targets import MAX_SEED
+
+GOOD = {
+    "vref": ["3.3", "2.5 V", "5V", "-1.2", "1.024", "10"],
+    "unit_r": ["4k7", "10 kΩ", "1k", "22k", "100", "2M2", "47 kohm"],
+    "ron_high": ["0", "40", "25 Ω", "1k", "0.5"],
+    "ron_low": ["0", "25", "12.5", "100m"],
+    "ref_r": ["0", "1", "50 Ω", "2k"],
+    "load_r": ["open", "100k", "1M", "10 kΩ", "inf"],
+    "gain": ["1", "2", "-1", "0.5"],
+    "feedback_r": ["", "10k", "4k7", "default"],
+    "load_c": ["0", "10p", "1n", "100 pF"],
+    "temperature_c": ["27", "-40", "85", "125"],
+    "bandwidth": ["1M", "10k", "100 kHz", "20e3"],
+}
+"""Entries each field accepts (a valid design follows)."""
+
+BAD = ["", "abc", "-5k", "1e30", "nan", "0", "--1", "4k7k", "1 %%", "-inf", "1e400", "  ", "½"]
+"""Entries most fields refuse (some are valid for a few fields: the design decides)."""
+
+NAMES = ["Option A", "", "  padded  ", "Ladder Ω", "x" * 60, "Segmented 6+6", "Option A"]
+"""Names typed when renaming a candidate."""
+
+EXPECTED_MESSAGES = ("Four candidates are compared already",)
+"""Message boxes a person may legitimately meet during the run (others are failures)."""
+
+LEFT = Qt.MouseButton.LeftButton
+
+PLATFORM_NOTES = ("This plugin does not support propagateSizeHints()",)
+"""Qt messages of the offscreen test platform itself (a window's size hints have nowhere to go
+without a screen), not of the program; every other warning fails the run."""
+
+WARNING_TYPES = {QtMsgType.QtWarningMsg, QtMsgType.QtCriticalMsg, QtMsgType.QtFatalMsg}
+
+
+def type_text(qtbot, widget, text: str) -> None:
+    """Type ``text`` into ``widget`` key by key (QTest types ASCII only; other characters, such as
+    Ω or µ, arrive as key events carrying the text, as an input method delivers them)."""
+    run = ""
+    for ch in text + "\0":
+        if ch.isascii() and ch != "\0":
+            run += ch
+            continue
+        if run:
+            qtbot.keyClicks(widget, run)
+            run = ""
+        if ch != "\0":
+            for kind in (QEvent.Type.KeyPress, QEvent.Type.KeyRelease):
+                QApplication.sendEvent(widget, QKeyEvent(kind, 0, Qt.KeyboardModifier.NoModifier, ch))
+
+
+class Guard:
+    """Collects Python exceptions and Qt warnings while active (a context manager)."""
+
+    def __init__(self) -> None:
+        self.problems: list[str] = []
+        self._old_hook = None
+        self._old_handler = None
+
+    def __enter__(self) -> Guard:
+        self._old_hook = sys.excepthook
+        sys.excepthook = self._hook
+        self._old_handler = qInstallMessageHandler(self._message)
+        return self
+
+    def __exit__(self, *exc) -> None:
+        sys.excepthook = self._old_hook
+        qInstallMessageHandler(self._old_handler)
+
+    def _hook(self, kind, value, tb) -> None:
+        self.problems.append("exception: " + "".join(traceback.format_exception(kind, value, tb)))
+
+    def _message(self, kind, context, text) -> None:
+        if kind in WARNING_TYPES and text not in PLATFORM_NOTES:
+            self.problems.append(f"Qt {kind.name}: {text}")
+        if self._old_handler is not None:
+            self._old_handler(kind, context, text)
+
+
+class Soak:
+    """Random user actions on ``window`` from ``seed``; :meth:`run` does ``n`` of them."""
+
+    def __init__(self, window, qtbot, seed: int) -> None:
+        self.w, self.qtbot, self.seed = window, qtbot, seed
+        self.rng = random.Random(seed)
+        self.pane = window.pane
+        self.inputs = window.pane.binder.inputs
+        self.stats = window.views["stats_pane"]
+        self.explorer = window.views["explorer_pane"]
+        self.log: list[str] = []
+        self.counts: Counter[str] = Counter()
+        self.seconds: Counter[str] = Counter()
+        self.messages: Counter[str] = Counter()
+        self.past: list[tuple] = []   # what undo should bring back, oldest first
+        self.future: list[tuple] = []  # what redo should bring back
+        self.actions: list[tuple[str, int, Callable[[], str]]] = [
+            ("type", 30, self.type_entry),
+            ("spin", 8, self.spin_entry),
+            ("choose", 8, self.choose),
+            ("add", 4, self.add),
+            ("duplicate", 3, self.duplicate),
+            ("remove", 5, self.remove),
+            ("rename", 3, self.rename),
+            ("select", 5, self.select),
+            ("undo", 6, self.undo),
+            ("redo", 4, self.redo),
+            ("tab", 4, self.tab),
+            ("statistics", 2, self.statistics),
+            ("sweep", 3, self.sweep),
+            ("inl line", 1, self.inl_line),
+            ("stop", 2, self.stop),
+            ("compute", 1, self.compute),
+            ("seed", 1, self.seed_entry),
+        ]
+
+    # --- running --------------------------------------------------------------------------------
+    @property
+    def state(self):
+        return self.w.model.state
+
+    def run(self, n: int, guard: Guard) -> None:
+        """Do ``n`` random actions; on any failure raise AssertionError with the seed and the log."""
+        names = [a[0] for a in self.actions]
+        weights = [a[1] for a in self.actions]
+        fns = {a[0]: a[2] for a in self.actions}
+        first = self.rng.sample(names, len(names))  # every kind once, then at random
+        for i in range(n):
+            name = first[i] if i < len(first) else self.rng.choices(names, weights)[0]
+            before = self.state.candidates
+            self.log.append(f"{i}: {name}")
+            start = time.perf_counter()
+            try:
+                self.say(fns[name]())
+                took = time.perf_counter() - start
+                self.say(f"[{took * 1e3:.0f} ms]")
+                self.counts[name] += 1
+                self.seconds[name] += took
+                if name not in {"undo", "redo"} and self.state.candidates != before:
+                    self._recorded(before)
+                self.dismiss_messages()
+                self.check_consistent()
+            except Exception as exc:  # add the replay information to any failure
+                self.say("FAILED")
+                raise AssertionError(self.report(f"{type(exc).__name__}: {exc}")) from exc
+            if guard.problems:
+                raise AssertionError(self.report("\n".join(guard.problems)))
+
+    def say(self, text: str) -> None:
+        """Add ``text`` to the log line of the running action."""
+        self.log[-1] += f" {text}"
+
+    def report(self, what: str, last: int = 60) -> str:
+        """The failure with the seed and the last ``last`` actions."""
+        return (f"soak run failed after {len(self.log)} actions (seed {self.seed}; replay with "
+                f"RUNGWISE_SOAK_SEED={self.seed} RUNGWISE_SOAK_ACTIONS={len(self.log)}):\n{what}\n"
+                "last actions:\n  " + "\n  ".join(self.log[-last:]))
+
+    def _recorded(self, before: tuple) -> None:
+        self.past.append(before)
+        del self.past[:-UNDO_LIMIT]
+        self.future.clear()
+
+    # --- invariants -----------------------------------------------------------------------------
+    def check_consistent(self) -> None:
+        """Between actions: 1 … 4 candidates, the pane shows the selected one, actions enabled
+        as they should be, the list shows every name."""
+        state, w = self.state, self.w
+        assert 1 <= len(state.candidates) <= 4
+        assert self.pane.design == state.current.design
+        assert w.action_add.isEnabled() == state.can_add()
+        assert w.action_remove.isEnabled() == (len(state.candidates) > 1)
+        lst = w.candidates_pane.list
+        assert [lst.item(i).text() for i in range(lst.count())] == [c.name for c in state.candidates]
+        assert lst.currentRow() == state.selected
+        assert not self.pane.has_pending()
+
+    def dismiss_messages(self) -> None:
+        """Close message boxes as a person pressing OK would; unexpected ones fail the run."""
+        for box in QApplication.topLevelWidgets():
+            if isinstance(box, QMessageBox) and box.isVisible():
+                text = box.text()
+                self.messages[text.splitlines()[0]] += 1
+                box.button(QMessageBox.StandardButton.Ok).click()
+                assert text.startswith(EXPECTED_MESSAGES), f"unexpected message: {text}"
+
+    # --- the values pane ------------------------------------------------------------------------
+    def _expect(self, key: str, text: str) -> Design | None:
+        try:
+            if key == "topology":
+                return self.state.current.design.replace(topology=text)
+            return self.state.current.design.with_settings({key: text})
+        except DesignError:
+            return None
+
+    def _check_outcome(self, key: str, before: Design, expected: Design | None) -> str:
+        after = self.state.current.design
+        binder = self.pane.binder
+        if expected is None:
+            assert after == before
+            assert binder.is_refused(key), f"{key} was not marked refused"
+            label = binder.error_label(key)
+            text = label.text() if label is not None else ""
+            allowed = FIELDS[key].describe() if key in FIELDS else "choose"
+            assert label is not None
+            assert not label.isHidden(), f"{key}: the range message is hidden"
+            assert allowed in text or "allowed: " in text, f"{key}: no range message ({text!r})"
+            return "refused"
+        got, want = after.to_dict(), expected.to_dict()
+        assert got == want, {k: (got.get(k), want.get(k)) for k in {*got, *want}
+                             if got.get(k) != want.get(k)}
+        assert not binder.is_refused(key)
+        for k, widget in self.inputs.items():
+            if binder.is_refused(k):
+                continue
+            if isinstance(widget, QLineEdit):
+                assert widget.text() == display_text(after, k), k
+            elif isinstance(widget, QSpinBox):
+                assert widget.value() == getattr(after, k), k
+            elif isinstance(widget, QComboBox) and widget.currentData() is not None:
+                assert widget.currentData() == str(getattr(after, k)), k
+        return "applied"
+
+    def type_entry(self) -> str:
+        """Type a valid or invalid entry into a text field and press Enter."""
+        keys = sorted(k for k, wdg in self.inputs.items() if isinstance(wdg, QLineEdit))
+        key = self.rng.choice(keys)
+        pool = GOOD.get(key, ["1", "2.5"])
+        text = self.rng.choice(pool) if self.rng.random() < 0.6 else self.rng.choice(BAD)
+        self.say(f"{key}={text!r}")
+        before = self.state.current.design
+        expected = self._expect(key, text)
+        edit = self.inputs[key]
+        edit.selectAll()
+        self.qtbot.keyClick(edit, Qt.Key.Key_Backspace)
+        if text:
+            type_text(self.qtbot, edit, text)
+        self.qtbot.keyClick(edit, Qt.Key.Key_Return)
+        return self._check_outcome(key, before, expected)
+
+    def spin_entry(self) -> str:
+        """Change a whole-number field with the arrow keys or by typing a number and Enter."""
+        key = self.rng.choice(sorted(k for k, wdg in self.inputs.items() if isinstance(wdg, QSpinBox)))
+        spin: QSpinBox = self.inputs[key]
+        before = self.state.current.design
+        if self.rng.random() < 0.4:
+            up = self.rng.random() < 0.5
+            if (up and spin.value() >= 12 and key == "bits") or spin.value() == spin.minimum():
+                up = spin.value() == spin.minimum()
+            target = spin.value() + (1 if up else -1)
+            how = "up" if up else "down"
+            self.qtbot.keyClick(spin, Qt.Key.Key_Up if up else Qt.Key.Key_Down)
+            self.pane.commit_pending()  # the pause after the last step
+        else:
+            high = 20 if (key == "bits" and before.topology == "string"
+                          and self.rng.random() < 0.3) else 12
+            target = self.rng.randint(spin.minimum(), high)
+            how = "typed"
+            spin.selectAll()
+            self.qtbot.keyClicks(spin, str(target))
+            self.qtbot.keyClick(spin, Qt.Key.Key_Return)
+        if target == getattr(before, key) and not self.pane.binder.is_refused(key):
+            assert self.state.current.design == before
+            return f"{key} {how} {target} unchanged"
+        expected = self._expect(key, str(target))
+        return f"{key} {how} {target} " + self._check_outcome(key, before, expected)
+
+    def choose(self) -> str:
+        """Pick an entry of one of the pane's lists (network, output, and any other bound list)."""
+        keys = sorted(k for k, wdg in self.inputs.items() if isinstance(wdg, QComboBox))
+        key = self.rng.choice(keys)
+        combo: QComboBox = self.inputs[key]
+        index = self.rng.randrange(combo.count())
+        value = combo.itemData(index)
+        self.say(f"{key}={value}")
+        before = self.state.current.design
+        same = str(value) == str(getattr(before, key)) and not self.pane.binder.is_refused(key)
+        expected = before if same else self._expect(key, str(value))  # the same choice: no edit
+        combo.setCurrentIndex(index)
+        combo.activated.emit(index)
+        return self._check_outcome(key, before, expected)
+
+    # --- candidates -----------------------------------------------------------------------------
+    def _trigger(self, action, button) -> str:
+        """Trigger a menu action, its keyboard shortcut or the pane's button (chosen at random)."""
+        roll = self.rng.random()
+        if roll < 0.4:
+            action.trigger()
+            return "menu"
+        if roll < 0.7 and button is not None:
+            if button.isEnabled():
+                self.qtbot.mouseClick(button, LEFT)
+            return "button"
+        self._shortcut(action)
+        return "key"
+
+    def _shortcut(self, action) -> None:
+        """Press the action's shortcut in the window, as the keyboard would."""
+        combo = action.shortcut()[0]
+        self._activate()
+        self.qtbot.keyClick(self.w, combo.key(), combo.keyboardModifiers())
+
+    def _activate(self) -> None:
+        """Bring the window to the front (a closed message box leaves no active window offscreen)."""
+        if QApplication.activeWindow() is not self.w:
+            self.w.activateWindow()
+            self.qtbot.waitUntil(lambda: QApplication.activeWindow() is self.w, timeout=2000)
+
+    def add(self) -> str:
+        n, could = len(self.state.candidates), self.state.can_add()
+        how = self._trigger(self.w.action_add, self.w.candidates_pane.button_add)
+        assert len(self.state.candidates) == n + (1 if could else 0)
+        if could:
+            assert self.state.selected == n
+        return f"by {how} → {len(self.state.candidates)}"
+
+    def duplicate(self) -> str:
+        n, could = len(self.state.candidates), self.state.can_add()
+        source = self.state.current.design
+        how = self._trigger(self.w.action_duplicate, self.w.candidates_pane.button_duplicate)
+        assert len(self.state.candidates) == n + (1 if could else 0)
+        if could:
+            copy = self.state.current.design
+            assert copy.replace(name="").to_dict() == source.replace(name="").to_dict()
+        return f"by {how} → {len(self.state.candidates)}"
+
+    def remove(self) -> str:
+        n = len(self.state.candidates)
+        gone = self.state.current.name
+        how = self._trigger(self.w.action_remove, self.w.candidates_pane.button_remove)
+        assert len(self.state.candidates) == max(n - 1, 1)
+        return f"{gone!r} by {how} → {len(self.state.candidates)}"
+
+    def rename(self) -> str:
+        """Rename through the list's editor (F2 / the menu), typing the name and Enter."""
+        name = self.rng.choice(NAMES)
+        index = self.state.selected
+        want = self.state.current.design.replace(name=name.strip()).label
+        action = self.w.findChild(QAction, "action_rename")
+        if self.rng.random() < 0.5:
+            self.say("by menu")
+            action.trigger()
+        else:
+            self.say("by key")
+            self._shortcut(action)
+        lst = self.w.candidates_pane.list
+        editors = [e for e in lst.findChildren(QLineEdit) if e.isVisible()]
+        assert len(editors) == 1, "no name editor opened"
+        editor = editors[0]
+        editor.selectAll()
+        self.qtbot.keyClick(editor, Qt.Key.Key_Backspace)
+        if name:
+            type_text(self.qtbot, editor, name)
+        self.qtbot.keyClick(editor, Qt.Key.Key_Return)
+        self.qtbot.waitUntil(lambda: not any(e.isVisible() for e in lst.findChildren(QLineEdit)),
+                             timeout=2000)
+        assert self.state.candidates[index].name == want
+        return f"{index} to {name!r}"
+
+    def select(self) -> str:
+        n = len(self.state.candidates)
+        if self.rng.random() < 0.5:
+            row = self.rng.randrange(n)
+            self.w.candidates_pane.list.setCurrentRow(row)
+            assert self.state.selected == row
+            return f"row {row}"
+        start = self.state.selected
+        self._activate()
+        self.qtbot.keyClick(self.w, Qt.Key.Key_PageDown, Qt.KeyboardModifier.ControlModifier)
+        assert self.state.selected == (start + 1) % n
+        return f"next → {self.state.selected}"
+
+    # --- undo and redo --------------------------------------------------------------------------
+    def undo(self) -> str:
+        return self._step(self.w.files.action_undo, self.past, self.future, "undo")
+
+    def redo(self) -> str:
+        return self._step(self.w.files.action_redo, self.future, self.past, "redo")
+
+    def _step(self, action, source: list, target: list, word: str) -> str:
+        """Undo or redo: the comparison must become the last one in ``source`` (my own record)."""
+        before = self.state.candidates
+        how = self._trigger(action, None)
+        if not source:
+            assert self.state.candidates == before
+            return f"by {how}: nothing to {word}"
+        assert self.state.candidates == source.pop(), f"{word} did not bring back the comparison"
+        target.append(before)
+        return f"by {how} ({len(self.past)} to undo)"
+
+    # --- views ----------------------------------------------------------------------------------
+    def _show_tab(self, key: str) -> None:
+        tabs = self.w.tabs
+        for i in range(tabs.count()):
+            holder = tabs.widget(i)
+            if holder is self.w.plots or holder.widget() is not self.w.views.get(key):
+                continue
+            tabs.setCurrentIndex(i)
+            return
+        raise AssertionError(f"no tab shows {key}")
+
+    def tab(self) -> str:
+        i = self.rng.randrange(self.w.tabs.count())
+        self.w.tabs.setCurrentIndex(i)
+        return self.w.tabs.tabText(i)
+
+    def inl_line(self) -> str:
+        which = self.rng.choice(["endpoint", "bestfit"])
+        action = self.w.action_inl_endpoint if which == "endpoint" else self.w.action_inl_bestfit
+        self._shortcut(action)
+        assert self.w.plots.inl_line == which
+        return which
+
+    def stop(self) -> str:
+        """Press Esc (Stop computing) — often while the figures of the last edit are on their way."""
+        busy = self.w.live.is_busy()
+        self._shortcut(self.w.findChild(QAction, "action_stop"))
+        assert not self.w.live.is_busy()
+        latest = self.w.live.latest
+        if latest is None or [r.design for r in latest.results] != self.state.designs:
+            assert self.w.status_text.text() == STOPPED_TEXT  # earlier values on screen, said so
+            return ("while computing" if busy else "idle") + ", earlier values shown"
+        return "while computing" if busy else "idle"
+
+    def compute(self) -> str:
+        """Press F5 (Compute again) and wait for the figures of the shown candidates."""
+        self._shortcut(self.w.findChild(QAction, "action_compute"))
+        self.qtbot.waitUntil(lambda: not self.w.live.is_busy(), timeout=30000)
+        assert [r.design for r in self.w.live.latest.results] == self.state.designs
+        return "done"
+
+    def seed_entry(self) -> str:
+        """Type a seed (valid or not) in the statistics view and press Run."""
+        view = self.stats
+        self._show_tab("stats_pane")
+        text = self.rng.choice(["7", "x1", "-3", "99999999999", "", "12", str(2**63)])
+        view.spin_trials.setValue(10)
+        view.edit_seed.selectAll()
+        self.qtbot.keyClick(view.edit_seed, Qt.Key.Key_Backspace)
+        type_text(self.qtbot, view.edit_seed, text)
+        self.qtbot.mouseClick(view.button_run, LEFT)
+        if text.isdigit() and int(text) <= MAX_SEED:
+            assert view.label_seed.text().startswith(f"Seed {text} ")
+            outcome = self._finish_or_cancel(view.runner, "statistics", view.button_cancel,
+                                             view.result_changed)
+            return f"{text!r} run, {outcome}"
+        assert view.label_status.text().startswith("Seed: a whole number from 0 to")
+        return f"{text!r} refused"
+
+    def _finish_or_cancel(self, runner, channel: str, cancel_button, done_signal) -> str:
+        """Cancel at once, cancel after the first progress, or wait for the result."""
+        roll = self.rng.random()
+        if roll < 0.4:
+            self.qtbot.mouseClick(cancel_button, LEFT) if cancel_button.isEnabled() else None
+            outcome = "cancelled at once"
+        elif roll < 0.8:
+            seen: list[str] = []
+
+            def note(got: str, _p) -> None:
+                seen.append(got)
+
+            runner.progress.connect(note)
+            try:
+                self.qtbot.waitUntil(lambda: channel in seen or not runner.is_busy(channel),
+                                     timeout=60000)
+            finally:
+                runner.progress.disconnect(note)
+            if cancel_button.isEnabled():
+                self.qtbot.mouseClick(cancel_button, LEFT)
+            outcome = "cancelled after progress"
+        else:
+            if runner.is_busy(channel):
+                with self.qtbot.waitSignal(done_signal, timeout=120000):
+                    pass
+            outcome = "finished"
+        assert not runner.is_busy(channel) or outcome == "finished"
+        assert not cancel_button.isEnabled()
+        return outcome
+
+    def statistics(self) -> str:
+        """On the Statistics tab: a few boards, Run, then Cancel or wait for the result."""
+        view = self.stats
+        self._show_tab("stats_pane")
+        trials = self.rng.choice([10, 20, 50])
+        view.spin_trials.setValue(trials)
+        view.edit_seed.setText(str(self.rng.randrange(1000)))
+        self.qtbot.mouseClick(view.button_run, LEFT)
+        outcome = self._finish_or_cancel(view.runner, "statistics", view.button_cancel,
+                                         view.result_changed)
+        if outcome == "cancelled at once" or outcome.startswith("cancelled"):
+            assert view.label_status.text() in ("Cancelled", "") or not view.runner.is_busy(
+                "statistics")
+        return f"{trials} boards, {outcome}"
+
+    def sweep(self) -> str:
+        """On the Trade-offs tab: a short sweep, Run, Cancel or finish, maybe add a point."""
+        view = self.explorer
+        self._show_tab("explorer_pane")
+        over = self.rng.choice(["bits", "thermometer_bits"])
+        view.combo_over.setCurrentIndex(view.combo_over.findData(over))
+        low = self.rng.randint(2, 6)
+        high = low + self.rng.randint(0, 3)
+        view.spin_from.setValue(low)
+        view.spin_to.setValue(high)
+        view.check_stats.setChecked(self.rng.random() < 0.2)
+        view.spin_trials.setValue(20)
+        self.qtbot.mouseClick(view.button_run, LEFT)
+        outcome = self._finish_or_cancel(view.runner, "explorer", view.button_cancel,
+                                         view.result_changed)
+        note = f"{over} {low}…{high} {outcome}"
+        if view.result is not None and self.rng.random() < 0.6:
+            note += self._add_point(view, low, high)
+        return note
+
+    def _add_point(self, view, low: int, high: int) -> str:
+        n, could = len(self.state.candidates), self.state.can_add()
+        row = self.rng.randrange(max(view.combo_candidate.count(), 1))
+        view.combo_candidate.setCurrentIndex(row)
+        chosen = view.combo_candidate.currentText()
+        value = self.rng.randint(low, high)
+        view.spin_value.setValue(value)
+        point = view.result.point(row, value)
+        self.qtbot.mouseClick(view.button_add, LEFT)
+        if point is None or point.design is None:
+            assert len(self.state.candidates) == n
+            return f", point {row}@{value} not addable"
+        assert len(self.state.candidates) == n + (1 if could else 0)
+        if could:
+            added = self.state.current
+            assert added.name.startswith(chosen), (added.name, chosen)
+        return f", added {row}@{value}"
