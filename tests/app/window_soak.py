@@ -20,7 +20,7 @@ from PySide6.QtCore import QEvent, Qt, QtMsgType, qInstallMessageHandler
 from PySide6.QtGui import QAction, QKeyEvent
 from PySide6.QtWidgets import QApplication, QComboBox, QLineEdit, QMessageBox, QSpinBox
 
-from rungwise.app.binding import display_text
+from rungwise.app.binding import design_value, display_text
 from rungwise.app.edit_history import UNDO_LIMIT
 from rungwise.app.main_window import STOPPED_TEXT
 from rungwise.core.design import FIELDS, Design
@@ -242,14 +242,18 @@ class Soak:
             if isinstance(widget, QLineEdit):
                 assert widget.text() == display_text(after, k), k
             elif isinstance(widget, QSpinBox):
-                assert widget.value() == getattr(after, k), k
+                assert widget.value() == design_value(after, k), k
             elif isinstance(widget, QComboBox) and widget.currentData() is not None:
-                assert widget.currentData() == str(getattr(after, k)), k
+                assert widget.currentData() == display_text(after, k), k
         return "applied"
+
+    def _enabled(self, kind) -> list[str]:
+        """Keys of the pane's widgets of ``kind`` a person can use now (unused ones are greyed)."""
+        return sorted(k for k, wdg in self.inputs.items() if isinstance(wdg, kind) and wdg.isEnabled())
 
     def type_entry(self) -> str:
         """Type a valid or invalid entry into a text field and press Enter."""
-        keys = sorted(k for k, wdg in self.inputs.items() if isinstance(wdg, QLineEdit))
+        keys = self._enabled(QLineEdit)
         key = self.rng.choice(keys)
         pool = GOOD.get(key, ["1", "2.5"])
         text = self.rng.choice(pool) if self.rng.random() < 0.6 else self.rng.choice(BAD)
@@ -266,7 +270,7 @@ class Soak:
 
     def spin_entry(self) -> str:
         """Change a whole-number field with the arrow keys or by typing a number and Enter."""
-        key = self.rng.choice(sorted(k for k, wdg in self.inputs.items() if isinstance(wdg, QSpinBox)))
+        key = self.rng.choice(self._enabled(QSpinBox))
         spin: QSpinBox = self.inputs[key]
         before = self.state.current.design
         if self.rng.random() < 0.4:
@@ -285,7 +289,7 @@ class Soak:
             spin.selectAll()
             self.qtbot.keyClicks(spin, str(target))
             self.qtbot.keyClick(spin, Qt.Key.Key_Return)
-        if target == getattr(before, key) and not self.pane.binder.is_refused(key):
+        if target == design_value(before, key) and not self.pane.binder.is_refused(key):
             assert self.state.current.design == before
             return f"{key} {how} {target} unchanged"
         expected = self._expect(key, str(target))
@@ -293,14 +297,13 @@ class Soak:
 
     def choose(self) -> str:
         """Pick an entry of one of the pane's lists (network, output, and any other bound list)."""
-        keys = sorted(k for k, wdg in self.inputs.items() if isinstance(wdg, QComboBox))
-        key = self.rng.choice(keys)
+        key = self.rng.choice(self._enabled(QComboBox))
         combo: QComboBox = self.inputs[key]
         index = self.rng.randrange(combo.count())
         value = combo.itemData(index)
         self.say(f"{key}={value}")
         before = self.state.current.design
-        same = str(value) == str(getattr(before, key)) and not self.pane.binder.is_refused(key)
+        same = str(value) == display_text(before, key) and not self.pane.binder.is_refused(key)
         expected = before if same else self._expect(key, str(value))  # the same choice: no edit
         combo.setCurrentIndex(index)
         combo.activated.emit(index)
