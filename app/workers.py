@@ -9,10 +9,16 @@ working; the last non-progress value yielded (or the value returned) is the resu
 :class:`JobRunner` owns one QThreadPool slot per *channel*; submitting a new request on a channel
 cancels the previous one, and results of superseded requests are dropped, never delivered.
 Tests may call :func:`run_sync` to run the same job on the calling thread.
+
+While any job runs, Python's automatic cyclic garbage collection is switched off: a collection
+triggered on a worker thread would destroy unreachable Qt objects (a closed window, cleared plot
+items) on that thread and can deadlock with the GUI thread. It is switched back on (on the GUI
+thread) when the last job ends, so garbage is collected there.
 """
 
 from __future__ import annotations
 
+import gc
 import threading
 import traceback
 from collections.abc import Callable, Iterator
@@ -52,10 +58,43 @@ def run_sync(job: Callable[[threading.Event], Any], cancel: threading.Event | No
     return out
 
 
+_gc_lock = threading.Lock()
+_gc_jobs = 0  # jobs submitted and not yet ended, all runners
+_gc_paused = False  # whether we switched automatic collection off
+
+
+def _pause_gc() -> None:
+    """A job is about to start (GUI thread): no automatic collection until every job has ended."""
+    global _gc_jobs, _gc_paused
+    with _gc_lock:
+        _gc_jobs += 1
+        if not _gc_paused and gc.isenabled():
+            gc.disable()
+            _gc_paused = True
+
+
+def _job_ended() -> bool:
+    """A job ended (worker thread); True when it was the last one."""
+    global _gc_jobs
+    with _gc_lock:
+        _gc_jobs -= 1
+        return _gc_jobs == 0
+
+
+def _resume_gc() -> None:
+    """Switch automatic collection back on when no job runs (GUI thread)."""
+    global _gc_paused
+    with _gc_lock:
+        if _gc_jobs == 0 and _gc_paused:
+            gc.enable()
+            _gc_paused = False
+
+
 class _Signals(QObject):
     progress = Signal(str, int, object)   # channel, request id, Progress
     finished = Signal(str, int, object)   # channel, request id, result
     failed = Signal(str, int, str)        # channel, request id, message
+    idle = Signal()                       # the last running job of any runner ended
 
 
 class _Task(QRunnable):
@@ -81,6 +120,8 @@ class _Task(QRunnable):
                 self.signals.failed.emit(self.channel, self.rid, msg)
         finally:
             self.done.set()
+            if _job_ended():
+                self.signals.idle.emit()  # collection resumes on the GUI thread
 
 
 class JobRunner(QObject):
@@ -105,6 +146,7 @@ class JobRunner(QObject):
         self._signals.progress.connect(self._on_progress)
         self._signals.finished.connect(self._on_finished)
         self._signals.failed.connect(self._on_failed)
+        self._signals.idle.connect(self._on_idle)
         self._latest: dict[str, int] = {}
         self._cancels: dict[str, threading.Event] = {}
         self._tasks: list[_Task] = []
@@ -120,6 +162,7 @@ class JobRunner(QObject):
         self._cancels[channel] = cancel
         task = _Task(channel, rid, job, cancel, self._signals)
         self._tasks = [t for t in self._tasks if not t.done.is_set()] + [task]
+        _pause_gc()
         self._pool.start(task)
         self.busy_changed.emit(channel, True)
         return rid
@@ -141,13 +184,18 @@ class JobRunner(QObject):
         """Cancel everything and wait for the threads; True when all have stopped."""
         for channel in list(self._cancels):
             self.cancel(channel, notify=False)
-        return self._pool.waitForDone(timeout_ms)
+        done = self._pool.waitForDone(timeout_ms)
+        _resume_gc()
+        return done
 
     def active_count(self) -> int:
         """Number of threads still running a task (0 when idle)."""
         return self._pool.activeThreadCount()
 
     # --- delivery on the GUI thread, newest request only --------------------------------------
+    def _on_idle(self) -> None:
+        _resume_gc()
+
     def _on_progress(self, channel: str, rid: int, p: Progress) -> None:
         if self._latest.get(channel) == rid:
             self.progress.emit(channel, p)

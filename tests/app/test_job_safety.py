@@ -3,6 +3,8 @@ raises shows a message and leaves the window usable."""
 
 from __future__ import annotations
 
+import gc
+import threading
 import time
 
 from PySide6.QtCore import QCoreApplication
@@ -63,3 +65,48 @@ def test_a_job_that_raises_is_shown_and_the_window_stays_usable(window, qtbot, m
     results = window.live.latest.results
     assert [r.design.bits for r in results if r.design == state.current.design] == [6]
     assert all(r.evaluation is not None for r in results)
+
+
+def _cycles(cancel) -> int:
+    """A job that makes much cyclic garbage (lists holding themselves), as numpy-free code does."""
+    made = 0
+    for _ in range(200_000):
+        if cancel.is_set():
+            break
+        cell: list = []
+        cell.append(cell)
+        made += 1
+    return made
+
+
+def test_garbage_is_never_collected_on_a_worker_thread(qtbot):
+    # found when the full suite hung: the collector ran on a worker thread, destroyed a closed
+    # window's Qt objects there and deadlocked with the GUI thread
+    starts: list[bool] = []
+
+    def note(phase: str, _info: dict) -> None:
+        if phase == "start":
+            starts.append(threading.current_thread() is threading.main_thread())
+
+    runner = JobRunner()
+    gc.callbacks.append(note)
+    try:
+        with qtbot.waitSignal(runner.finished, timeout=60000) as blocker:
+            runner.submit("garbage", _cycles)
+            runner.submit("more garbage", _cycles)
+        assert blocker.args[1] == 200_000
+        qtbot.waitUntil(lambda: runner.active_count() == 0 and gc.isenabled(), timeout=10000)
+    finally:
+        gc.callbacks.remove(note)
+        runner.shutdown()
+    assert all(starts), f"{starts.count(False)} collections started on a worker thread"
+    assert gc.isenabled()
+    assert gc.collect() >= 0  # collection works again, here on the GUI thread
+
+
+def test_shutdown_switches_collection_back_on(qtbot):
+    runner = JobRunner()
+    runner.submit("garbage", _cycles)
+    assert not gc.isenabled()  # off while a job runs
+    assert runner.shutdown(10000)
+    assert gc.isenabled()

@@ -70,7 +70,16 @@ def test_random_user_actions_leave_a_correct_window(window, qtbot):
         x, y = window.plots.curves["output"][col].getOriginalDataset()  # drawn codes only
         np.testing.assert_allclose(y, ev.vout[x.astype(int)], rtol=1e-12, atol=1e-15)
     assert window.table.columnCount() == len(state.candidates)
-    # closing stops every worker: no job thread and no stray Python thread remains
+    # closing while a statistics run and a sweep are busy stops every worker: no job thread and
+    # no stray Python thread remains
+    stats, explorer = window.views["stats_pane"], window.views["explorer_pane"]
+    stats.spin_trials.setValue(200_000)
+    stats.button_run.click()
+    explorer.spin_from.setValue(2)
+    explorer.spin_to.setValue(16)
+    explorer.button_run.click()
+    assert stats.runner.is_busy("statistics")
+    assert explorer.runner.is_busy("explorer")
     runners = window.findChildren(JobRunner)
     assert len(runners) >= 5
     window.close()
