@@ -48,7 +48,7 @@ def suggest_job(design: Design, limits: Limits, series: str | None, top: int = 1
     """A ``workers`` job: the ranked unit values for ``design``."""
 
     def job(cancel: threading.Event) -> list[Suggestion]:
-        return suggest(design, limits, series=series, top=top)
+        return suggest(design, limits, series=series, top=top, cancel=cancel)
 
     return job
 

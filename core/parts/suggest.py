@@ -56,38 +56,54 @@ class Suggestion:
     reason: str = ""
 
 
-def _figures(design: Any, units: np.ndarray) -> list[Suggestion]:
+def _alike_columns(parts: list, snapped: set[str]) -> tuple[list[tuple], np.ndarray]:
+    """Parts that snap and compose alike share one value column.
+
+    Returns the distinct (unit value Ω, units, joined, snapped) kinds and, per part, the index of
+    its kind (shape (n_parts,)): a 65,536-part string is one kind, so the series is snapped and
+    composed once per value, not once per part.
+    """
+    kinds: dict[tuple, int] = {}
+    index = [kinds.setdefault((unit_ohms(p), p.units, p.joined, p.part_id in snapped), len(kinds))
+             for p in parts]
+    return list(kinds), np.array(index, dtype=np.int64)
+
+
+def _figures(design: Any, units: np.ndarray, cancel: Any = None) -> list[Suggestion] | None:
     """Solve the design at each unit value: parts scaled from the unsnapped network, snapped
-    together (shape (n_values, n_parts)) and solved as one batch per chunk."""
+    together (shape (n_values, n_kinds)) and solved as one batch per chunk; ``None`` once
+    ``cancel`` (checked between chunks) is set."""
     base = build(design.replace(series="exact"))
-    snapped = set(snapped_ids(design, base))
-    parts = base.parts
+    parts = list(base.parts)
+    kinds, kind_of = _alike_columns(parts, set(snapped_ids(design, base)))
+    chosen = np.array([k[3] for k in kinds], dtype=bool)
     scale = units / design.unit_r
-    unit_nominal = np.array([unit_ohms(p) for p in parts])[None, :] * np.where(
-        [p.part_id in snapped for p in parts], scale[:, None], 1.0)
+    unit_nominal = np.array([k[0] for k in kinds])[None, :] * np.where(chosen, scale[:, None], 1.0)
     logs = np.log(unit_nominal)
     inside = np.all((logs >= np.log(LOWEST_OHMS) - 0.05) & (logs <= np.log(HIGHEST_OHMS) + 0.05), axis=1)
     unit_nominal, units = unit_nominal[inside], units[inside]
-    chosen = np.array([p.part_id in snapped for p in parts])
     unit_vals = np.where(chosen, snap(np.clip(unit_nominal, LOWEST_OHMS, HIGHEST_OHMS),
                                       design.series), unit_nominal)
-    ohms_all = np.column_stack([compose(unit_vals[:, k], p.units, p.joined)
-                                for k, p in enumerate(parts)])
-    column = {p.part_id: k for k, p in enumerate(parts)}
+    ohms_kinds = np.column_stack([compose(unit_vals[:, j], k[1], k[2]) for j, k in enumerate(kinds)])
+    column = {p.part_id: int(kind_of[i]) for i, p in enumerate(parts)}
     solved_ids = [g.part_id for g in base.legs] + [r.part_id for r in base.resistors
                                                    if r.part_id in column]
     solved_ids += [f"{g.prefix}{i}" for g in [*base.groups, *base.chains] for i in range(g.size)]
+    solved_kinds = [column[pid] for pid in solved_ids]
     step = max(1, CHUNK_ELEMENTS // base.n_codes)
     out = []
     for start in range(0, len(units), step):
+        if cancel is not None and cancel.is_set():
+            return None
         rows = slice(start, start + step)
-        ohms = {pid: ohms_all[rows, column[pid]][:, None] for pid in solved_ids}
+        per_kind = [ohms_kinds[rows, j][:, None] for j in range(len(kinds))]  # shared, not copied
+        ohms = dict(zip(solved_ids, [per_kind[j] for j in solved_kinds], strict=True))
         sol = solve(base, ohms=ohms)
         for i, r in enumerate(units[rows]):
             vout, rout = sol.vout[i], sol.rout[i]
             rf = None
             if base.output.kind == "virtual-ground":
-                rf = float(ohms_all[start + i, column["feedback"]])
+                rf = float(ohms_kinds[start + i, column["feedback"]])
                 vout = vout * rf / base.output.feedback_ohms
             tau = settling.time_constant(base, rout, design.load_c)
             density = float(np.max(noise.output_density(base, rout, design.temperature_c, rf)))
@@ -100,8 +116,8 @@ def _figures(design: Any, units: np.ndarray) -> list[Suggestion]:
     return out
 
 
-def suggest(design: Any, limits: Limits, series: str | None = None, top: int = 10
-            ) -> list[Suggestion]:
+def suggest(design: Any, limits: Limits, series: str | None = None, top: int = 10,
+            cancel: Any = None) -> list[Suggestion]:
     """Unit values of ``series`` (default: the design's, E96 when it is ``"exact"``), best first.
 
     Parameters
@@ -111,6 +127,9 @@ def suggest(design: Any, limits: Limits, series: str | None = None, top: int = 1
     series : str, optional
     top : int
         How many to return.
+    cancel : object with ``is_set()``, optional
+        Checked between solver batches (a ``threading.Event``); once set, the search stops
+        within one batch and returns an empty list.
 
     Returns
     -------
@@ -119,7 +138,9 @@ def suggest(design: Any, limits: Limits, series: str | None = None, top: int = 1
     """
     series = series or (design.series if design.series != "exact" else "E96")
     d = design.replace(series=series, parts={})
-    found = _figures(d, values(series))
+    found = _figures(d, values(series), cancel)
+    if found is None:
+        return []
     checks = [("reference current", "iref_max", limits.iref_max, "A"),
               ("output resistance", "rout_max", limits.rout_max, "Ω"),
               ("settling time", "settling_time", limits.settling_max, "s"),

@@ -54,3 +54,43 @@ def test_impossible_limits_are_reported_as_misses():
     found = suggest(d, Limits(iref_max=1e-6, settling_max=1e-9), top=3)
     assert all(s.misses for s in found)
     assert "over the limit" in found[0].reason
+
+
+class _CancelAfter:
+    """An event that reads as set from its ``n``-th check on (counts the checks)."""
+
+    def __init__(self, n: int) -> None:
+        self.n, self.checks = n, 0
+
+    def is_set(self) -> bool:
+        self.checks += 1
+        return self.checks >= self.n
+
+
+def test_cancel_stops_between_batches(monkeypatch):
+    import rungwise.core.parts.suggest as module
+
+    calls = []
+    real = module.solve
+    monkeypatch.setattr(module, "solve", lambda *a, **k: calls.append(1) or real(*a, **k))
+    d = Design(topology="string", bits=12, series="E96")  # 673 values in batches of 64 rows
+    cancel = _CancelAfter(3)
+    assert suggest(d, Limits(), cancel=cancel) == []
+    assert len(calls) == 2  # two batches solved, the third check stopped the search
+    calls.clear()
+    assert len(suggest(d.replace(bits=4), Limits(), cancel=_CancelAfter(10**9), top=3)) == 3
+    assert calls  # not cancelled: every batch solved
+
+
+def test_parts_alike_share_one_column():
+    # a string's parts are all alike: one column; a ladder has R and 2R (two kinds) plus switches
+    from rungwise.core.parts.snapping import snapped_ids
+    from rungwise.core.parts.suggest import _alike_columns
+    from rungwise.core.topologies import build
+
+    for design, n_kinds in ((Design(topology="string", bits=6), 1),
+                            (Design(topology="r2r-voltage", bits=6), 2)):
+        net = build(design)
+        kinds, index = _alike_columns(list(net.parts), set(snapped_ids(design, net)))
+        assert len(kinds) == n_kinds
+        assert index.shape == (len(list(net.parts)),)
