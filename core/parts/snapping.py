@@ -85,8 +85,12 @@ def snap_network(design, net: Network) -> Network:
     net.parts = PartList(blocks) if isinstance(net.parts, PartList) else blocks
     net.resistors = [dataclasses.replace(r, ohms=new.get(r.part_id, r.ohms)) for r in net.resistors]
     net.legs = [dataclasses.replace(g, ohms=new.get(g.part_id, g.ohms)) for g in net.legs]
+    old_chains = net.chains
     net.chains = [dataclasses.replace(c, ohms=_array_snapped(c.prefix, c.ohms, new, arrays))
                   for c in net.chains]
+    for old, chain in zip(old_chains, net.chains, strict=True):  # a tap selects the new chain's nodes
+        if net.selector is not None and getattr(net.selector.nodes, "chain", None) is old:
+            net.selector = dataclasses.replace(net.selector, nodes=chain.nodes())
     net.groups = [dataclasses.replace(g, ohms=_array_snapped(g.prefix, g.ohms, new, arrays))
                   for g in net.groups]
     if net.output.kind == "virtual-ground" and "feedback" in new:

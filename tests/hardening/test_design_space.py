@@ -268,3 +268,13 @@ def test_a_signal_lost_beside_the_amplifier_offset_leaves_the_added_inl_undefine
     assert s["amp_gain_error"] == -1.0
     assert math.isnan(s["amp_inl_added"])
     assert s["amp_codes_clipped"] == 0
+
+
+def test_a_snapped_string_keeps_its_exact_power_figures():
+    # found by the long profile: snapping replaced the string but the tap still pointed at the
+    # unsnapped one, so the exact string power form was skipped and the figures came out NaN
+    design = Design(topology="string", bits=10, vref=1.0, unit_r=1.0, ron_high=1.0, load_r=1.0,
+                    series="E3")
+    s = evaluate(design).summary
+    assert math.isfinite(s["power_total_max"])
+    assert s["power_total_max"] > 0
