@@ -2,7 +2,8 @@
 
 Each command lives in its own module with ``NAME``, ``HELP``, ``add_arguments(parser)`` and
 ``run(args) -> int``; register it in ``COMMANDS``. Exit codes: 0 success, 2 bad input (the message
-names the field and the allowed range), 1 internal error. Never imports Qt.
+names the field and the allowed range; a file or folder that cannot be read or written is bad
+input too), 1 internal error. Never imports Qt.
 """
 
 from __future__ import annotations
@@ -45,6 +46,8 @@ def build_parser() -> argparse.ArgumentParser:
 def run_cli(argv: list[str]) -> int:
     """Parse ``argv`` and run the command; print errors on stderr and return the exit code."""
     try:
+        if any("\x00" in a for a in argv):  # no shell can pass one; a file name cannot hold one
+            raise RungwiseError("an argument holds a NUL character")
         args = build_parser().parse_args(argv)
         if args.command is None:
             build_parser().print_help()
@@ -57,6 +60,10 @@ def run_cli(argv: list[str]) -> int:
         return EXIT_BAD_INPUT
     except BrokenPipeError:
         return EXIT_OK
+    except OSError as exc:  # a path given by the user: no such folder, a folder, a full disk …
+        where = f" {exc.filename}" if exc.filename else ""
+        print(f"rungwise: error: cannot use{where}: {exc.strerror or exc}", file=sys.stderr)
+        return EXIT_BAD_INPUT
     except Exception as exc:  # last resort: never a traceback for a user
         print(f"rungwise: internal error: {type(exc).__name__}: {exc}", file=sys.stderr)
         return EXIT_INTERNAL

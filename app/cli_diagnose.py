@@ -73,6 +73,11 @@ def _write(path: str, text: str) -> None:
         raise RungwiseError(f"cannot write {path}: {exc.strerror}") from None
 
 
+def _signed(x: float | None) -> str:
+    """``+0.123``, or ``n/a`` for a figure that could not be found (``None`` in the JSON)."""
+    return "n/a" if x is None else f"{x:+.3f}"
+
+
 def render_table(d: Diagnosis) -> str:
     """Aligned text: findings, bit weights and the ranked suspects."""
     out = d.to_dict()
@@ -108,8 +113,8 @@ def render_table(d: Diagnosis) -> str:
         if w is None:
             lines.append(f"  bit{i:<3} not identifiable from the measured codes")
         else:
-            lines.append(f"  bit{i:<3} {format_value(w, 'V'):>12}  error {e:+.3f}  "
-                         f"vs design {ed:+.3f}")
+            lines.append(f"  bit{i:<3} {format_value(w, 'V'):>12}  error {_signed(e)}  "
+                         f"vs design {_signed(ed)}")
     lines += ["", "Suspects (each part alone fitted to the curve; best first)",
               f"  {'part':<10}{'deviation':>12}{'±':>10}{'left, rms':>14}{'explained':>11}"]
     for row in out["suspects"][:8]:

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import errno
 import os
 import tempfile
 from collections.abc import Callable
@@ -22,9 +23,17 @@ def write_atomically(path: Path, write_to: Callable[[str], None]) -> None:
     """Call ``write_to(tmp)`` on a temporary file beside ``path``, flush it to disk, rename it over.
 
     If anything fails the file at ``path`` is left as it was and the temporary file is removed;
-    the exception is re-raised.
+    the exception is re-raised. A ``path`` that is a device or a pipe (``/dev/null``) is written
+    to directly, never renamed over.
     """
     path = Path(path)
+    if not path.parent.is_dir():  # name the folder, not the temporary file, in the error
+        raise FileNotFoundError(errno.ENOENT, "no such folder", str(path.parent))
+    if path.is_dir():
+        raise IsADirectoryError(errno.EISDIR, "is a folder", str(path))
+    if path.exists() and not path.is_file():  # a device or a pipe: written to, never replaced
+        write_to(str(path))
+        return
     fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
     os.close(fd)
     try:

@@ -48,6 +48,7 @@ import numpy as np
 import tomli_w
 
 from .atomic import write_atomically
+from .bounded_read import read_at_most
 from .design import Design
 from .designfile_upgrade import CURRENT_VERSION, upgrade
 from .errors import DesignError
@@ -264,11 +265,11 @@ def load(path: Path) -> DesignFile:
     """Read a design file; see :func:`loads` for the errors. Never writes anything."""
     path = Path(path)
     try:
-        size = path.stat().st_size
-        if size > MAX_FILE_BYTES:
-            raise DesignError("file", f"{path} is {size} bytes; a design file is at most "
-                              f"{MAX_FILE_BYTES} bytes")
-        text = path.read_text(encoding="utf-8")
+        data = read_at_most(path, MAX_FILE_BYTES)
+        if data is None:
+            raise DesignError("file", f"{path} holds more than {MAX_FILE_BYTES} bytes; a design "
+                              "file is at most that")
+        text = data.decode("utf-8")
     except FileNotFoundError:
         raise DesignError("file", f"{path} does not exist") from None
     except (OSError, UnicodeDecodeError) as exc:

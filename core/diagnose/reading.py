@@ -44,6 +44,7 @@ from pathlib import Path
 
 import numpy as np
 
+from ..bounded_read import read_at_most
 from ..errors import RungwiseError
 
 MAX_FILE_BYTES = 32 * 1024 * 1024
@@ -329,16 +330,13 @@ def read_measurement(path: str | Path) -> Measurement:
     """Read a measurement file; see :func:`parse_text` for the layout and errors."""
     path = Path(path)
     try:
-        size = path.stat().st_size
+        data = read_at_most(path, MAX_FILE_BYTES)
     except FileNotFoundError:
         raise MeasurementError("the file does not exist", source=str(path)) from None
     except OSError as exc:
-        raise MeasurementError(f"cannot read the file: {exc.strerror}", source=str(path)) from None
-    if size > MAX_FILE_BYTES:
-        raise MeasurementError(f"the file has {size / 1e6:.1f} MB; the program reads at most "
-                               f"{MAX_FILE_BYTES // (1024 * 1024)} MB", source=str(path))
-    try:
-        data = path.read_bytes()
-    except OSError as exc:
-        raise MeasurementError(f"cannot read the file: {exc.strerror}", source=str(path)) from None
+        raise MeasurementError(f"cannot read the file: {exc.strerror or exc}",
+                               source=str(path)) from None
+    if data is None:
+        raise MeasurementError(f"the file holds more than {MAX_FILE_BYTES // (1024 * 1024)} MB; "
+                               "the program reads at most that", source=str(path))
     return parse_text(_decode(data, str(path)), source=path.name)
