@@ -61,6 +61,11 @@ ENVELOPE_MAX_CODES = 4096
 BLOCK_DRAWS = 1 << 20
 """Random draws per sampling block; a block's trial count follows from the design's unit count."""
 
+BATCH_DRAWS = 1 << 21
+"""Most random draws (trials × physical units) sampled for one batch, about 40 ms here: a design
+of many units (a unit-array binary network) gets fewer trials per batch, so a cancel still lands
+within 200 ms."""
+
 
 @dataclass(frozen=True)
 class MonteCarloPlan:
@@ -141,6 +146,8 @@ def plan_run(design: Design, trials: int, engine: Engine = "auto", net: Network 
     else:
         batch = max(1, min(EXACT_BATCH_TRIALS, CHUNK_ELEMENTS // (design.bits + 1)))
         piece = n_codes
+    units = sum(p.units for p in net.parts) + 1  # as _Sampler counts them
+    batch = max(1, min(batch, BATCH_DRAWS // units))
     if n_codes <= ENVELOPE_MAX_CODES:
         env_codes = np.arange(n_codes, dtype=np.int64)
     else:

@@ -47,6 +47,10 @@ DESIGNS = {
                                          **UNEQUAL),
     "string 12 bits, general": Design(topology="string", bits=12, ron_high=40.0),
     "string 16 bits, general": Design(topology="string", bits=16, ron_high=40.0),
+    "segmented 16 bits all thermometer, general": Design(topology="segmented", bits=16,
+                                                         thermometer_bits=16, **UNEQUAL),
+    "binary 18 bits unit-array, exact": Design(topology="binary-weighted", bits=18,
+                                               build={"binary": "unit-array"}),
 }
 
 
@@ -76,7 +80,7 @@ def run_all(designs: dict[str, Design], repeats: int, trials: int, label: str) -
         lat = [r[0] * 1e3 for r in runs]
         cpu = [r[1] * 1e3 for r in runs]
         worst = max(worst, max(lat))
-        print(f"{label:8s} {name:34s} cancel median {statistics.median(lat):7.1f} ms, max "
+        print(f"{label:8s} {name:44s} cancel median {statistics.median(lat):7.1f} ms, max "
               f"{max(lat):7.1f} ms (CPU median {statistics.median(cpu):6.1f} ms); "
               f"max/target {max(lat) / TARGET_MS:.2f}; load {os.getloadavg()[0]:.1f}", flush=True)
     return worst

@@ -57,3 +57,15 @@ def test_statistics_memory_is_bounded_at_24_bits_and_the_most_trials():
     widest = plan_run(Design(bits=20, ron_high=10.0), MAX_TRIALS, engine="general")
     assert widest.batch_trials == 1  # one trial of MAX_GENERAL_CODES codes per batch
     assert widest.n_codes == MAX_GENERAL_CODES
+
+
+def test_batches_of_a_many_unit_design_draw_a_bounded_number_of_values():
+    # a unit-array binary network of 18 bits is 2^18 − 1 physical resistors per board: a batch
+    # holds only as many boards as BATCH_DRAWS allows (each batch is one uninterruptible sampling)
+    from rungwise.core.montecarlo import BATCH_DRAWS
+
+    design = Design(topology="binary-weighted", bits=18, build={"binary": "unit-array"})
+    plan = plan_run(design, MAX_TRIALS)
+    units = 2**18 - 1  # bit k is 2^k units
+    assert plan.batch_trials == BATCH_DRAWS // (units + 1) == 8
+    assert plan_run(Design(topology="binary-weighted", bits=18), MAX_TRIALS).batch_trials == 2048
