@@ -243,6 +243,7 @@ class BlockSequence(Sequence):
         self.blocks = [b for b in blocks if not (self._is_array(b) and b.size == 0)]
         sizes = [b.size if self._is_array(b) else 1 for b in self.blocks]
         self._starts = np.concatenate([[0], np.cumsum(sizes, dtype=np.int64)])
+        self._items: tuple | None = None  # every item, kept once a caller has read them all
 
     @staticmethod
     def _is_array(block) -> bool:
@@ -257,17 +258,20 @@ class BlockSequence(Sequence):
         i = i + len(self) if i < 0 else i
         if not 0 <= i < len(self):
             raise IndexError(i)
+        if self._items is not None:
+            return self._items[i]
         k = int(np.searchsorted(self._starts, i, side="right")) - 1
         block = self.blocks[k]
         return block.element(i - int(self._starts[k])) if self._is_array(block) else block
 
     def __iter__(self):
-        for block in self.blocks:
-            if self._is_array(block):
-                for i in range(block.size):
-                    yield block.element(i)
-            else:
-                yield block
+        # made once and kept: callers that walk every item (sampling, bills of materials) do so
+        # repeatedly; the array accessors never need them
+        if self._items is None:
+            self._items = tuple(block.element(i) if self._is_array(block) else block
+                                for block in self.blocks
+                                for i in range(block.size if self._is_array(block) else 1))
+        return iter(self._items)
 
 
 class PartList(BlockSequence):
