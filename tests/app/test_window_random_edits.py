@@ -40,9 +40,9 @@ def _settled(window) -> bool:
             and [r.design for r in latest.results] == window.model.state.designs)
 
 
-def test_random_user_actions_leave_a_correct_window(window, qtbot):
+def test_random_user_actions_leave_a_correct_window(window, qtbot, tmp_path):
     threads_before = {t.ident for t in threading.enumerate()}
-    soak = Soak(window, qtbot, SEED)
+    soak = Soak(window, qtbot, SEED, tmp_path)
     start_wall, start_cpu = time.perf_counter(), time.process_time()
     with Guard() as guard:
         try:
@@ -74,6 +74,7 @@ def test_random_user_actions_leave_a_correct_window(window, qtbot):
     # no stray Python thread remains
     stats, explorer = window.views["stats_pane"], window.views["explorer_pane"]
     stats.spin_trials.setValue(200_000)
+    stats.edit_seed.setText("1")  # the run may have left a refused seed
     stats.button_run.click()
     explorer.spin_from.setValue(2)
     explorer.spin_to.setValue(16)

@@ -15,6 +15,7 @@ import time
 import traceback
 from collections import Counter
 from collections.abc import Callable
+from pathlib import Path
 
 from PySide6.QtCore import QEvent, Qt, QtMsgType, qInstallMessageHandler
 from PySide6.QtGui import QAction, QKeyEvent
@@ -107,8 +108,8 @@ class Guard:
 class Soak:
     """Random user actions on ``window`` from ``seed``; :meth:`run` does ``n`` of them."""
 
-    def __init__(self, window, qtbot, seed: int) -> None:
-        self.w, self.qtbot, self.seed = window, qtbot, seed
+    def __init__(self, window, qtbot, seed: int, folder: Path) -> None:
+        self.w, self.qtbot, self.seed, self.folder = window, qtbot, seed, folder
         self.rng = random.Random(seed)
         self.pane = window.pane
         self.inputs = window.pane.binder.inputs
@@ -138,7 +139,10 @@ class Soak:
             ("stop", 2, self.stop),
             ("compute", 1, self.compute),
             ("seed", 1, self.seed_entry),
+            ("colour", 1, self.colour),
+            ("file", 1, self.file),
         ]
+        self._fresh_history = False
 
     # --- running --------------------------------------------------------------------------------
     @property
@@ -152,7 +156,12 @@ class Soak:
         fns = {a[0]: a[2] for a in self.actions}
         first = self.rng.sample(names, len(names))  # every kind once, then at random
         for i in range(n):
-            name = first[i] if i < len(first) else self.rng.choices(names, weights)[0]
+            if i < len(first):
+                name = first[i]
+            elif self.future and self.rng.random() < 0.3:
+                name = "redo"  # right after an undo, as people do
+            else:
+                name = self.rng.choices(names, weights)[0]
             before = self.state.candidates
             self.log.append(f"{i}: {name}")
             start = time.perf_counter()
@@ -162,7 +171,11 @@ class Soak:
                 self.say(f"[{took * 1e3:.0f} ms]")
                 self.counts[name] += 1
                 self.seconds[name] += took
-                if name not in {"undo", "redo"} and self.state.candidates != before:
+                if self._fresh_history:  # a file opened or a new comparison: nothing to undo
+                    self.past.clear()
+                    self.future.clear()
+                    self._fresh_history = False
+                elif name not in {"undo", "redo"} and self.state.candidates != before:
                     self._recorded(before)
                 self.dismiss_messages()
                 self.check_consistent()
@@ -200,6 +213,8 @@ class Soak:
         assert [lst.item(i).text() for i in range(lst.count())] == [c.name for c in state.candidates]
         assert lst.currentRow() == state.selected
         assert not self.pane.has_pending()
+        assert w.model.modified == (not w.files.history.is_clean())
+        assert w.isWindowModified() == w.model.modified
 
     def dismiss_messages(self) -> None:
         """Close message boxes as a person pressing OK would; unexpected ones fail the run."""
@@ -282,8 +297,11 @@ class Soak:
             self.qtbot.keyClick(spin, Qt.Key.Key_Up if up else Qt.Key.Key_Down)
             self.pane.commit_pending()  # the pause after the last step
         else:
-            high = 20 if (key == "bits" and before.topology == "string"
-                          and self.rng.random() < 0.3) else 12
+            roll = self.rng.random()
+            if key == "bits" and before.topology == "string" and roll < 0.3:
+                high = 20  # past a string's 16 bits: refused with its range
+            else:
+                high = 16 if roll > 0.9 else 12  # now and then a large network
             target = self.rng.randint(spin.minimum(), high)
             how = "typed"
             spin.selectAll()
@@ -385,6 +403,35 @@ class Soak:
                              timeout=2000)
         assert self.state.candidates[index].name == want
         return f"{index} to {name!r}"
+
+    def colour(self) -> str:
+        """Give the selected candidate another colour from the Colour button's menu."""
+        menu = self.w.candidates_pane.button_colour.menu()
+        action = self.rng.choice([a for a in menu.actions() if a.text().startswith("#")])
+        action.trigger()
+        assert self.state.current.colour == action.text()
+        return action.text()
+
+    def file(self) -> str:
+        """Save and open again, save only, or start again from the demo (as the File menu does
+        after its dialog)."""
+        roll = self.rng.random()
+        if roll < 0.25:
+            self._shortcut(self.w.findChild(QAction, "action_new"))
+            self._fresh_history = True
+            assert not self.w.model.modified
+            return "new from the demo"
+        path = self.folder / f"soak-{self.rng.randrange(3)}.rwd.toml"
+        saved = self.state.candidates
+        assert self.w.save_to(path)
+        assert not self.w.model.modified
+        if roll < 0.6:
+            return f"saved {path.name}"
+        assert self.w.open_file(path)
+        self._fresh_history = True
+        assert self.state.candidates == saved  # designs, names and colours as saved
+        assert not self.w.model.modified
+        return f"saved and opened {path.name}"
 
     def select(self) -> str:
         n = len(self.state.candidates)
