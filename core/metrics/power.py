@@ -155,8 +155,7 @@ def worst_case(net: Network, solved: Solution | None = None
         codes = np.arange(start, min(start + step, net.n_codes))
         sol = solved if reuse else solve(net, codes=None if whole else codes, keep_nodes=True)
         volts = {k: np.broadcast_to(v, codes.shape) for k, v in sol.node_voltages.items()}
-        drive = net.decode(codes).astype(bool)
-        total, fed = _track(best, net, codes, drive, volts, sol.vout)
+        total, fed = _track(best, net, codes, _drive_rows(net, codes), volts, sol.vout)
         p_ref = vref * sol.iref
         balance = max(balance, float(np.max(np.abs(p_ref - fed))))
         k = int(np.argmax(total))
@@ -176,10 +175,30 @@ KIND_ORDER = {"part": 0, "switch": 1, "reference": 2, "load": 3}
 """Display order of element kinds."""
 
 
-def _track(best: dict[str, list], net: Network, codes: np.ndarray, drive: np.ndarray,
+def _drive_rows(net: Network, codes: np.ndarray) -> np.ndarray:
+    """Whether each leg is driven at each code, shape (n_legs, n_codes), one contiguous row per
+    leg (read from the code bits directly for a bit decoder)."""
+    bits = getattr(net.decode, "leg_bits", None)
+    if bits is not None:
+        return ((codes[None, :] >> np.asarray(bits, dtype=np.int64)[:, None]) & 1).astype(bool)
+    raw = np.asarray(net.decode(codes))[:, :len(net.legs)]
+    return np.ascontiguousarray(raw.astype(bool).T)
+
+
+def _levels(net: Network, codes: np.ndarray) -> list[np.ndarray]:
+    """Each thermometer group's level at each code, shape (n_codes,) each."""
+    shifts = getattr(net.decode, "level_shifts", ())
+    if len(shifts) == len(net.groups):
+        return [np.asarray(codes, dtype=np.int64) >> s for s in shifts]
+    raw = np.asarray(net.decode(codes))
+    return [raw[:, len(net.legs) + g] for g in range(len(net.groups))]
+
+
+def _track(best: dict[str, list], net: Network, codes: np.ndarray, driven: np.ndarray,
            volts: dict[str, np.ndarray], vout: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Fold one chunk of codes into ``best`` (name → [kind, power, code, |current|, sourced,
-    sunk]); returns the chunk's total and reference-fed power per code.
+    sunk]); returns the chunk's total and reference-fed power per code. ``driven``: shape
+    (n_legs, n_chunk), from :func:`_drive_rows`.
 
     The same figures as :func:`element_powers` (tests compare them) in fewer passes over the
     codes: |current| is read back from the worst power (R fixed), a switch's worst case from its
@@ -208,7 +227,6 @@ def _track(best: dict[str, list], net: Network, codes: np.ndarray, drive: np.nda
         k = int(np.argmax(p))
         fold(r.part_id, "reference" if r.role == "reference" else "part", float(p[k]), k,
              math.sqrt(float(p[k]) / r.ohms))
-    driven = np.ascontiguousarray(np.asarray(drive, dtype=bool).T)
     resting = ~driven
     for col, leg in enumerate(net.legs):
         d = driven[col]
@@ -286,15 +304,12 @@ def _array_worst_case(net: Network, solved: Solution | None):
     reuse = solved is not None and solved.node_voltages and solved.vout.shape == (net.n_codes,)
     sol = solved if reuse else solve(net, keep_nodes=True)
     volts = {k: np.broadcast_to(v, codes.shape) for k, v in sol.node_voltages.items()}
-    raw = np.asarray(net.decode(codes))
-    n_legs = len(net.legs)
-    drive = raw[:, :n_legs].astype(bool)
-    got = group_blocks(net, volts, [raw[:, n_legs + g] for g in range(len(net.groups))])
+    got = group_blocks(net, volts, _levels(net, codes))
     if got is None:
         return None
     blocks, group_total = got
     best: dict[str, list] = {}
-    total, fed = _track(best, net, codes, drive, volts, sol.vout)
+    total, fed = _track(best, net, codes, _drive_rows(net, codes), volts, sol.vout)
     plain = _ordered(best, net)
     # group legs go where their parts are listed; the rest keep the plain order
     position = _positions(net)
