@@ -11,6 +11,7 @@ import sys
 from pathlib import Path
 
 from rungwise.core.sweep import SWEEP_KEYS, SweepResult, SweepStatistics, sweep, sweep_values
+from rungwise.core.sweep_answer import answer_lines
 from rungwise.core.units import parse_value
 
 from .candidates import apply_choices, load_candidates, parse_settings
@@ -36,6 +37,9 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
                    help="also run Monte Carlo at this part tolerance (e.g. 0.1%%) and add the yields")
     p.add_argument("--trials", type=int, default=500, help="boards per point with --tolerance")
     p.add_argument("--seed", type=int, default=1, help="seed of every point's Monte Carlo run")
+    p.add_argument("--target-yield", default="99%", metavar="YIELD",
+                   help="with --tolerance: say on stderr where each candidate first reaches this "
+                        "monotonic yield and its part count (default 99%%)")
     p.add_argument("--format", choices=("csv", "json"), default="csv")
     p.add_argument("-o", "--output", metavar="FILE", help="write to FILE instead of the screen")
 
@@ -82,10 +86,19 @@ def run(args: argparse.Namespace) -> int:
             raise DesignError("tolerance", f"{tol:g} is out of range; allowed: 0 … 0.5 (50 %)")
         trials, seed = check_run(args.trials, args.seed)
         stats = SweepStatistics(tol, trials, seed)
+        target = parse_value(args.target_yield, "target-yield")
+        if not 0 < target <= 1:
+            from rungwise.core.errors import DesignError
+
+            raise DesignError("target-yield", f"{args.target_yield} is out of range; allowed: "
+                              "above 0 and at most 100 %")
     result = sweep(designs, args.over, values, stats)
     text = render_json(result) if args.format == "json" else render_csv(result)
     if args.output:
         Path(args.output).write_text(text.rstrip("\n") + "\n", encoding="utf-8")
     else:
         sys.stdout.write(text.rstrip("\n") + "\n")
+    if stats is not None:
+        for line in answer_lines(result, target):
+            print(f"rungwise: {line}", file=sys.stderr)
     return 0

@@ -16,6 +16,7 @@ from PySide6.QtCore import Signal
 from PySide6.QtWidgets import (
     QCheckBox,
     QComboBox,
+    QDoubleSpinBox,
     QFormLayout,
     QHBoxLayout,
     QLabel,
@@ -36,6 +37,7 @@ from rungwise.core.sweep import (
     iter_sweep,
     sweep_values,
 )
+from rungwise.core.sweep_answer import answer_lines
 from rungwise.core.topologies.segmented import SIZING_RULE
 from rungwise.core.topologies.segmented_units import SIZING_RULE as UNIT_SIZING_RULE
 from rungwise.core.types import MAX_ARRAY_BITS
@@ -148,6 +150,12 @@ class ExplorerPane(QWidget):
         form.addRow("Part grade", self.combo_grade)
         form.addRow("Boards per point", self.spin_trials)
         form.addRow("Seed", self.spin_seed)
+        self.spin_target = QDoubleSpinBox(objectName="spin_target", minimum=50.0, maximum=99.99,
+                                          decimals=2, value=99.0, suffix=" %", singleStep=0.5)
+        self.spin_target.setToolTip("Monotonic-board yield each candidate should reach; the line "
+                                    "under Run says where it first does and at what part count.")
+        self.spin_target.valueChanged.connect(self._update_answer)
+        form.addRow("Target yield", self.spin_target)
         self.button_run = QPushButton("Run", objectName="button_run")
         self.button_cancel = QPushButton("Cancel", objectName="button_cancel", enabled=False)
         self.button_run.clicked.connect(self.run)
@@ -168,6 +176,7 @@ class ExplorerPane(QWidget):
         self.plot.scene().sigMouseMoved.connect(self._mouse_moved)
         self.label_hover = QLabel("", objectName="label_hover", wordWrap=True)
         self.label_status = QLabel("Choose a range and Run", objectName="label_status", wordWrap=True)
+        self.label_answer = QLabel("", objectName="label_answer", wordWrap=True)
         self.label_rule = QLabel(f"Segmented sizing: {SIZING_RULE}; with a {UNIT_SIZING_RULE}.",
                                  objectName="label_rule", wordWrap=True)
         self.combo_candidate = QComboBox(objectName="combo_candidate")
@@ -184,6 +193,7 @@ class ExplorerPane(QWidget):
         top.addLayout(form)
         top.addLayout(buttons)
         top.addWidget(self.label_status)
+        top.addWidget(self.label_answer)
         figure = QHBoxLayout()
         figure.addWidget(QLabel("Figure"))
         figure.addWidget(self.combo_metric, 1)
@@ -279,7 +289,14 @@ class ExplorerPane(QWidget):
             self.combo_candidate.clear()
             self.combo_candidate.addItems(labels)
             self.combo_candidate.setCurrentIndex(min(max(row, 0), len(labels) - 1))
+        self._update_answer()
         self.replot()
+
+    def _update_answer(self) -> None:
+        """Where each candidate first reaches the target monotonic yield (yield sweeps only)."""
+        lines = [] if self.result is None else answer_lines(self.result,
+                                                              self.spin_target.value() / 100)
+        self.label_answer.setText("\n".join(lines))
 
     def _on_progress(self, channel: str, p: Progress) -> None:
         if channel == CHANNEL:

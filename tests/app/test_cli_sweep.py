@@ -33,9 +33,20 @@ def test_csv_with_yields(capsys):
                   "--topology", "segmented", "--set", "bits=6", "--tolerance", "0.5%",
                   "--trials", "50", "--seed", "3"])
     assert rc == 0
-    rows = list(csv.DictReader(capsys.readouterr().out.splitlines()))
+    out = capsys.readouterr()
+    rows = list(csv.DictReader(out.out.splitlines()))
     assert [r["thermometer_bits"] for r in rows] == ["0", "1", "2"]
     assert all(0.0 <= float(r["yield_monotonic"]) <= 1.0 for r in rows)
+    # the answer on stderr names the first M reaching 99 % monotonic boards, or the best reached
+    first = next((r for r in rows if float(r["yield_monotonic"]) >= 0.99), None)
+    if first is None:
+        best = max(rows, key=lambda r: float(r["yield_monotonic"]))
+        assert "never 99 % monotonic (best" in out.err
+        assert f"M = {best['thermometer_bits']})" in out.err
+    else:
+        assert (f"99 % monotonic first reached at M = {first['thermometer_bits']} "
+                in out.err)
+        assert f"— {first['n_resistors']} resistors, {first['n_switches']} switches" in out.err
 
 
 def test_bad_range_exits_2_naming_the_range(capsys):
@@ -45,3 +56,7 @@ def test_bad_range_exits_2_naming_the_range(capsys):
     rc = run_cli(["sweep", "--over", "bits", "--from", "3", "--to", "4", "--tolerance", "70%"])
     assert rc == 2
     assert "tolerance" in capsys.readouterr().err
+    rc = run_cli(["sweep", "--over", "bits", "--from", "3", "--to", "4", "--tolerance", "1%",
+                  "--target-yield", "120%"])
+    assert rc == 2
+    assert "target-yield" in capsys.readouterr().err

@@ -158,3 +158,23 @@ def test_point_list_names_the_swept_candidates_after_the_comparison_changes(qtbo
     design = blocker.args[0]
     assert design.name == "Segmented (N=4, M=2)"
     assert design.replace(name="") == SEG.replace(bits=4, name="")
+
+
+def test_answer_line_names_where_each_candidate_reaches_the_target(qtbot, pane):
+    pane.set_candidates([SEG])
+    pane.combo_over.setCurrentIndex(pane.combo_over.findData("thermometer_bits"))
+    pane.spin_from.setValue(0)
+    pane.spin_to.setValue(6)
+    pane.check_stats.setChecked(True)
+    pane.spin_trials.setValue(50)
+    result = _run(qtbot, pane)
+    _, mono = result.series(0, "yield_monotonic")
+    text = pane.label_answer.text()
+    reached = [m for m, y in enumerate(mono) if y >= 0.99]
+    if reached:
+        assert f"first reached at M = {reached[0]}" in text
+    else:
+        assert "never 99 % monotonic" in text
+    pane.spin_target.setValue(50.0)  # a new target rewrites the line without a new run
+    first = next(m for m, y in enumerate(mono) if y >= 0.5)
+    assert f"50 % monotonic first reached at M = {first}" in pane.label_answer.text()
