@@ -227,6 +227,7 @@ class PartsPane(QWidget):
         try:
             d = self.design()
         except RungwiseError as exc:
+            self.runner.cancel("parts")  # a result of the earlier choices must not replace this
             self.label_status.setText(str(exc))
             return
         if d is None:
@@ -242,6 +243,7 @@ class PartsPane(QWidget):
                 return
             limits = limits_from_text({k: e.text() for k, e in self.limit_edits.items()})
         except RungwiseError as exc:
+            self.runner.cancel("suggest")  # earlier limits' ranking must not replace this
             self.label_status.setText(str(exc))
             return
         self.label_status.setText("Trying every value of the series…")

@@ -6,6 +6,7 @@ import csv
 import importlib
 
 import pytest
+from PySide6.QtCore import QCoreApplication
 
 from rungwise.app.view_registry import VIEWS
 from rungwise.core import Design, evaluate
@@ -123,3 +124,17 @@ def test_role_coefficients_and_range_drive_the_drift_figures(qtbot, pane):
     pane.tempco_edits["leg"].setText("warm")
     pane.refresh()
     assert "tempco of leg" in pane.label_status.text()
+
+
+def test_a_refused_entry_is_not_replaced_by_the_earlier_result(qtbot, pane):
+    # found by the soak run: a job started before the bad entry finished after it and replaced the
+    # refusal with "No part over its rating or limit", as if the entry had been taken
+    pane.set_candidates([LADDER.replace(bits=12)])  # starts a job
+    assert pane.runner.is_busy("parts")
+    pane.edit_temp_high.setText("abc")
+    pane.edit_temp_high.editingFinished.emit()
+    refusal = pane.label_status.text()
+    assert refusal.startswith("temp_high_c: cannot read 'abc'")
+    qtbot.waitUntil(lambda: pane.runner.active_count() == 0, timeout=30000)
+    QCoreApplication.processEvents()  # anything the finished job queued is delivered now
+    assert pane.label_status.text() == refusal
