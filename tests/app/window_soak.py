@@ -9,7 +9,9 @@ caused it. Every action is logged; a failure reports the seed and the log so it 
 
 from __future__ import annotations
 
+import builtins
 import random
+import re
 import sys
 import time
 import traceback
@@ -49,10 +51,22 @@ BAD = ["", "abc", "-5k", "1e30", "nan", "0", "--1", "4k7k", "1 %%", "-inf", "1e4
 NAMES = ["Option A", "", "  padded  ", "Ladder Ω", "x" * 60, "Segmented 6+6", "Option A"]
 """Names typed when renaming a candidate."""
 
+PARTS_TEXT = {
+    "tempco": ["100", "25 ppm", "1e-4", "-50", "", "abc", "nan", "inf", "1e9", "5%", "--3"],
+    "temperature": ["-40", "85", "", "abc", "1e6", "-300", "125"],
+    "limit": ["1m", "20k", "2u", "0.01", "", "abc", "-1", "0", "1e400"],
+}
+"""Entries typed into the Parts view's fields (its own parser decides which are accepted)."""
+
 EXPECTED_MESSAGES = ("Four candidates are compared already",)
 """Message boxes a person may legitimately meet during the run (others are failures)."""
 
 LEFT = Qt.MouseButton.LeftButton
+
+INTERNAL_ERROR = re.compile(r"\b(" + "|".join(
+    name for name in dir(builtins) if isinstance(getattr(builtins, name), type)
+    and issubclass(getattr(builtins, name), Exception)) + r"|LinAlgError)\b")
+"""Python's own exception names: a view that shows one leaked an internal failure."""
 
 PLATFORM_NOTES = ("This plugin does not support propagateSizeHints()",)
 """Qt messages of the offscreen test platform itself (a window's size hints have nowhere to go
@@ -141,7 +155,9 @@ class Soak:
             ("seed", 1, self.seed_entry),
             ("colour", 1, self.colour),
             ("file", 1, self.file),
+            ("parts", 3, self.parts),
         ]
+        self.parts_view = window.views["parts_pane"]
         self._fresh_history = False
 
     # --- running --------------------------------------------------------------------------------
@@ -213,6 +229,10 @@ class Soak:
         assert [lst.item(i).text() for i in range(lst.count())] == [c.name for c in state.candidates]
         assert lst.currentRow() == state.selected
         assert not self.pane.has_pending()
+        for label in (self.stats.label_status, self.explorer.label_status,
+                      self.parts_view.label_status, w.status_text):
+            found = INTERNAL_ERROR.search(label.text())
+            assert found is None, f"an internal error is shown: {label.text()!r}"
         assert w.model.modified == (not w.files.history.is_clean())
         assert w.isWindowModified() == w.model.modified
 
@@ -522,6 +542,60 @@ class Soak:
             return f"{text!r} run, {outcome}"
         assert view.label_status.text().startswith("Seed: a whole number from 0 to")
         return f"{text!r} refused"
+
+    def parts(self) -> str:
+        """On the Parts tab: a series, temperature coefficients or range typed (valid or not),
+        limits typed and Suggest, a suggested value or the series choice added as a candidate."""
+        view = self.parts_view
+        self._show_tab("parts_pane")
+        roll = self.rng.random()
+        if roll < 0.2:
+            i = self.rng.randrange(view.combo_series.count())
+            view.combo_series.setCurrentIndex(i)
+            note = f"series {view.combo_series.itemText(i)}"
+        elif roll < 0.45:
+            role = self.rng.choice(sorted(view.tempco_edits))
+            text = self.rng.choice(PARTS_TEXT["tempco"])
+            self._enter(view.tempco_edits[role], text)
+            note = f"tempco {role}={text!r}"
+        elif roll < 0.6:
+            edit = self.rng.choice([view.edit_temp_low, view.edit_temp_high])
+            text = self.rng.choice(PARTS_TEXT["temperature"])
+            self._enter(edit, text)
+            note = f"{edit.objectName()}={text!r}"
+        elif roll < 0.85:
+            key = self.rng.choice(sorted(view.limit_edits))
+            text = self.rng.choice(PARTS_TEXT["limit"])
+            self._enter(view.limit_edits[key], text)
+            self.qtbot.mouseClick(view.button_suggest, LEFT)
+            self._parts_idle()
+            note = f"limit {key}={text!r}, suggest: {view.label_status.text()!r}"
+            rows = view.table_suggest.rowCount()
+            if rows and self.rng.random() < 0.5:
+                view.table_suggest.selectRow(self.rng.randrange(rows))
+                note += self._parts_adds(view.button_use_value)
+        else:
+            note = "add the series choice" + self._parts_adds(view.button_use_series)
+        self._parts_idle()
+        return note + f" → {view.label_status.text()!r}"
+
+    def _enter(self, edit: QLineEdit, text: str) -> None:
+        edit.selectAll()
+        self.qtbot.keyClick(edit, Qt.Key.Key_Backspace)
+        type_text(self.qtbot, edit, text)
+        self.qtbot.keyClick(edit, Qt.Key.Key_Return)
+
+    def _parts_idle(self) -> None:
+        runner = self.parts_view.runner
+        self.qtbot.waitUntil(lambda: not runner.is_busy("parts") and not runner.is_busy("suggest"),
+                             timeout=60000)
+
+    def _parts_adds(self, button) -> str:
+        n, could = len(self.state.candidates), self.state.can_add()
+        self.qtbot.mouseClick(button, LEFT)
+        added = len(self.state.candidates) - n
+        assert added in ((0, 1) if could else (0,))
+        return ", added" if added else ", not added"
 
     def _finish_or_cancel(self, runner, channel: str, cancel_button, done_signal) -> str:
         """Cancel at once, cancel after the first progress, or wait for the result."""
