@@ -27,6 +27,8 @@ from typing import Any
 
 from PySide6.QtCore import QObject, QRunnable, QThreadPool, Signal
 
+from rungwise.core.errors import RungwiseError
+
 
 @dataclass(frozen=True)
 class Progress:
@@ -114,7 +116,8 @@ class _Task(QRunnable):
             pass
         except Exception as exc:  # shown to the user by the window, never a crash
             if not self.cancel.is_set():
-                msg = f"{type(exc).__name__}: {exc}"
+                msg = str(exc) if isinstance(exc, RungwiseError) and str(exc) else \
+                    f"{type(exc).__name__}: {exc}"  # our refusals read as words, others by name
                 if not str(exc):
                     msg += "\n" + traceback.format_exc(limit=3)
                 self.signals.failed.emit(self.channel, self.rid, msg)

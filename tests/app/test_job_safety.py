@@ -13,6 +13,7 @@ from rungwise.app import live_results
 from rungwise.app.stats_job import StatsRequest, statistics_job
 from rungwise.app.workers import JobRunner
 from rungwise.core import Design
+from rungwise.core.errors import DesignError
 
 CANCEL_WAIT_S = 2.0
 """Upper bound here; the 200 ms goal is measured by tests/benchmarks/bench_cancel.py."""
@@ -110,3 +111,21 @@ def test_shutdown_switches_collection_back_on(qtbot):
     assert not gc.isenabled()  # off while a job runs
     assert runner.shutdown(10000)
     assert gc.isenabled()
+
+
+def test_a_refusal_in_a_job_reads_as_words(qtbot):
+    # a design the engine refuses inside a job: the message is the refusal, not a class name
+    def refused(_cancel):
+        raise DesignError("series (bit0)", "4.9e+08 Ω lies outside the E96 values offered")
+
+    def broken(_cancel):
+        raise ValueError("internal")
+
+    runner = JobRunner()
+    with qtbot.waitSignal(runner.failed, timeout=10000) as blocker:
+        runner.submit("a", refused)
+    assert blocker.args == ["a", "series (bit0): 4.9e+08 Ω lies outside the E96 values offered"]
+    with qtbot.waitSignal(runner.failed, timeout=10000) as blocker:
+        runner.submit("b", broken)
+    assert blocker.args == ["b", "ValueError: internal"]  # an internal failure says what it was
+    assert runner.shutdown()
