@@ -48,9 +48,18 @@ GENERAL_PIECE_WORK = 1 << 20
 piece is solved in aligned blocks of codes; the cancel event is checked between pieces (and
 between the linearity figures of a long curve), so a cancel returns within 200 ms at any size."""
 
+ARRAY_SETUP_PARTS = 4096
+"""Above this many array-held parts (a string's resistors, a group's legs) a trial's codes are not
+split into pieces: every solve gathers all their values first (≈ 140 ms for 65,535 legs here,
+whatever the piece), so splitting would only repeat it."""
+
 EXACT_BATCH_TRIALS = 2048
-"""Most trials per exact-engine batch: a batch takes well under 100 ms even at 24 bits, so a
-cancel (checked between batches) returns within 200 ms; throughput per trial is unchanged."""
+"""Most trials per exact-engine batch."""
+
+EXACT_BATCH_WORK = 1 << 18
+"""Estimated work of one exact-engine batch, trials × (N + 1) basis codes × :func:`work_nodes`:
+about 40–50 ms here (2048 trials at 24 bits took 110–170 ms, too long for a 200 ms cancel on a
+busy machine); throughput per trial is unchanged."""
 
 ENVELOPE_ELEMENTS = 1 << 22
 """(trial, code) INL values kept for the per-code envelope (float32, 16 MB)."""
@@ -143,8 +152,12 @@ def plan_run(design: Design, trials: int, engine: Engine = "auto", net: Network 
         pairs = max(1, min(GENERAL_BATCH_ELEMENTS, GENERAL_PIECE_WORK // work_nodes(net)))
         batch = max(1, pairs // n_codes)
         piece = n_codes if batch * n_codes <= pairs else 1 << ((pairs // batch).bit_length() - 1)
+        if sum(c.size for c in net.chains) + sum(g.size for g in net.groups) > ARRAY_SETUP_PARTS:
+            piece = n_codes  # each solve's set-up (the array-held parts' values) outweighs a piece
     else:
-        batch = max(1, min(EXACT_BATCH_TRIALS, CHUNK_ELEMENTS // (design.bits + 1)))
+        per_trial = (design.bits + 1) * work_nodes(net)
+        batch = max(1, min(EXACT_BATCH_TRIALS, CHUNK_ELEMENTS // (design.bits + 1),
+                           EXACT_BATCH_WORK // per_trial))
         piece = n_codes
     units = sum(p.units for p in net.parts) + 1  # as _Sampler counts them
     batch = max(1, min(batch, BATCH_DRAWS // units))

@@ -9,13 +9,18 @@ import pytest
 from rungwise.app.cli import run_cli
 from rungwise.core import Design, DesignError, evaluate, limits
 from rungwise.core.montecarlo import (
+    BATCH_DRAWS,
     ENVELOPE_ELEMENTS,
+    EXACT_BATCH_TRIALS,
+    EXACT_BATCH_WORK,
     GENERAL_BATCH_ELEMENTS,
     MAX_GENERAL_CODES,
     plan_run,
+    work_nodes,
 )
 from rungwise.core.solve import CHUNK_ELEMENTS
 from rungwise.core.targets import MAX_TRIALS
+from rungwise.core.topologies import build
 
 evaluate_module = importlib.import_module("rungwise.core.evaluate")
 
@@ -62,10 +67,19 @@ def test_statistics_memory_is_bounded_at_24_bits_and_the_most_trials():
 def test_batches_of_a_many_unit_design_draw_a_bounded_number_of_values():
     # a unit-array binary network of 18 bits is 2^18 − 1 physical resistors per board: a batch
     # holds only as many boards as BATCH_DRAWS allows (each batch is one uninterruptible sampling)
-    from rungwise.core.montecarlo import BATCH_DRAWS
-
     design = Design(topology="binary-weighted", bits=18, build={"binary": "unit-array"})
     plan = plan_run(design, MAX_TRIALS)
     units = 2**18 - 1  # bit k is 2^k units
     assert plan.batch_trials == BATCH_DRAWS // (units + 1) == 8
-    assert plan_run(Design(topology="binary-weighted", bits=18), MAX_TRIALS).batch_trials == 2048
+    plain = plan_run(Design(topology="binary-weighted", bits=18), MAX_TRIALS)
+    assert plain.batch_trials == EXACT_BATCH_WORK // (19 * 16)  # work-bound: 19 codes, 16 nodes
+
+
+def test_exact_batches_shrink_with_the_work_of_a_trial():
+    # (N + 1) basis codes × nodes per trial: a 24-bit ladder gets fewer trials per batch
+    for bits in (8, 12, 24):
+        design = Design(bits=bits)
+        plan = plan_run(design, MAX_TRIALS)
+        per_trial = (bits + 1) * work_nodes(build(design))
+        assert plan.batch_trials == min(EXACT_BATCH_TRIALS, EXACT_BATCH_WORK // per_trial)
+    assert plan.batch_trials * per_trial <= EXACT_BATCH_WORK
