@@ -291,6 +291,9 @@ class DiagnosePane(QWidget):
         try:
             m = read_measurement(path)
         except RungwiseError as exc:
+            if self.runner.is_busy(CHANNEL):  # its result must not replace this message
+                self.runner.cancel(CHANNEL)
+                self._stale = True
             self.label_status.setText(f"Cannot use this file: {exc}")
             return False
         self.set_measurement(m)

@@ -103,3 +103,23 @@ def test_a_hidden_view_waits_until_shown(pane, qtbot, example):
     # the chosen built design is kept by name although it moved in the list
     assert pane.combo_design.currentIndex() == 1
     assert sig.args[0].design.topology == "r2r-voltage"
+
+
+def test_a_refused_file_is_not_replaced_by_the_running_analysis(pane, qtbot, example, tmp_path):
+    # found by the soak run: the analysis running when a damaged file was refused finished after
+    # it and replaced "Cannot use this file" with the earlier file's explanation
+    from PySide6.QtCore import QCoreApplication
+
+    pane.set_candidates(demo_candidates())
+    with qtbot.waitSignal(pane.diagnosis_changed, timeout=20000):
+        pane.load_measurement(example)
+    pane.combo_design.setCurrentIndex(1)  # starts another analysis
+    assert pane.runner.is_busy("diagnose")
+    damaged = tmp_path / "damaged.csv"
+    damaged.write_text("code, output\n0, 0.0\n1, x\n", encoding="utf-8")
+    assert not pane.load_measurement(damaged)
+    refusal = pane.label_status.text()
+    assert refusal.startswith("Cannot use this file: ")
+    qtbot.waitUntil(lambda: pane.runner.active_count() == 0, timeout=20000)
+    QCoreApplication.processEvents()  # anything the analysis queued is delivered now
+    assert pane.label_status.text() == refusal
