@@ -27,6 +27,7 @@ from rungwise.app.binding import design_value, display_text
 from rungwise.app.edit_history import UNDO_LIMIT
 from rungwise.app.main_window import STOPPED_TEXT
 from rungwise.core.design import FIELDS, Design
+from rungwise.core.diagnose.synthetic import sensor_bias_example
 from rungwise.core.errors import DesignError
 from rungwise.core.targets import MAX_SEED
 
@@ -156,8 +157,10 @@ class Soak:
             ("colour", 1, self.colour),
             ("file", 1, self.file),
             ("parts", 3, self.parts),
+            ("board", 2, self.board),
         ]
         self.parts_view = window.views["parts_pane"]
+        self.board_view = window.views["diagnose_pane"]
         self._fresh_history = False
 
     # --- running --------------------------------------------------------------------------------
@@ -578,6 +581,44 @@ class Soak:
             note = "add the series choice" + self._parts_adds(view.button_use_series)
         self._parts_idle()
         return note + f" → {view.label_status.text()!r}"
+
+    def board(self) -> str:
+        """On the Built board tab: load a measurement (as its file dialog would hand it over; now
+        and then a damaged one), pick the built candidate, trust offset and gain or not, and add the
+        as-built design as a candidate."""
+        view = self.board_view
+        self._show_tab("diagnose_pane")
+        roll = self.rng.random()
+        refused = False
+        if roll < 0.4 or view._measurement is None:
+            text = sensor_bias_example()
+            damage = self.rng.choice(["", "", "cut", "garbage"])
+            if damage == "cut":
+                text = text[: len(text) // 3] + "\n12, x\n"
+            elif damage == "garbage":
+                text = "code;volts\n\x00\x01 nonsense\n"
+            path = self.folder / f"board-{damage or 'good'}.csv"
+            path.write_text(text, encoding="utf-8")
+            ok = view.load_measurement(path)
+            refused = not ok
+            note = f"load {path.name}: {'read' if ok else 'refused'}"
+        elif roll < 0.7:
+            i = self.rng.randrange(view.combo_design.count())
+            view.combo_design.setCurrentIndex(i)
+            note = f"built candidate {i}"
+        else:
+            view.check_absolute.toggle()
+            note = f"absolute {view.check_absolute.isChecked()}"
+        self.qtbot.waitUntil(lambda: not view.runner.is_busy("diagnose"), timeout=60000)
+        if refused:  # the refusal stays in view
+            assert view.label_status.text().startswith("Cannot use this file: ")
+        if view.button_use.isEnabled() and self.rng.random() < 0.3:
+            n, could = len(self.state.candidates), self.state.can_add()
+            self.qtbot.mouseClick(view.button_use, LEFT)
+            assert len(self.state.candidates) == n + (1 if could else 0)
+            note += ", used as candidate"
+        assert not view.label_status.text().startswith("Cannot analyse: Internal error")
+        return note + f" → {view.label_status.text()[:80]!r}"
 
     def _enter(self, edit: QLineEdit, text: str) -> None:
         edit.selectAll()
