@@ -16,6 +16,7 @@ from rungwise.core import SUMMARY_KEYS, Evaluation, MonteCarloResult, evaluate, 
 from rungwise.core.errors import RungwiseError
 from rungwise.core.grades import CRITERIA
 from rungwise.core.montecarlo import check_run, plan_run
+from rungwise.core.review import DEFER, voltage_cautions
 from rungwise.core.targets import Targets
 from rungwise.core.units import format_value
 
@@ -155,6 +156,9 @@ def run(args: argparse.Namespace) -> int:
     """Evaluate and print; returns the exit code."""
     designs = chosen_candidates(args)
     evs = [evaluate(d) for d in designs]
+    warned = voltage_cautions(evs)
+    for line in [*warned, DEFER] if warned else []:  # on stderr: the figures stay machine-readable
+        print(f"rungwise: caution: {line}", file=sys.stderr)
     stats, grades = _statistics(args, designs)
     if args.format == "json":
         none = [None] * len(evs)

@@ -151,6 +151,19 @@ def bom_lines(ev: Evaluation) -> tuple[list, str | None]:
         return [], f"the bill of materials could not be made ({type(exc).__name__}: {exc})"
 
 
+def voltage_cautions(evs: Sequence[Evaluation]) -> list[str]:
+    """One caution per candidate whose reference or output exceeds ``SAFE_DC_VOLTS`` (without the
+    closing :data:`DEFER` sentence)."""
+    out = []
+    for ev in evs:
+        volts = max(abs(ev.design.vref), float(abs(ev.vout).max()))
+        if volts > SAFE_DC_VOLTS:
+            out.append(f"{ev.design.label}: voltages up to {format_value(volts, 'V')} exceed "
+                       f"{SAFE_DC_VOLTS:g} V DC, above the usual safety extra-low-voltage limit; "
+                       "the circuit needs insulation, spacing and protection by a qualified person.")
+    return out
+
+
 def cautions(evs: Sequence[Evaluation]) -> list[str]:
     """Cautions for the review, each with its figure: voltages above the safe low-voltage limit,
     parts and switches over their rating (the bill of materials' flags, with the design's
@@ -158,11 +171,7 @@ def cautions(evs: Sequence[Evaluation]) -> list[str]:
     out = []
     for ev in evs:
         label = ev.design.label
-        volts = max(abs(ev.design.vref), float(abs(ev.vout).max()))
-        if volts > SAFE_DC_VOLTS:
-            out.append(f"{label}: voltages up to {format_value(volts, 'V')} exceed "
-                       f"{SAFE_DC_VOLTS:g} V DC, above the usual safety extra-low-voltage limit; "
-                       "the circuit needs insulation, spacing and protection by a qualified person.")
+        out += voltage_cautions([ev])
         lines, problem = bom_lines(ev)
         if problem:
             out.append(f"{label}: part ratings not checked — {problem}.")

@@ -206,3 +206,17 @@ def _mutated(draw) -> list[str]:
 @given(argv=_mutated())
 def test_no_command_line_shows_a_traceback(folder, argv):
     _check(folder, argv)
+
+
+def test_compute_cautions_on_voltages_above_the_safe_low_voltage_limit(folder):
+    # the review's limit (core/review.py SAFE_DC_VOLTS, common practice); the figures stay on
+    # stdout, the caution and the deferral to datasheets and licensed practice go to stderr
+    out, err = io.StringIO(), io.StringIO()
+    with contextlib.chdir(folder), contextlib.redirect_stdout(out), contextlib.redirect_stderr(err):
+        assert run_cli(["compute", "--set", "vref=400", "--format", "json"]) == 0
+    assert "400 V exceed 60 V DC" in err.getvalue()
+    assert "licensed practice" in err.getvalue()
+    assert "caution" not in out.getvalue()
+    code, text = _run(folder, ["compute", "--format", "csv"])
+    assert code == 0
+    assert "caution" not in text
