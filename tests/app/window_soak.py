@@ -540,8 +540,7 @@ class Soak:
         self.qtbot.mouseClick(view.button_run, LEFT)
         if text.isdigit() and int(text) <= MAX_SEED:
             assert view.label_seed.text().startswith(f"Seed {text} ")
-            outcome = self._finish_or_cancel(view.runner, "statistics", view.button_cancel,
-                                             view.result_changed)
+            outcome = self._finish_or_cancel(view, "statistics", view.result_changed)
             return f"{text!r} run, {outcome}"
         assert view.label_status.text().startswith("Seed: a whole number from 0 to")
         return f"{text!r} refused"
@@ -638,34 +637,38 @@ class Soak:
         assert added in ((0, 1) if could else (0,))
         return ", added" if added else ", not added"
 
-    def _finish_or_cancel(self, runner, channel: str, cancel_button, done_signal) -> str:
-        """Cancel at once, cancel after the first progress, or wait for the result."""
+    def _finish_or_cancel(self, view, channel: str, done_signal) -> str:
+        """Cancel at once, cancel after the first progress, or wait for the result; a cancelled
+        run says so and no view's run is left busy."""
+        runner, button = view.runner, view.button_cancel
         roll = self.rng.random()
-        if roll < 0.4:
-            self.qtbot.mouseClick(cancel_button, LEFT) if cancel_button.isEnabled() else None
-            outcome = "cancelled at once"
-        elif roll < 0.8:
-            seen: list[str] = []
+        if roll < 0.8:
+            if roll >= 0.4:  # wait for the first progress (or the end) before cancelling
+                seen: list[str] = []
 
-            def note(got: str, _p) -> None:
-                seen.append(got)
+                def note(got: str, _p) -> None:
+                    seen.append(got)
 
-            runner.progress.connect(note)
-            try:
-                self.qtbot.waitUntil(lambda: channel in seen or not runner.is_busy(channel),
-                                     timeout=60000)
-            finally:
-                runner.progress.disconnect(note)
-            if cancel_button.isEnabled():
-                self.qtbot.mouseClick(cancel_button, LEFT)
-            outcome = "cancelled after progress"
+                runner.progress.connect(note)
+                try:
+                    self.qtbot.waitUntil(lambda: channel in seen or not runner.is_busy(channel),
+                                         timeout=60000)
+                finally:
+                    runner.progress.disconnect(note)
+            when = "at once" if roll < 0.4 else "after progress"
+            if not button.isEnabled():
+                outcome = f"done before a cancel {when}"
+            else:
+                self.qtbot.mouseClick(button, LEFT)
+                assert view.label_status.text() == "Cancelled"
+                outcome = f"cancelled {when}"
         else:
             if runner.is_busy(channel):
                 with self.qtbot.waitSignal(done_signal, timeout=120000):
                     pass
             outcome = "finished"
-        assert not runner.is_busy(channel) or outcome == "finished"
-        assert not cancel_button.isEnabled()
+        assert not runner.is_busy(channel)
+        assert not button.isEnabled()
         return outcome
 
     def statistics(self) -> str:
@@ -676,12 +679,8 @@ class Soak:
         view.spin_trials.setValue(trials)
         view.edit_seed.setText(str(self.rng.randrange(1000)))
         self.qtbot.mouseClick(view.button_run, LEFT)
-        outcome = self._finish_or_cancel(view.runner, "statistics", view.button_cancel,
-                                         view.result_changed)
-        if outcome == "cancelled at once" or outcome.startswith("cancelled"):
-            assert view.label_status.text() in ("Cancelled", "") or not view.runner.is_busy(
-                "statistics")
-        return f"{trials} boards, {outcome}"
+        assert view.label_seed.text().startswith(f"Seed {view.edit_seed.text()} · {trials} boards")
+        return f"{trials} boards, " + self._finish_or_cancel(view, "statistics", view.result_changed)
 
     def sweep(self) -> str:
         """On the Trade-offs tab: a short sweep, Run, Cancel or finish, maybe add a point."""
@@ -696,8 +695,7 @@ class Soak:
         view.check_stats.setChecked(self.rng.random() < 0.2)
         view.spin_trials.setValue(20)
         self.qtbot.mouseClick(view.button_run, LEFT)
-        outcome = self._finish_or_cancel(view.runner, "explorer", view.button_cancel,
-                                         view.result_changed)
+        outcome = self._finish_or_cancel(view, "explorer", view.result_changed)
         note = f"{over} {low}…{high} {outcome}"
         if view.result is not None and self.rng.random() < 0.6:
             note += self._add_point(view, low, high)
