@@ -30,6 +30,7 @@ from PySide6.QtWidgets import (
 from rungwise.core import Design
 from rungwise.core.errors import RungwiseError
 from rungwise.core.parts.bom import CAUTION, to_csv
+from rungwise.core.topologies import build
 from rungwise.core.types import SERIES
 
 from .parts_report import (
@@ -272,7 +273,7 @@ class PartsPane(QWidget):
             self.label_status.setText(str(exc))
             return
         if d is not None:
-            self.candidate_requested.emit(d.replace(name=f"{d.label} ({d.series})"))
+            self._offer(d.replace(name=f"{d.label} ({d.series})"))
 
     def _request_value(self) -> None:
         try:
@@ -285,8 +286,17 @@ class PartsPane(QWidget):
             return
         r = self._suggestions[row].unit_r
         series = d.series if d.series != "exact" else "E96"
-        self.candidate_requested.emit(d.replace(unit_r=r, series=series,
-                                                name=f"{d.label} ({r:g} Ω, {series})"))
+        self._offer(d.replace(unit_r=r, series=series, name=f"{d.label} ({r:g} Ω, {series})"))
+
+    def _offer(self, design: Design) -> None:
+        """Emit ``candidate_requested`` with ``design`` unless its parts cannot be built (a value
+        the series does not offer, say): then say why here and add nothing."""
+        try:
+            build(design)  # snapping and part values are checked when the network is built
+        except RungwiseError as exc:
+            self.label_status.setText(f"Not added: {exc}")
+            return
+        self.candidate_requested.emit(design)
 
     # --- results ---------------------------------------------------------------------------------
     def _on_finished(self, channel: str, result) -> None:

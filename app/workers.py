@@ -19,6 +19,7 @@ thread) when the last job ends, so garbage is collected there.
 from __future__ import annotations
 
 import gc
+import sys
 import threading
 import traceback
 from collections.abc import Callable, Iterator
@@ -99,6 +100,20 @@ class _Signals(QObject):
     idle = Signal()                       # the last running job of any runner ended
 
 
+def failure_text(exc: BaseException) -> str:
+    """What the window shows for a job that raised ``exc`` — never a traceback.
+
+    Our refusals read as their words; any other exception is an internal fault: its name and
+    message, and the traceback goes to the program's error output for a bug report.
+    """
+    if isinstance(exc, RungwiseError) and str(exc):
+        return str(exc)
+    print("rungwise: internal error in a background job:\n"
+          + "".join(traceback.format_exception(exc)), file=sys.stderr, flush=True)
+    what = f"{type(exc).__name__}: {exc}" if str(exc) else type(exc).__name__
+    return f"{what} (an internal fault; details were written to the error output)"
+
+
 class _Task(QRunnable):
     def __init__(self, channel: str, rid: int, job, cancel: threading.Event, signals: _Signals):
         super().__init__()
@@ -116,11 +131,7 @@ class _Task(QRunnable):
             pass
         except Exception as exc:  # shown to the user by the window, never a crash
             if not self.cancel.is_set():
-                msg = str(exc) if isinstance(exc, RungwiseError) and str(exc) else \
-                    f"{type(exc).__name__}: {exc}"  # our refusals read as words, others by name
-                if not str(exc):
-                    msg += "\n" + traceback.format_exc(limit=3)
-                self.signals.failed.emit(self.channel, self.rid, msg)
+                self.signals.failed.emit(self.channel, self.rid, failure_text(exc))
         finally:
             self.done.set()
             if _job_ended():

@@ -127,5 +127,24 @@ def test_a_refusal_in_a_job_reads_as_words(qtbot):
     assert blocker.args == ["a", "series (bit0): 4.9e+08 Ω lies outside the E96 values offered"]
     with qtbot.waitSignal(runner.failed, timeout=10000) as blocker:
         runner.submit("b", broken)
-    assert blocker.args == ["b", "ValueError: internal"]  # an internal failure says what it was
+    # an internal failure says what it was
+    assert blocker.args == ["b", "ValueError: internal (an internal fault; details were written to "
+                                 "the error output)"]
+    assert runner.shutdown()
+
+
+def test_an_internal_fault_without_words_shows_no_traceback(qtbot, capsys):
+    def bare(_cancel):
+        raise AssertionError
+
+    runner = JobRunner()
+    with qtbot.waitSignal(runner.failed, timeout=10000) as blocker:
+        runner.submit("c", bare)
+    shown = blocker.args[1]
+    assert shown.startswith("AssertionError (an internal fault")
+    assert "Traceback" not in shown
+    assert "\n" not in shown
+    err = capsys.readouterr().err
+    assert "Traceback (most recent call last)" in err  # kept for a bug report
+    assert "in bare" in err
     assert runner.shutdown()

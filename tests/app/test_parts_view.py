@@ -138,3 +138,23 @@ def test_a_refused_entry_is_not_replaced_by_the_earlier_result(qtbot, pane):
     qtbot.waitUntil(lambda: pane.runner.active_count() == 0, timeout=30000)
     QCoreApplication.processEvents()  # anything the finished job queued is delivered now
     assert pane.label_status.text() == refusal
+
+
+def test_choices_the_core_refuses_are_not_added(qtbot, pane):
+    # a 16-bit binary-weighted LSB resistor of 10 kΩ·2^15 ≈ 328 MΩ lies beyond the E96 values
+    # (1 Ω … 10 MΩ): nothing is added and the reason is shown where the button is
+    wide = Design(topology="binary-weighted", bits=16, unit_r=10e3, name="Wide")
+    pane.set_candidates([wide])
+    qtbot.waitUntil(lambda: pane.runner.active_count() == 0, timeout=60000)
+    pane.combo_series.setCurrentText("E96")
+    qtbot.waitUntil(lambda: pane.runner.active_count() == 0, timeout=60000)
+    requested: list = []
+    pane.candidate_requested.connect(requested.append)
+    pane.button_use_series.click()
+    assert requested == []
+    assert pane.label_status.text().startswith("Not added: ")
+    assert "E96" in pane.label_status.text()
+    pane.combo_series.setCurrentText("exact")  # no snapping: it can be built, so it is added
+    pane.button_use_series.click()
+    assert len(requested) == 1
+    assert requested[0].bits == 16
