@@ -54,7 +54,10 @@ def answer_lines(result: SweepResult, target: float, metric: str = "yield_monoto
                          f"resistors, {f.get('n_switches', '?')} switches")
             continue
         best = _best(result, ci, metric)
-        if best is None:
+        mine = [q for q in (result.point(ci, v) for v in result.values) if q is not None]
+        if mine and all(q.design is None for q in mine):  # the swept variable does not apply
+            lines.append(f"{design.label}: not swept — {mine[0].note.split(': ', 1)[-1]}")
+        elif best is None:
             lines.append(f"{design.label}: no {what} figure{partial} in this sweep")
         else:
             lines.append(f"{design.label}: never {target * 100:g} % {what}{partial} (best "

@@ -41,3 +41,11 @@ def test_partial_sweeps_say_so_and_nominal_sweeps_say_nothing():
     assert answer_lines(r, 0.99)[1] == "Lad: never 99 % monotonic so far (best 30 % at M = 1)"
     nominal = SweepResult("bits", [4], [SEG], None, [SweepPoint(0, 4, SEG, {"n_resistors": 3})])
     assert answer_lines(nominal, 0.99) == []
+
+
+def test_a_candidate_the_sweep_does_not_apply_to_says_why():
+    from rungwise.core.sweep import sweep
+
+    r = sweep([SEG.replace(bits=4), LAD], "thermometer_bits", [0, 1], SweepStatistics(0.01, 20, 1))
+    assert answer_lines(r, 0.99)[1] == (
+        "Lad: not swept — only segmented designs have thermometer bits (Lad is r2r-voltage)")
