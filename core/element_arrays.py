@@ -40,6 +40,12 @@ def array_values(prefix: str, nominal: np.ndarray, ohms: Mapping[str, np.ndarray
         return nominal
     values = [got[i] for i in idx]
     shapes = {getattr(v, "shape", ()) for v in values}
+    if len(shapes) == 1 and all(isinstance(v, np.ndarray) for v in values):
+        trial = next(iter(shapes))
+        if len(trial) >= 1 and trial[-1] == 1:  # the usual trials × 1 overrides: join in C
+            out = np.array(np.broadcast_to(nominal, (*trial[:-1], m)), dtype=float)
+            out[..., idx] = np.concatenate(values, axis=-1)
+            return out
     trial = shapes.pop() if len(shapes) == 1 else np.broadcast_shapes(*[np.shape(v) for v in values])
     if shapes or any(np.shape(v) != trial for v in values[:1]):
         values = [np.broadcast_to(v, trial) for v in values]

@@ -35,7 +35,7 @@ import numpy as np
 
 from .build_style import unit_ohms
 from .errors import DesignError
-from .network import Network
+from .network import Network, PartArray, PartList
 from .units import parse_value
 
 MismatchModelName = Literal["parts", "on-chip", "array"]
@@ -249,41 +249,56 @@ def sample_ohms(design: Any, net: Network, rng: np.random.Generator, n_trials: i
         s_scale = model.shared_tolerance / (model.coverage_sigma if distribution == "gaussian" else 1.0)
         shared = s_scale * _standard(rng, (n_trials, 1), distribution)
     out: dict[str, np.ndarray] = {}
-    parts = list(net.parts)
-    first = 0
-    while first < len(parts):  # runs of parts drawn alike, one draw each (same order as part by part)
-        kind = (parts[first].units, parts[first].joined)
-        last = first + 1
-        while last < len(parts) and (parts[last].units, parts[last].joined) == kind:
-            last += 1
-        run = parts[first:last]
-        _sample_run(run, design, model, rng, n_trials, scale, shared, distribution, out)
-        first = last
+    for ids, unit, units, joined in _runs(net):  # one draw per run, the same order as part by part
+        _sample_run(ids, unit, units, joined, design, model, rng, n_trials, scale, shared,
+                    distribution, out)
     return out
 
 
-def _sample_run(run: list, design: Any, model: MismatchModel, rng: np.random.Generator,
-                n_trials: int, scale: float, shared: np.ndarray | float, distribution: str,
-                out: dict[str, np.ndarray]) -> None:
-    """Values of consecutive parts of equal ``units`` and ``joined`` into ``out`` (shape
+def _runs(net: Network):
+    """Runs of consecutive parts made alike — (ids, unit values Ω shape (k,), units, joined) —
+    read from the part list's blocks, so a 65,536-part string is one run with no object per part."""
+    pending: list = []  # (ids, unit values, units, joined) of the run being gathered
+    for block in PartList.of(net.parts).blocks:
+        if isinstance(block, PartArray):
+            ids, unit = block.ids(), PartList([block]).unit_ohms()
+            kind = (block.units, block.joined)
+        else:
+            ids, unit = (block.part_id,), np.array([unit_ohms(block)], dtype=float)
+            kind = (block.units, block.joined)
+        if pending and pending[-1][2:] == kind:
+            pending[-1][0].extend(ids)
+            pending[-1][1].append(unit)
+        else:
+            pending.append(([*ids], [unit], *kind))
+    for ids, units_ohms, units, joined in pending:
+        yield ids, np.concatenate(units_ohms), units, joined
+
+
+def _sample_run(ids: list[str], unit: np.ndarray, units: int, joined: str, design: Any,
+                model: MismatchModel, rng: np.random.Generator, n_trials: int, scale: float,
+                shared: np.ndarray | float, distribution: str, out: dict[str, np.ndarray]) -> None:
+    """Values of one run of parts made alike (``ids``, unit values ``unit``) into ``out`` (shape
     (n_trials, 1) each): one draw of shape (parts, n_trials, units), the same numbers as drawing
     part by part."""
-    units, joined = run[0].units, run[0].joined
-    unit = [unit_ohms(part) for part in run]
-    coef = np.array([u * temperature_factor(model, part.part_id) for u, part in zip(unit, run,
-                                                                                   strict=True)])
+    run = len(ids)
+    if model.tempco_parts:
+        factor = np.array([temperature_factor(model, pid) for pid in ids])
+    else:
+        factor = np.full(run, 1.0 + model.tempco * (model.temperature_c - model.reference_c))
+    coef = unit * factor
     if model.model == "on-chip":
         sigma = np.array([area_law_sigma(model.area_coefficient, model.unit_width,
                                          model.unit_length * (u / design.unit_r)) for u in unit])
-        err = sigma[:, None, None] * _standard(rng, (len(run), n_trials, units), distribution)
+        err = sigma[:, None, None] * _standard(rng, (run, n_trials, units), distribution)
     else:
-        err = scale * _standard(rng, (len(run), n_trials, units), distribution)
+        err = scale * _standard(rng, (run, n_trials, units), distribution)
     values = coef[:, None, None] * (1.0 + shared + err)
     low = np.any(values <= 0, axis=(1, 2))
     if np.any(low):
         if model.model == "on-chip":
             raise DesignError("mismatch.area_coefficient", "the area law's spread drew a "
-                              f"resistor at or below 0 Ω ({run[int(np.argmax(low))].part_id}); "
+                              f"resistor at or below 0 Ω ({ids[int(np.argmax(low))]}); "
                               "lower the area coefficient or make the devices larger")
         raise DesignError("mismatch.tolerance", "the spread drew a resistor at or below 0 Ω; "
                           "lower the tolerance or use the uniform distribution")
@@ -293,5 +308,4 @@ def _sample_run(run: list, design: Any, model: MismatchModel, rng: np.random.Gen
         combined = np.sum(values, axis=2, keepdims=True)
     else:
         combined = values
-    for part, v in zip(run, combined, strict=True):
-        out[part.part_id] = v
+    out.update(zip(ids, combined, strict=True))

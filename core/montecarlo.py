@@ -27,7 +27,7 @@ from .design import Design
 from .errors import DesignError
 from .metrics import linearity
 from .mismatch import MismatchModel, sample_ohms
-from .network import Network
+from .network import Network, PartList
 from .solve import CHUNK_ELEMENTS, solve
 from .stats_result import MonteCarloResult
 from .targets import MAX_SEED, MAX_TRIALS, Targets
@@ -159,7 +159,7 @@ def plan_run(design: Design, trials: int, engine: Engine = "auto", net: Network 
         batch = max(1, min(EXACT_BATCH_TRIALS, CHUNK_ELEMENTS // (design.bits + 1),
                            EXACT_BATCH_WORK // per_trial))
         piece = n_codes
-    units = sum(p.units for p in net.parts) + 1  # as _Sampler counts them
+    units = _unit_count(net)  # as _Sampler counts them
     batch = max(1, min(batch, BATCH_DRAWS // units))
     if n_codes <= ENVELOPE_MAX_CODES:
         env_codes = np.arange(n_codes, dtype=np.int64)
@@ -187,12 +187,17 @@ def _stop_if(cancel: Any) -> None:
         raise _Cancelled
 
 
+def _unit_count(net: Network) -> int:
+    """Physical resistors drawn per trial, plus one (the shared error), from the part arrays."""
+    return int(PartList.of(net.parts).units().sum()) + 1
+
+
 class _Sampler:
     """Trials ``start … start + n`` of a seeded run, independent of how they are requested."""
 
     def __init__(self, design: Design, net: Network, seed: int) -> None:
         self.design, self.net, self.seed = design, net, seed
-        units = sum(p.units for p in net.parts) + 1
+        units = _unit_count(net)
         self.block = max(1, min(4096, BLOCK_DRAWS // units))
         self._cached: tuple[int, dict[str, np.ndarray]] | None = None
 

@@ -248,7 +248,7 @@ def solve(
                            "changes the nodal matrix (unequal on-resistances or a reference with "
                            "output resistance)")
     use_super = linear and method in ("auto", "superposition")
-    trial_shape = np.broadcast_shapes(*[np.shape(v) for v in ohms.values()]) if ohms else ()
+    trial_shape = np.broadcast_shapes(*{np.shape(v) for v in ohms.values()}) if ohms else ()
     probe_node = None if st.virtual else st.index[net.output.node]
     plan = _plan(st.n, st.pairs)
     per_code = max(1, int(np.prod(trial_shape)))

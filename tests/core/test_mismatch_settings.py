@@ -133,3 +133,44 @@ def test_an_area_law_spread_below_zero_ohms_names_the_area_coefficient():
     with pytest.raises(DesignError) as info:
         monte_carlo(design, 50, seed=1)
     assert info.value.field == "mismatch.area_coefficient"
+
+
+def _drawn_part_by_part(design, net, rng, n):
+    """The reference order: for each part in turn, its units' errors (parts of a run drawn
+    together are the same numbers, since the generator fills arrays in C order)."""
+    model = MismatchModel.of(design)
+    scale = model.tolerance / model.coverage_sigma
+    out = {}
+    parts = list(net.parts)
+    first = 0
+    while first < len(parts):
+        kind = (parts[first].units, parts[first].joined)
+        last = first + 1
+        while last < len(parts) and (parts[last].units, parts[last].joined) == kind:
+            last += 1
+        err = scale * rng.standard_normal((last - first, n, kind[0]))
+        for p, e in zip(parts[first:last], err, strict=True):
+            unit = p.ohms * p.units if p.joined == "parallel" else (
+                p.ohms / p.units if p.joined == "series" else p.ohms)
+            v = unit * (1.0 + e)
+            out[p.part_id] = (1.0 / np.sum(1.0 / v, axis=1, keepdims=True) if p.joined == "parallel"
+                              else np.sum(v, axis=1, keepdims=True) if p.joined == "series" else v)
+        first = last
+    return out
+
+
+def test_array_held_parts_are_sampled_without_an_object_per_part():
+    # a string (one array block) and a unit-array segmented design (array block + plain parts):
+    # the same numbers as the part-by-part order, and the string's part list never made its
+    # 1,024 Part objects
+    for d in (Design(topology="string", bits=10, mismatch={"tolerance": 0.01, "distribution": "gaussian"}),
+              Design(topology="segmented", bits=8, thermometer_bits=3, build={"lsb_section": "unit-array"},
+                     mismatch={"tolerance": 0.01, "distribution": "gaussian"})):
+        net = build(d)
+        got = sample_ohms(d, net, np.random.default_rng(5), 3)
+        if d.topology == "string":
+            assert net.parts._items is None
+        want = _drawn_part_by_part(d, build(d), np.random.default_rng(5), 3)
+        assert list(got) == list(want)
+        for pid in want:
+            np.testing.assert_allclose(got[pid], want[pid], rtol=1e-15, err_msg=pid)
