@@ -68,16 +68,17 @@ def build(design: Design, grouped: bool = True) -> Network:
     n, m, r = design.bits, design.thermometer_bits, design.unit_r
     lad = n - m
     n_seg = 2**m - 1
-    if build_choice(design, "lsb_section") == "unit-array":
-        seg_ohms = _segment_ohms(design, n_seg, segmented_units.segment_nominal(design))
-        decode = _grouped_decoder(lad, bool(n_seg)) if grouped else _plain_decoder(lad, n_seg)
-        return segmented_units.build(design, decode, seg_ohms, grouped)
     fixed, resistors, source = reference(design)
-    join = f"n{max(lad, 1) - 1}"
-    seg_ohms = _segment_ohms(design, n_seg, r)
+    if build_choice(design, "lsb_section") == "unit-array":
+        join = segmented_units.OUT
+        seg_ohms = _segment_ohms(design, n_seg, segmented_units.segment_nominal(design))
+        legs, section, parts = segmented_units.unit_section(design)
+    else:
+        join = f"n{max(lad, 1) - 1}"
+        seg_ohms = _segment_ohms(design, n_seg, r)
+        legs, section, parts = r2r_section(design, lad, "ref", 2 * r if lad else r)
     seg_parts = PartArray("seg", "segment", seg_ohms)
-    legs, ladder, parts = r2r_section(design, lad, "ref", 2 * r if lad else r)
-    resistors += ladder
+    resistors += section
     groups = []
     if grouped:
         if n_seg:

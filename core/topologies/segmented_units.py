@@ -16,21 +16,9 @@ own switch of ``ron_high``/``ron_low`` (switches are not scaled with the leg). P
 
 from __future__ import annotations
 
-import numpy as np
-
 from ..design import Design
-from ..network import (
-    GROUND,
-    Network,
-    Output,
-    Part,
-    PartArray,
-    PartList,
-    Resistor,
-    SwitchedLeg,
-    ThermometerGroup,
-)
-from .common import reference, value
+from ..network import GROUND, Part, Resistor, SwitchedLeg
+from .common import value
 
 SIZING_RULE = ("unit-element LSB section: one unit is R·2^(N−1), bit k is 2^k units and each "
                "segment 2^(N−M) units in parallel, plus one terminating unit (2^N units in all)")
@@ -47,43 +35,26 @@ def part_ids(bits: int, thermometer_bits: int) -> list[str]:
             + ["term"])
 
 
-def build(design: Design, decode, segment_ohms: np.ndarray, grouped: bool = True) -> Network:
-    """The unit-array segmented network of ``design``.
+def unit_section(design: Design) -> tuple[list, list, list]:
+    """The L-bit unit-element binary section at node :data:`OUT` (the counterpart of
+    ``common.r2r_section``): bit k = R·2^(N−1−k) switched between reference and ground, and the
+    terminating unit R·2^(N−1) to ground.
 
-    ``decode`` is the segmented decoder (bits 0 … L−1, then the segment level when ``grouped``,
-    else one column per segment first); ``segment_ohms`` the segments' values, shape (2^M − 1,),
-    ohms. ``grouped=False`` gives one plain :class:`SwitchedLeg` per segment.
+    Returns
+    -------
+    legs : list[SwitchedLeg], resistors : list[Resistor], parts : list[Part]
     """
-    n, m = design.bits, design.thermometer_bits
-    lad = n - m
+    n, lad = design.bits, design.bits - design.thermometer_bits
     unit = design.unit_r * 2.0 ** (n - 1)
-    fixed, resistors, source = reference(design)
-    n_seg = 2**m - 1
-    segments = PartArray("seg", "segment", np.asarray(segment_ohms, dtype=float))
-    parts: list = []
-    legs, groups = [], []
+    legs, parts = [], []
     for k in range(lad):
         ohms = value(design, f"bit{k}", unit / 2**k)
         legs.append(SwitchedLeg(f"bit{k}", "bit", OUT, "ref", GROUND, ohms, design.ron_high,
                                 design.ron_low))
         parts.append(Part(f"bit{k}", "bit", ohms))
     term = Resistor("term", "termination", OUT, GROUND, value(design, "term", unit))
-    resistors.append(term)
     parts.append(Part("term", "termination", term.ohms))
-    if not grouped:
-        legs = [SwitchedLeg(p.part_id, "segment", OUT, "ref", GROUND, p.ohms, design.ron_high,
-                            design.ron_low) for p in PartList([segments])] + legs
-    elif n_seg:
-        groups.append(ThermometerGroup("seg", "segment", OUT, "ref", GROUND, segment_ohms,
-                                       design.ron_high, design.ron_low))
-    buffered = design.output == "buffer"
-    output = Output("node", OUT, buffered=buffered, gain=design.gain if buffered else 1.0,
-                    load_ohms=design.load_r)
-    return Network(fixed=fixed, source=source, resistors=resistors, legs=legs, n_codes=2**n,
-                   decode=decode, output=output, parts=PartList([segments, *parts]),
-                   counts={"switches": n_seg + lad, "amplifiers": int(buffered)},
-                   ideal_lsb=design.vref / 2**n * (design.gain if buffered else 1.0),
-                   groups=groups)
+    return legs, [term], parts
 
 
 def segment_nominal(design: Design) -> float:
