@@ -1,9 +1,10 @@
 """Design files: TOML in our own layout, written atomically, refused whole when damaged.
 
-Layout (schema version 2; older versions are upgraded on load, see ``designfile_upgrade.py``)::
+Layout (schema version 3; older versions are upgraded on load, see ``designfile_upgrade.py``)::
 
     format = "rungwise-design"
-    version = 2
+    version = 3
+    sealed = true            # written by the program: the file must end with its [end] table
 
     [analysis]               # Monte Carlo set-up, so a statistics run can be repeated
     trials = 1000
@@ -27,6 +28,17 @@ Layout (schema version 2; older versions are upgraded on load, see ``designfile_
     [candidate.parts]        # optional as-built values, ohms
     leg0 = 20100.0
 
+    [end]                    # written last: a file cut short anywhere lacks it
+    candidates = 1
+    sha256 = "…"             # of the text above this table (its blank line excluded)
+
+Whole files only: a file that starts with the written head (``format``, ``version``, ``sealed``
+lines exactly as the program writes them) must end with the ``[end]`` table, whose checksum covers
+every byte before it; a file that is only part of that head, or is empty, is incomplete too. So every
+cut-short copy of a written file is refused as incomplete, naming the file, while a hand-written file
+(no ``sealed`` line) and files of older versions load as before. A person who edits a written file by
+hand deletes the ``sealed`` line (or the ``[end]`` table and the line) so it reads as hand-written.
+
 Candidate tables are written from ``Design.to_dict`` and read with ``Design.from_dict``, so a key
 added to ``Design`` needs no code here. Reading never changes anything: a damaged file raises
 :class:`DesignError` naming the key path (``candidate[1].unit_r``) and its line. Writing goes to a
@@ -36,6 +48,7 @@ temporary file in the same folder, flushed to disk, then renamed over the target
 from __future__ import annotations
 
 import dataclasses
+import hashlib
 import math
 import re
 import tomllib
@@ -60,13 +73,20 @@ FORMAT_NAME = "rungwise-design"
 SCHEMA_VERSION = CURRENT_VERSION
 """Schema version this program writes; older versions are upgraded on load, newer refused."""
 
-TOP_LEVEL_KEYS = ("format", "version", "analysis", "targets", "settings", "candidate")
+TOP_LEVEL_KEYS = ("format", "version", "sealed", "analysis", "targets", "settings", "candidate",
+                  "end")
 """Keys a current design file may hold at its top level."""
 
 MAX_FILE_BYTES = 20_000_000
 """Largest design file read, bytes (a real one is a few kilobytes)."""
 
 _MAX_INT = 2**63 - 1  # TOML's own integer range
+
+SEALED_HEAD = f'format = "{FORMAT_NAME}"\nversion = {SCHEMA_VERSION}\nsealed = true\n'
+"""The exact first lines of every file this program writes (they promise an ``[end]`` table)."""
+
+_END = re.compile(r'\n\[end\]\ncandidates = (\d+)\nsha256 = "([0-9a-f]{64})"[ \t\n]*\Z')
+"""The closing table as written, at the very end of the text (trailing whitespace allowed)."""
 
 
 @dataclass
@@ -107,11 +127,15 @@ def _toml_value(value: Any) -> Any:
     return value
 
 
+def _digest(body: str) -> str:
+    return hashlib.sha256(body.encode("utf-8")).hexdigest()
+
+
 def dumps(doc: DesignFile) -> str:
-    """The TOML text of ``doc``."""
+    """The TOML text of ``doc``: the sealed head, the content, then the ``[end]`` table."""
     if not doc.candidates:
         raise DesignError("candidate", "a design file needs at least one candidate")
-    data: dict[str, Any] = {"format": FORMAT_NAME, "version": SCHEMA_VERSION,
+    data: dict[str, Any] = {"format": FORMAT_NAME, "version": SCHEMA_VERSION, "sealed": True,
                             "analysis": doc.analysis.to_dict(), "targets": doc.targets.to_dict()}
     if doc.settings:
         data["settings"] = _toml_value(doc.settings)
@@ -122,7 +146,9 @@ def dumps(doc: DesignFile) -> str:
             entry.pop("parts", None)
         cands.append(entry)
     data["candidate"] = cands
-    return tomli_w.dumps(data)
+    body = tomli_w.dumps(data)
+    assert body.startswith(SEALED_HEAD), "the head must come first, exactly"
+    return f'{body}\n[end]\ncandidates = {len(cands)}\nsha256 = "{_digest(body)}"\n'
 
 
 def save(path: Path, doc: DesignFile) -> None:
@@ -138,6 +164,33 @@ def save(path: Path, doc: DesignFile) -> None:
 # --- reading ---------------------------------------------------------------------------------
 _TOML_WHERE = re.compile(r"^(?P<what>.*?)\s*\(at line (?P<line>\d+), column (?P<col>\d+)\)\s*$")
 _TOML_END = re.compile(r"^(?P<what>.*?)\s*\(at end of document\)\s*$")
+
+
+def _incomplete(source: str, why: str) -> DesignError:
+    return DesignError(source, f"{source} is incomplete ({why}); it was not opened — a copy cut "
+                       "short, for example by a full disk or a broken transfer")
+
+
+def _check_whole(text: str, source: str) -> bool:
+    """Refuse a written file that does not reach its ``[end]`` table; True when it is sealed.
+
+    A text that is empty or only part of the written head is incomplete too (it may be the first
+    bytes of a written file). A file without the head is hand-written or older: nothing to check.
+    """
+    if not text.strip():
+        raise _incomplete(source, "it is empty")
+    if SEALED_HEAD.startswith(text):
+        raise _incomplete(source, f"it ends after {len(text.encode())} bytes, inside its first lines")
+    if not text.startswith(SEALED_HEAD):
+        return False
+    m = _END.search(text)
+    if m is None:
+        raise _incomplete(source, "its closing [end] table is missing or cut short")
+    if _digest(text[: m.start()]) != m[2]:
+        raise DesignError(source, f"{source} does not match the checksum in its [end] table: it "
+                          "was damaged or changed after it was written; it was not opened (after "
+                          "editing a file by hand, delete its `sealed = true` line)")
+    return True
 
 
 def _syntax_message(exc: tomllib.TOMLDecodeError, text: str) -> str:
@@ -208,7 +261,7 @@ def _read_design(entry: Any, where: str) -> Design:
         raise DesignError(where, f"cannot use these values ({exc})") from None
 
 
-def _parse(data: dict[str, Any], source: str) -> DesignFile:
+def _parse(data: dict[str, Any], source: str, sealed: bool) -> DesignFile:
     if data.get("format") != FORMAT_NAME:
         raise DesignError("format", f"{source} is not a Rungwise design file (expected "
                           f"format = \"{FORMAT_NAME}\")")
@@ -220,12 +273,20 @@ def _parse(data: dict[str, Any], source: str) -> DesignFile:
                           f"{version}; this program reads up to {SCHEMA_VERSION}); it was not opened")
     _check_sizes(data, "")
     data = upgrade(data, version)
+    mark = data.pop("sealed", None)
+    end = data.pop("end", None)  # without the mark: left from a hand edit, ignored
+    if mark is not None and not sealed:
+        raise DesignError("sealed", "this line is only valid as the third line of a file the "
+                          "program wrote, unchanged; delete it to open the file as hand-written")
     unknown = sorted(set(data) - set(TOP_LEVEL_KEYS))
     if unknown:
         raise DesignError(unknown[0], "unknown top-level key; known keys: " + ", ".join(TOP_LEVEL_KEYS))
     raw = data.get("candidate")
     if not isinstance(raw, list) or not raw:
         raise DesignError("candidate", "the file lists no [[candidate]] tables")
+    if sealed and isinstance(end, dict) and end.get("candidates") != len(raw):
+        raise DesignError("end.candidates", f"{source} is incomplete: its [end] table counts "
+                          f"{end.get('candidates')!r} candidates, the file holds {len(raw)}")
     candidates = [_read_design(entry, f"candidate[{i}]") for i, entry in enumerate(raw)]
     settings = data.get("settings", {})
     if not isinstance(settings, dict):
@@ -241,10 +302,13 @@ def loads(text: str, source: str = "design file") -> DesignFile:
     Raises
     ------
     DesignError
-        Not TOML (field ``source``, message with line and column), not our format, a newer
+        A written (sealed) file cut short or changed (field ``source``, message saying it is
+        incomplete or damaged), not TOML (field ``source``, with line and column), not our format, a newer
         version, an unknown key, or a bad value (field is the key path such as
         ``candidate[1].unit_r``, message with its line when it can be found).
     """
+    text = text.removeprefix("\ufeff").replace("\r\n", "\n")
+    sealed = _check_whole(text, source)
     try:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
@@ -252,7 +316,7 @@ def loads(text: str, source: str = "design file") -> DesignFile:
     except RecursionError:
         raise DesignError(source, "nested too deeply to be a design file") from None
     try:
-        return _parse(data, source)
+        return _parse(data, source, sealed)
     except DesignError as exc:
         line = _line_of(text, exc.field)
         where = f" (line {line})" if line else ""
@@ -272,6 +336,10 @@ def load(path: Path) -> DesignFile:
         text = data.decode("utf-8")
     except FileNotFoundError:
         raise DesignError("file", f"{path} does not exist") from None
-    except (OSError, UnicodeDecodeError) as exc:
+    except UnicodeDecodeError as exc:
+        if exc.reason == "unexpected end of data":  # cut inside a character
+            raise _incomplete(str(path), "it ends in the middle of a character") from None
+        raise DesignError("file", f"cannot read {path}: {exc}") from None
+    except OSError as exc:
         raise DesignError("file", f"cannot read {path}: {exc}") from None
     return loads(text, source=str(path))

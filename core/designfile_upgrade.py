@@ -11,8 +11,11 @@ Layouts:
   Monte Carlo ``seed`` and ``trials`` (both optional) at the top level.
 * **version 1** — ``[[candidate]]`` tables (one per compared candidate) and a free ``[settings]``
   table, where a ``seed``/``trials`` pair could be kept.
-* **version 2** (current) — adds ``[analysis]`` (``trials``, ``seed``) and ``[targets]`` (the limits
+* **version 2** — adds ``[analysis]`` (``trials``, ``seed``) and ``[targets]`` (the limits
   the review judges against); ``seed``/``trials`` move from ``[settings]`` to ``[analysis]``.
+* **version 3** (current) — a written file opens with ``sealed = true`` and closes with an
+  ``[end]`` table (candidate count, checksum) so a copy cut short is refused; the content is the
+  same as version 2 (see ``designfile.py``).
 """
 
 from __future__ import annotations
@@ -22,7 +25,7 @@ from typing import Any
 
 from .errors import DesignError
 
-CURRENT_VERSION = 2
+CURRENT_VERSION = 3
 """Schema version this program writes."""
 
 
@@ -48,7 +51,12 @@ def _from_1(data: dict[str, Any]) -> dict[str, Any]:
     return data
 
 
-UPGRADES: dict[int, Callable[[dict[str, Any]], dict[str, Any]]] = {0: _from_0, 1: _from_1}
+def _from_2(data: dict[str, Any]) -> dict[str, Any]:
+    return data  # the content is unchanged; only written files gained the seal
+
+
+UPGRADES: dict[int, Callable[[dict[str, Any]], dict[str, Any]]] = {0: _from_0, 1: _from_1,
+                                                                     2: _from_2}
 """Version n → the function that turns a version-n document into version n + 1."""
 
 

@@ -8,6 +8,8 @@ import sys
 import tomllib
 from pathlib import Path
 
+import pytest
+
 ROOT = Path(__file__).resolve().parents[1]
 
 
@@ -61,3 +63,45 @@ def test_command_line_never_imports_qt():
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True)
     assert out.returncode == 0, out.stderr
     assert '"results"' in out.stdout
+
+
+def _tracked_links() -> dict[str, str]:
+    """Every tracked file that is a symbolic link → its target as stored (git mode 120000)."""
+    listing = subprocess.run(["git", "-C", str(ROOT), "ls-files", "-s", "-z"], capture_output=True,
+                             check=True).stdout.decode("utf-8", "surrogateescape")
+    links = {}
+    for entry in filter(None, listing.split("\0")):
+        meta, path = entry.split("\t", 1)
+        mode, blob, _stage = meta.split()
+        if mode == "120000":
+            target = subprocess.run(["git", "-C", str(ROOT), "cat-file", "blob", blob],
+                                    capture_output=True, check=True).stdout.decode()
+            links[path] = target
+    return links
+
+
+def _leaves(path: str, target: str) -> bool:
+    """Whether a link at ``path`` (repository-relative) pointing at ``target`` leaves the repository."""
+    if target.startswith(("/", "\\")) or re.match(r"^[A-Za-z]:", target):
+        return True
+    depth = 0
+    for part in [*Path(path).parent.parts, *re.split(r"[/\\]", target)]:
+        depth += -1 if part == ".." else 0 if part in ("", ".") else 1
+        if depth < 0:
+            return True
+    return False
+
+
+def test_no_tracked_link_leaves_the_repository():
+    if not (ROOT / ".git").exists():
+        pytest.skip("not a git checkout")
+    leaving = {p: t for p, t in _tracked_links().items() if _leaves(p, t)}
+    assert leaving == {}, "tracked links into one machine's folders"
+
+
+def test_a_link_out_of_the_repository_is_recognised():
+    assert _leaves(".venv-main", "/work/main/.venv")
+    assert _leaves("docs/x", "../../elsewhere")
+    assert _leaves("x", "C:\\Users\\me")
+    assert not _leaves("docs/x", "../assets/icon.svg")
+    assert not _leaves("a/b/c", "../d/../e")

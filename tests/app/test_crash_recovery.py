@@ -170,11 +170,23 @@ def test_declined_copy_is_removed_and_the_file_opens_unchanged(qtbot, monkeypatc
     assert seen == []
 
 
-@pytest.mark.parametrize("damage", ["cut in half", "not text"])
+@pytest.mark.parametrize("damage", ["cut after 1 byte", *[f"cut at {k}/8" for k in range(1, 8)],
+                                    "cut 2 bytes short", "not text"])
 def test_damaged_copy_is_refused_with_a_message(qtbot, monkeypatch, design_path, copy, capfd,
                                                 damage):
+    """Cuts spread over the whole copy (every single cut position is tried without a window in
+    ``test_history_and_recovery.py``): each is refused, wherever the checkout lives."""
     data = copy.read_bytes()
-    copy.write_bytes(data[: len(data) // 2] if damage == "cut in half" else b"\xff\xfe\x00" * 40)
+    if damage == "not text":
+        damaged = b"\xff\xfe\x00" * 40
+    elif damage == "cut after 1 byte":
+        damaged = data[:1]
+    elif damage == "cut 2 bytes short":
+        damaged = data[:-2]
+    else:
+        k = int(damage.split()[-1].split("/")[0])
+        damaged = data[: len(data) * k // 8]
+    copy.write_bytes(damaged)
     capfd.readouterr()
     win = _start(qtbot, monkeypatch, [str(design_path)])
     try:
@@ -184,7 +196,8 @@ def test_damaged_copy_is_refused_with_a_message(qtbot, monkeypatch, design_path,
         kept = copy.with_name(DAMAGED_PREFIX + copy.name.removeprefix("autosave-"))
         assert text.startswith("A copy of unsaved work could not be read")
         assert str(kept) in text
-        assert kept.read_bytes()[:3] == (data[:3] if damage == "cut in half" else b"\xff\xfe\x00")
+        assert kept.read_bytes() == damaged
+        assert damage == "not text" or "incomplete" in text
         assert not copy.exists()
         boxes[0].button(QMessageBox.StandardButton.Ok).click()
         assert win.model.state.designs == designfile.load(design_path).candidates

@@ -168,3 +168,30 @@ def test_unreadable_copy_is_set_aside_with_its_reason_and_discard_removes_ours(t
     assert mine.path.exists()
     mine.discard()
     assert list(tmp_path.iterdir()) == [kept]
+
+
+def test_every_cut_short_copy_is_set_aside_as_incomplete(tmp_path: Path):
+    doc = DesignFile([demo_candidates()[0].replace(name="Ladder µ Ω"), demo_candidates()[1]])
+    crashed = Autosave(tmp_path / "write", pid=_dead_pid())
+    crashed.write(doc, source=tmp_path / "a folder with spaces" / "mine.toml")
+    data = crashed.path.read_bytes()
+    folder = tmp_path / "copies"
+    folder.mkdir()
+    me = Autosave(folder)
+    offered = []
+    for n in range(len(data) + 1):
+        copy = folder / crashed.path.name
+        copy.write_bytes(data[:n])
+        found = me.orphans()
+        if found:
+            offered.append(n)
+            assert found[0].doc.candidates == doc.candidates
+            copy.unlink()
+            continue
+        kept, why = me.set_aside.pop()
+        assert kept.read_bytes() == data[:n]
+        assert not copy.exists()
+        assert str(copy) in why, n
+        assert "incomplete" in why, (n, why)
+        kept.unlink()
+    assert offered == [len(data.rstrip()), len(data)]

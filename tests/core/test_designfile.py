@@ -131,8 +131,14 @@ def test_old_file_with_bad_value_names_the_key():
 
 
 # --- damaged files ---------------------------------------------------------------------------
+def _hand_edited(text: str) -> str:
+    """A written file as a person edits it: the ``sealed`` line deleted (the [end] table stays)."""
+    assert text.startswith(dfile.SEALED_HEAD)
+    return text.replace("sealed = true\n", "", 1)
+
+
 def _good_text() -> str:
-    return dfile.dumps(dfile.DesignFile(demo_candidates()))
+    return _hand_edited(dfile.dumps(dfile.DesignFile(demo_candidates())))
 
 
 def _second_candidate(text: str, old: str, new: str) -> str:
@@ -147,8 +153,8 @@ def _second_candidate(text: str, old: str, new: str) -> str:
     [
         (lambda t: t[: len(t) // 2] + "\n[[cand", "x.toml", "line"),
         (lambda t: t.replace('format = "rungwise-design"', 'format = "other"'), "format", "not a"),
-        (lambda t: t.replace("version = 2", "version = 3"), "version", "newer"),
-        (lambda t: t.replace("version = 2", 'version = "2"'), "version", "whole number"),
+        (lambda t: t.replace("version = 3", "version = 4"), "version", "newer"),
+        (lambda t: t.replace("version = 3", 'version = "3"'), "version", "whole number"),
         (lambda t: _second_candidate(t, "unit_r = 10000.0", "unit_r = -1.0"),
          "candidate[1].unit_r", "out of range"),
         (lambda t: _second_candidate(t, "unit_r = 10000.0", "unit_r = [1, 2]"),
@@ -164,6 +170,7 @@ def _second_candidate(text: str, old: str, new: str) -> str:
         (lambda t: t.replace("monotonic = true", "monotonic = 1"), "targets.monotonic", "true or false"),
         (lambda t: "extra = 1\n" + t, "extra", "unknown top-level"),
         (lambda t: t.split("[[candidate]]")[0], "candidate", "no [[candidate]]"),
+        (lambda t: "sealed = true\n" + t, "sealed", "hand-written"),
         (lambda t: _second_candidate(t, 'name = "Binary-weighted"', "name = 5"), "candidate[1].name",
          "text"),
     ],
@@ -214,6 +221,64 @@ def test_loading_a_damaged_file_leaves_it_untouched(tmp_path: Path):
     assert sorted(p.name for p in tmp_path.iterdir()) == ["d.toml"]
 
 
+# --- whole files only ------------------------------------------------------------------------
+def _written(tmp_path: Path) -> Path:
+    """A saved three-candidate file with settings, parts and non-ASCII text (µ, Ω, °)."""
+    cands = [*demo_candidates(), demo_candidates()[0].replace(
+        name="Ladder 4µ7 Ω ° trimmed", parts={"leg0": 20.1e3}, mismatch={"tolerance": 0.001})]
+    path = tmp_path / "three.toml"
+    dfile.save(path, dfile.DesignFile(cands, settings={"view": "inl", "note": "ε ≤ ½ LSB"}))
+    return path
+
+
+def test_every_cut_short_copy_is_refused_as_incomplete(tmp_path: Path):
+    path = _written(tmp_path)
+    data = path.read_bytes()
+    whole = dfile.load(path)
+    cut = tmp_path / "cut short.toml"
+    loaded, unclear, changed = [], [], []
+    for n in range(len(data) + 1):
+        cut.write_bytes(data[:n])
+        try:
+            doc = dfile.load(cut)
+        except DesignError as exc:
+            if str(cut) not in str(exc) or "incomplete" not in str(exc):
+                unclear.append((n, str(exc)))
+            if cut.read_bytes() != data[:n]:
+                changed.append(n)
+            continue
+        assert doc == whole
+        loaded.append(n)
+    # only the whole file, or the whole file less its trailing newline, loads
+    assert loaded == [len(data.rstrip()), len(data)]
+    assert unclear == []
+    assert changed == []
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["cut short.toml", "three.toml"]
+
+
+def test_a_changed_byte_is_refused_as_damaged(tmp_path: Path):
+    text = _written(tmp_path).read_text(encoding="utf-8")
+    for old, new in [("bits = 8", "bits = 9"), ("seed = 1", "seed = 2")]:
+        with pytest.raises(DesignError, match=r"x\.toml does not match the checksum.*not opened"):
+            dfile.loads(text.replace(old, new, 1), source="x.toml")
+    with pytest.raises(DesignError, match="counts 2 candidates, the file holds 3"):
+        dfile.loads(text.replace("candidates = 3", "candidates = 2"), source="x.toml")
+    # the same file with Windows line ends, or a byte-order mark, is the same file
+    assert dfile.loads(text.replace("\n", "\r\n")) == dfile.loads("\ufeff" + text) == dfile.loads(text)
+
+
+@pytest.mark.parametrize("version", [2, dfile.SCHEMA_VERSION])
+def test_minimal_hand_written_file_loads_with_defaults(version):
+    text = f'format = "rungwise-design"\nversion = {version}\n[[candidate]]\ntopology = "string"\nbits = 5\n'
+    doc = dfile.loads(text)
+    assert doc.candidates == [Design(topology="string", bits=5)]
+    assert doc.analysis == AnalysisSettings()
+    assert doc.targets == Targets()
+    # a written file edited by hand (its sealed line deleted) loads with the edit
+    edited = _hand_edited(dfile.dumps(doc)).replace("bits = 5", "bits = 6")
+    assert dfile.loads(edited).candidates == [Design(topology="string", bits=6)]
+
+
 # --- atomic writes ---------------------------------------------------------------------------
 @pytest.mark.parametrize("where", ["write", "replace"])
 def test_interrupted_save_keeps_the_previous_file(tmp_path: Path, monkeypatch, where):
@@ -256,8 +321,8 @@ def test_statistics_and_parts_keys_round_trip():
 
 
 def test_bad_mismatch_value_is_named_by_its_path():
-    text = dfile.dumps(dfile.DesignFile([demo_candidates()[0].replace(
-        mismatch={"tolerance": 0.01})]))
+    text = _hand_edited(dfile.dumps(dfile.DesignFile([demo_candidates()[0].replace(
+        mismatch={"tolerance": 0.01})])))
     with pytest.raises(DesignError) as info:
         dfile.loads(text.replace("tolerance = 0.01", "tolerance = 7.0"))
     assert info.value.field.startswith("candidate[0].mismatch")

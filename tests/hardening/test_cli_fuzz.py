@@ -38,8 +38,9 @@ def folder(tmp_path_factory) -> Path:
     (root / "binary.toml").write_bytes(b"\x00\x01\x02\xff\xfe garbage")
     (root / "empty.toml").write_text("")
     (root / "cut.toml").write_text(text[: len(text) // 3])
-    (root / "future.toml").write_text(text.replace("version = 2", "version = 99"))
-    (root / "old-range.toml").write_text(text.replace("unit_r = 10000.0", "unit_r = 1e-6", 1))
+    edited = text.replace("sealed = true\n", "", 1)  # edited by hand: no longer sealed
+    (root / "future.toml").write_text(edited.replace("version = 3", "version = 99"))
+    (root / "old-range.toml").write_text(edited.replace("unit_r = 10000.0", "unit_r = 1e-6", 1))
     (root / "meas.csv").write_text(sensor_bias_example())
     (root / "flat.csv").write_text("0,1\n1,1\n2,1\n3,1\n")
     (root / "nan.csv").write_text("code,vout\n0,0\n1,nan\n2,inf\n")

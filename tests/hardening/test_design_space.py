@@ -182,7 +182,7 @@ _PIECES = st.sampled_from(["=", "[", "]", "{", "}", "\"", "'", ",", "\n", "#", "
 
 @st.composite
 def _damaged_files(draw) -> str:
-    text = _GOOD_FILE
+    text = draw(st.sampled_from([_GOOD_FILE, _GOOD_FILE.replace("sealed = true\n", "", 1)]))
     for _ in range(draw(st.integers(1, 4))):
         at = draw(st.integers(0, len(text)))
         if draw(st.booleans()):
