@@ -19,6 +19,9 @@ Layout (schema version 3; older versions are upgraded on load, see ``designfile_
 
     [settings]               # free table kept for the window (optional)
 
+    [search]                 # optional: the design-space search's question (search_question.py)
+    [cost]                   # optional: prices for the search (cost.py; defaults are invented examples)
+
     [[candidate]]            # one table per compared candidate; keys are Design keys
     name = "R-2R ladder"
     topology = "r2r-voltage"
@@ -62,9 +65,11 @@ import tomli_w
 
 from .atomic import write_atomically
 from .bounded_read import read_at_most
+from .cost import CostTable
 from .design import Design
 from .designfile_upgrade import CURRENT_VERSION, upgrade
 from .errors import DesignError
+from .search_question import SearchQuestion
 from .targets import AnalysisSettings, Targets
 
 FORMAT_NAME = "rungwise-design"
@@ -73,8 +78,8 @@ FORMAT_NAME = "rungwise-design"
 SCHEMA_VERSION = CURRENT_VERSION
 """Schema version this program writes; older versions are upgraded on load, newer refused."""
 
-TOP_LEVEL_KEYS = ("format", "version", "sealed", "analysis", "targets", "settings", "candidate",
-                  "end")
+TOP_LEVEL_KEYS = ("format", "version", "sealed", "analysis", "targets", "settings", "search",
+                  "cost", "candidate", "end")
 """Keys a current design file may hold at its top level."""
 
 MAX_FILE_BYTES = 20_000_000
@@ -103,12 +108,18 @@ class DesignFile:
         Monte Carlo trials and seed.
     targets : Targets
         Limits the review judges against.
+    search : SearchQuestion or None
+        The design-space search's question, when the file holds one.
+    cost : CostTable or None
+        Prices for the search, when the file gives any.
     """
 
     candidates: list[Design]
     settings: dict[str, Any] = field(default_factory=dict)
     analysis: AnalysisSettings = field(default_factory=AnalysisSettings)
     targets: Targets = field(default_factory=Targets)
+    search: SearchQuestion | None = None
+    cost: CostTable | None = None
 
 
 # --- writing ---------------------------------------------------------------------------------
@@ -139,6 +150,10 @@ def dumps(doc: DesignFile) -> str:
                             "analysis": doc.analysis.to_dict(), "targets": doc.targets.to_dict()}
     if doc.settings:
         data["settings"] = _toml_value(doc.settings)
+    if doc.search is not None:
+        data["search"] = _toml_value(doc.search.to_dict())
+    if doc.cost is not None and doc.cost.to_dict():
+        data["cost"] = _toml_value(doc.cost.to_dict())
     cands = []
     for d in doc.candidates:
         entry = _toml_value(d.to_dict())
@@ -293,7 +308,9 @@ def _parse(data: dict[str, Any], source: str, sealed: bool) -> DesignFile:
         raise DesignError("settings", "must be a table")
     return DesignFile(candidates=candidates, settings=settings,
                       analysis=AnalysisSettings.from_dict(data.get("analysis", {})),
-                      targets=Targets.from_dict(data.get("targets", {})))
+                      targets=Targets.from_dict(data.get("targets", {})),
+                      search=SearchQuestion.from_dict(data["search"]) if "search" in data else None,
+                      cost=CostTable.from_dict(data["cost"]) if "cost" in data else None)
 
 
 def loads(text: str, source: str = "design file") -> DesignFile:
