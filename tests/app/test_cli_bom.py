@@ -5,14 +5,15 @@ from __future__ import annotations
 import csv
 
 from rungwise.app.cli import run_cli
+from rungwise.core.demo import DEMO_BASE, demo_candidates
 
 
 def test_bom_writes_csv(tmp_path, capsys):
     out = tmp_path / "parts.csv"
     assert run_cli(["bom", "--set", "series=E96", "--set", "unit_r=33k", "-o", str(out)]) == 0
     rows = list(csv.DictReader(out.read_text(encoding="utf-8").splitlines()))
-    assert {r["candidate"] for r in rows} == {"R-2R ladder", "Binary-weighted"}
-    ladder = [r for r in rows if r["candidate"] == "R-2R ladder" and r["kind"] == "resistor"]
+    assert {r["candidate"] for r in rows} == {d.label for d in demo_candidates()}
+    ladder = [r for r in rows if r["candidate"] == DEMO_BASE.label and r["kind"] == "resistor"]
     assert {float(r["value_ohms"]) for r in ladder} == {66.5e3, 33.2e3}
     assert sum(int(r["quantity"]) for r in ladder) == 16
 

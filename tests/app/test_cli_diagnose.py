@@ -84,9 +84,10 @@ def test_unreadable_file_exits_2_naming_the_line(tmp_path, capsys):
 
 
 def test_candidate_by_name_or_number(example, capsys):
-    assert run_cli(["diagnose", str(example), "--candidate", "2", "--format", "json"]) == 0
-    assert json.loads(capsys.readouterr().out)["design"]["topology"] == "binary-weighted"
-    assert run_cli(["diagnose", str(example), "--candidate", "R-2R ladder", "--format", "json"]) == 0
+    assert run_cli(["diagnose", str(example), "--candidate", "3", "--format", "json"]) == 0
+    assert json.loads(capsys.readouterr().out)["design"]["topology"] == "segmented"
+    assert run_cli(["diagnose", str(example), "--candidate", "Ladder, 1 % parts (rev A)",
+                    "--format", "json"]) == 0
     assert json.loads(capsys.readouterr().out)["design"]["topology"] == "r2r-voltage"
     assert run_cli(["diagnose", str(example), "--candidate", "9"]) == 2
     assert "no candidate '9'" in capsys.readouterr().err

@@ -79,7 +79,7 @@ def test_export_table_and_per_code(tmp_path: Path, capsys):
     ev = evaluate(designfile.load(path).candidates[0])
     assert float(next(r for r in rows if r[0] == "lsb")[3]) == ev.summary["lsb"]
     per = list(csv.DictReader(io.StringIO((tmp_path / "codes.csv").read_text(encoding="utf-8"))))
-    assert len(per) == 2 * 16
+    assert len(per) == len(demo_candidates()) * 16
 
 
 def test_export_plots_with_no_display_in_a_fresh_process(tmp_path: Path):

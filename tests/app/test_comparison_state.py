@@ -18,7 +18,7 @@ from rungwise.core.demo import demo_candidates
 
 def _state() -> tuple[ComparisonState, list[str]]:
     heard: list[str] = []
-    state = ComparisonState(with_colours(demo_candidates()))
+    state = ComparisonState(with_colours(demo_candidates()[:2]))  # two networks of the demo
     state.subscribe(heard.append)
     return state, heard
 

@@ -60,8 +60,8 @@ def test_choosing_another_candidate_reanalyses(pane, qtbot, example):
     with qtbot.waitSignal(pane.diagnosis_changed, timeout=20000):
         pane.load_measurement(example)
     with qtbot.waitSignal(pane.diagnosis_changed, timeout=20000) as sig:
-        pane.combo_design.setCurrentIndex(1)
-    assert sig.args[0].design.topology == "binary-weighted"
+        pane.combo_design.setCurrentIndex(2)
+    assert sig.args[0].design.topology == "segmented"
 
 
 def test_exports_write_the_correction_table(pane, qtbot, example, tmp_path):

@@ -68,7 +68,8 @@ def test_report_text_matches_the_engine(tmp_path: Path, qapp, capsys):
     assert rec.text.split(" — ")[0] in err
     # progress of the statistics on stderr, ending at every board of each candidate
     for i, d in enumerate(doc.candidates):
-        assert f"statistics of {d.label} ({i + 1} of 2): 300 of 300 boards" in err
+        assert (f"statistics of {d.label} ({i + 1} of {len(doc.candidates)}): 300 of 300 boards"
+                in err)
 
 
 def _images(pdf: Path) -> list[list[str]]:

@@ -39,8 +39,8 @@ def test_model_to_widgets(window, qtbot):
     assert pane.findChild(QSpinBox, "spin_bits").value() == 10
     assert pane.findChild(QLineEdit, "edit_load_r").text() == "open"
     # selecting the other candidate shows its values
-    state.select(1)
-    assert pane.findChild(QComboBox, "combo_topology").currentData() == "binary-weighted"
+    state.select(2)
+    assert pane.findChild(QComboBox, "combo_topology").currentData() == "segmented"
     assert pane.findChild(QLineEdit, "edit_unit_r").text() == "10 kΩ"
 
 

@@ -9,6 +9,7 @@ from PySide6.QtWidgets import QApplication
 from rungwise.app.main_window import MainWindow
 from rungwise.app.window_memory import FILE_NAME, load_memory
 from rungwise.core import designfile
+from rungwise.core.demo import demo_candidates
 
 
 def test_save_and_open_round_trip_with_colours(window, tmp_path):
@@ -20,12 +21,13 @@ def test_save_and_open_round_trip_with_colours(window, tmp_path):
     assert not window.model.modified
     assert "pair.rwd.toml" in window.windowTitle()
     doc = designfile.load(path)
-    assert [d.name for d in doc.candidates] == ["Ladder A", "Binary-weighted"]
+    names = ["Ladder A", *(d.name for d in demo_candidates()[1:])]
+    assert [d.name for d in doc.candidates] == names
     assert doc.settings["colours"][1] == "#123456"
     window.new_from_demo()
-    assert window.model.state.candidates[0].name == "R-2R ladder"
+    assert window.model.state.candidates[0].name == demo_candidates()[0].name
     assert window.open_file(path)
-    assert [c.name for c in window.model.state.candidates] == ["Ladder A", "Binary-weighted"]
+    assert [c.name for c in window.model.state.candidates] == names
     assert window.model.state.candidates[1].colour == "#123456"
     assert window.model.path == path
     assert not window.model.modified
@@ -87,9 +89,10 @@ def test_copy_figures_as_tsv_and_text(window):
     window.copy_tsv()
     text = QApplication.clipboard().text()
     lines = text.splitlines()
-    assert lines[0].split("\t") == ["Figure", "Unit", "R-2R ladder", "Binary-weighted"]
+    names = [d.name for d in demo_candidates()]
+    assert lines[0].split("\t") == ["Figure", "Unit", *names]
     mono = next(line for line in lines if line.startswith("Monotonic\t"))
-    assert mono.split("\t")[2:] == ["yes", "yes"]
+    assert mono.split("\t")[2:] == ["yes"] * len(names)
     window.copy_text()
     assert QApplication.clipboard().text().splitlines()[0].split()[:1] == ["Figure"]
 

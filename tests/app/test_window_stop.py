@@ -27,7 +27,7 @@ def test_stop_says_the_figures_are_of_earlier_values_and_compute_again_updates(w
     with qtbot.waitSignal(window.live.results_changed, timeout=10000):
         window.findChild(QAction, "action_compute").trigger()
     assert _shown_designs(window) == edited
-    assert window.status_text.text().startswith("2 candidates, 8 bits, solved in")
+    assert window.status_text.text().startswith(f"{len(edited)} candidates, 8 bits, solved in")
 
 
 def test_stop_when_up_to_date_changes_nothing(window):

@@ -171,7 +171,7 @@ def _second_candidate(text: str, old: str, new: str) -> str:
         (lambda t: "extra = 1\n" + t, "extra", "unknown top-level"),
         (lambda t: t.split("[[candidate]]")[0], "candidate", "no [[candidate]]"),
         (lambda t: "sealed = true\n" + t, "sealed", "hand-written"),
-        (lambda t: _second_candidate(t, 'name = "Binary-weighted"', "name = 5"), "candidate[1].name",
+        (lambda t: _second_candidate(t, 'name = "Ladder, 0.1 % parts"', "name = 5"), "candidate[1].name",
          "text"),
     ],
 )

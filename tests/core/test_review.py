@@ -5,7 +5,8 @@ from __future__ import annotations
 import pytest
 
 from rungwise.core import evaluate
-from rungwise.core.demo import demo_candidates
+from rungwise.core.demo import DEMO_BASE, demo_candidates
+from rungwise.core.montecarlo import monte_carlo
 from rungwise.core.parts.bom import bill_of_materials
 from rungwise.core.review import (
     DEFER,
@@ -19,8 +20,33 @@ from rungwise.core.targets import Targets
 
 
 @pytest.fixture(scope="module")
-def evs():
+def all_evs():
     return [evaluate(d) for d in demo_candidates()]
+
+
+@pytest.fixture(scope="module")
+def evs(all_evs):
+    """The demo's two revision-B candidates: the ladder with 0.1 % parts and the segmented one."""
+    return all_evs[1:]
+
+
+def test_demo_ends_in_an_answer_that_passes(all_evs):
+    # The demo's story: revision A's 1 % ladder misses the yield, revision B's ladder with 0.1 %
+    # parts and the segmented 1 % network both pass, and the ladder needs fewer parts (24 vs 42).
+    # Why: the mid-scale step of an 8-bit R-2R ladder moves by about 2^7·σ of a part, so 1 % parts
+    # (σ = 1/3 %, coverage 3σ) give σ ≈ 0.43 LSB there and many boards exceed ½ LSB, while 0.1 %
+    # parts give ≈ 0.04 LSB; segmenting the top four bits leaves 2^3·σ·√2 ≈ 0.04 LSB per step.
+    targets = Targets()
+    runs = [monte_carlo(ev.design, 1000, 1, targets=targets) for ev in all_evs]
+    yields = [r.yield_all.value for r in runs]
+    assert yields[0] == pytest.approx(0.636)  # 636 of 1000 boards of revision A pass
+    assert yields[1] == yields[2] == 1.0
+    rec = recommend(all_evs, targets, yields)
+    assert rec.chosen == 1
+    assert [part_count(e.summary) for e in all_evs] == [24, 24, 42]
+    assert rec.verdicts[0].failures == ["yield 63.6 % < 99 %"]
+    assert rec.text.startswith("Recommended: Ladder, 0.1 % parts — meets the targets")
+    assert "the fewest parts (24) of the 2 candidates that meet them" in rec.text
 
 
 def test_fewest_parts_among_passing_is_recommended(evs):
@@ -28,7 +54,7 @@ def test_fewest_parts_among_passing_is_recommended(evs):
     assert counts == [e.summary["n_resistors"] + e.summary["n_switches"] + e.summary["n_amplifiers"]
                       for e in evs]
     rec = recommend(evs, Targets())
-    assert all(v.passes for v in rec.verdicts)  # the demo meets ½ LSB both ways
+    assert all(v.passes for v in rec.verdicts)  # both revision-B candidates meet ½ LSB both ways
     best = min(range(len(evs)), key=lambda i: counts[i])
     assert rec.chosen == best
     v = rec.verdicts[best]
@@ -97,6 +123,6 @@ def test_failing_bill_of_materials_is_reported_not_raised(monkeypatch):
 
     monkeypatch.setattr(review, "bill_of_materials", broken)
     notes = cautions([evaluate(demo_candidates()[0])])
-    assert notes[0] == ("R-2R ladder: part ratings not checked — the bill of materials could not be "
+    assert notes[0] == (f"{DEMO_BASE.label}: part ratings not checked — the bill of materials could not be "
                         "made (KeyError: 'leg9').")
     assert notes[-1] == DEFER
