@@ -247,11 +247,12 @@ def _general_vout(net: Network, ohms: dict[str, np.ndarray], piece: int, cancel:
     """Output voltages of a batch at every code, shape (n_trials, n_codes), solved in aligned
     blocks of ``piece`` codes with a cancel check before each."""
     if piece >= net.n_codes:
-        return solve(net, ohms=ohms).vout
+        return solve(net, ohms=ohms, vout_only=True).vout
     blocks = []
     for start in range(0, net.n_codes, piece):
         _stop_if(cancel)
-        blocks.append(solve(net, ohms=ohms, codes=np.arange(start, start + piece)).vout)
+        blocks.append(solve(net, ohms=ohms, codes=np.arange(start, start + piece),
+                            vout_only=True).vout)
     return np.concatenate(blocks, axis=-1)
 
 
@@ -262,7 +263,7 @@ def _run_batch(design: Design, net: Network, ohms: dict[str, np.ndarray], engine
     trials (shape (env_rows, n_env)); raises ``_Cancelled`` between pieces when cancelled."""
     fb = _feedback_factor(net, ohms)
     if engine == "exact":
-        v = solve(net, ohms=ohms, codes=mc_exact.basis_codes(design.bits)).vout * fb
+        v = solve(net, ohms=ohms, codes=mc_exact.basis_codes(design.bits), vout_only=True).vout * fb
         v0 = v[:, 0]
         w = v[:, 1:] - v0[:, None]
         figures = mc_exact.statistics(w)

@@ -68,11 +68,6 @@ class _Stamps:
     def __init__(self, net: Network, ohms: Mapping[str, np.ndarray | float]) -> None:
         self.net = net
         self.ohms = ohms
-        self.rebuild()
-
-    def rebuild(self) -> None:
-        """(Re)compute every stamp from ``self.ohms`` (after a change of array layout)."""
-        net, ohms = self.net, self.ohms
         self.nodes = net.unknown_nodes()
         self.index = {name: i for i, name in enumerate(self.nodes)}
         n = len(self.nodes)
@@ -160,13 +155,13 @@ def _rhs_arrays(n: int, b: dict[int, list], probe_node: int | None):
 _PLAN_CACHE: dict[tuple, EliminationPlan] = {}
 
 
-def _plan(n: int, pairs: set[tuple[int, int]]) -> EliminationPlan:
-    key = (n, frozenset(pairs))
+def _plan(n: int, pairs: set[tuple[int, int]], last: int | None) -> EliminationPlan:
+    key = (n, frozenset(pairs), last)
     plan = _PLAN_CACHE.get(key)
     if plan is None:
         if len(_PLAN_CACHE) > 256:
             _PLAN_CACHE.clear()
-        plan = plan_elimination(n, pairs)
+        plan = plan_elimination(n, pairs, last)
         _PLAN_CACHE[key] = plan
     return plan
 
@@ -206,6 +201,7 @@ def solve(
     codes: np.ndarray | None = None,
     method: Method = "auto",
     keep_nodes: bool = False,
+    vout_only: bool = False,
 ) -> Solution:
     """Solve ``net`` exactly at every code.
 
@@ -222,6 +218,9 @@ def solve(
         ``auto`` takes superposition when it is exact.
     keep_nodes : bool
         Also return every node's voltage.
+    vout_only : bool
+        Only ``vout`` is wanted (Monte Carlo): the elimination forms no other node voltage than
+        those the output needs, and ``iref`` is NaN (not computed).
 
     Returns
     -------
@@ -238,27 +237,23 @@ def solve(
         from .selector import solve_selected  # networks with array-held strings or a tap switch
 
         return solve_selected(net, ohms, codes, method, keep_nodes)
-    st = _Stamps(net, ohms)
-    _check_connected(net, st.nodes)
     codes = np.arange(net.n_codes) if codes is None else np.asarray(codes, dtype=np.int64)
-    block = _aligned_block(codes)
+    trial_shape = np.broadcast_shapes(*{np.shape(v) for v in ohms.values()}) if ohms else ()
+    per_code = max(1, int(np.prod(trial_shape)))
+    layout = _BitLayout.fitting(net, codes, trial_shape)
+    st = _Stamps(net, layout.lay_ohms(ohms) if layout else ohms)
+    _check_connected(net, st.nodes)
     linear = st.superposition_holds()
     if method == "superposition" and not linear:
         raise NetworkError(net.output.node, "superposition is not exact for this network: a switch "
                            "changes the nodal matrix (unequal on-resistances or a reference with "
                            "output resistance)")
     use_super = linear and method in ("auto", "superposition")
-    trial_shape = np.broadcast_shapes(*{np.shape(v) for v in ohms.values()}) if ohms else ()
     probe_node = None if st.virtual else st.index[net.output.node]
-    plan = _plan(st.n, st.pairs)
-    per_code = max(1, int(np.prod(trial_shape)))
-    leg_bits = getattr(net.decode, "leg_bits", None)
-    shifts = getattr(net.decode, "level_shifts", ())
-    groups_fit = len(shifts) == len(net.groups) and not (net.groups and trial_shape)
-    if (block and leg_bits is not None and st.n > 0 and per_code * len(codes) <= TENSOR_ELEMENTS
-            and not (use_super and trial_shape) and groups_fit):
-        return _solve_bit_tensor(st, leg_bits, len(codes), trial_shape, probe_node, plan, keep_nodes,
-                                 use_super, shifts, first=int(codes[0]))
+    plan = _plan(st.n, st.pairs, probe_node)
+    wanted = _output_nodes(st) if vout_only and not keep_nodes else None
+    if layout is not None:
+        return _solve_bit_tensor(st, probe_node, plan, keep_nodes, use_super, wanted, layout=layout)
     step = max(1, CHUNK_ELEMENTS // per_code)
     pieces = []
     for start in range(0, len(codes), step):
@@ -270,8 +265,8 @@ def solve(
         elif use_super:
             volts = _solve_superposition(st, drive, trial_shape, probe_node, plan)
         else:
-            volts = _solve_general(st, cols, probe_node, plan)
-        pieces.append(_finish(st, cols, volts, shape, keep_nodes, use_super))
+            volts = _solve_general(st, cols, probe_node, plan, wanted)
+        pieces.append(_finish(st, cols, volts, shape, keep_nodes, use_super, wanted is not None))
     if len(pieces) == 1:
         return pieces[0]
     return Solution(
@@ -292,52 +287,106 @@ def _aligned_block(codes: np.ndarray) -> bool:
             and int(codes[-1]) - int(codes[0]) == n - 1 and bool(np.all(np.diff(codes) == 1)))
 
 
-def _solve_bit_tensor(st: _Stamps, leg_bits, n_codes, trial_shape, probe_node, plan, keep_nodes,
-                      use_super=False, level_shifts=(), first=0):
-    """All codes (or the aligned block of ``n_codes`` from ``first``) with one array axis per code
-    bit; a bit above the block is constant in it and enters as a scalar drive.
+PACKED_BITS = 6
+"""The lowest code bits share one array axis of 2^6 codes in the bit-tensor layout (so numpy's
+innermost loops run over 64 contiguous values, not 2); each higher bit has an axis of its own."""
 
-    Bit b of the code is axis ``N − 1 − b`` of a (2,)*N tensor (so a C-order reshape gives code
-    order). A value that depends on few bits stays small: early pivots of the elimination touch
-    only the bits of the legs eliminated so far, so most of the work is on tiny arrays and only the
-    last pivots and the back substitution run at full size; a leg's drive is a 2-element array
-    wherever it enters. Exact; same arithmetic as the flat layout. The superposition path (nominal
-    only) forms its node voltages by one matrix product and views them on the same layout. A
-    thermometer group's level ``code >> shift`` (nominal only) lies on the axes of the bits above
-    the shift, so its conductances are 2^(N − shift) values, not 2^N.
+
+@dataclass(frozen=True)
+class _BitLayout:
+    """The bit-tensor layout of an aligned block of ``2^n_bits`` codes starting at ``first``.
+
+    Codes lie on the axes ``(2,) * (n_bits − packed) + (2^packed,)`` after any trial axes: bit b ≥
+    ``packed`` is axis ``n_bits − 1 − b``, the ``packed`` lowest bits are the last axis, so a
+    C-order reshape gives code order. A value that depends on few bits stays small.
     """
-    n_bits = n_codes.bit_length() - 1
-    prefix = trial_shape[:-1] if trial_shape else ()
-    if not use_super:
-        st.ohms = {k: np.reshape(v, np.shape(v)[:-1] + (1,) * n_bits) if np.ndim(v) else v
-                   for k, v in st.ohms.items()}
-        st.rebuild()
-    cols = []
-    for b in leg_bits:
-        shape = [1] * n_bits
-        if b >= n_bits:
-            cols.append(np.full(shape, float((first >> b) & 1)))
-            continue
-        shape[n_bits - 1 - b] = 2
-        cols.append(np.array([0.0, 1.0]).reshape(shape))
-    for shift in level_shifts:  # group levels follow the legs, as in ``decode``
-        top = n_bits - shift
-        base = first >> shift  # the level of the block's first code (0 for all codes)
-        if top <= 0:
-            cols.append(np.full([1] * n_bits, base, dtype=np.int64))
-            continue
-        cols.append((base + np.arange(2**top)).reshape((2,) * top + (1,) * shift))
-    full = prefix + (2,) * n_bits
+
+    n_bits: int
+    first: int
+    trial_prefix: tuple[int, ...]
+
+    @classmethod
+    def fitting(cls, net: Network, codes: np.ndarray, trial_shape: tuple[int, ...]
+                ) -> _BitLayout | None:
+        """The layout for ``codes`` of ``net``, or ``None`` when it does not apply: codes not an
+        aligned block, legs not one bit each, a network with no unknown node, too many
+        (trial, code) pairs, or thermometer groups whose levels are no shifted code (or trials)."""
+        leg_bits = getattr(net.decode, "leg_bits", None)
+        shifts = getattr(net.decode, "level_shifts", ())
+        per_code = max(1, int(np.prod(trial_shape)))
+        groups_fit = len(shifts) == len(net.groups) and not (net.groups and trial_shape)
+        if not (_aligned_block(codes) and leg_bits is not None and groups_fit
+                and per_code * codes.size <= TENSOR_ELEMENTS and net.unknown_nodes()):
+            return None
+        return cls(codes.size.bit_length() - 1, int(codes[0]), tuple(trial_shape[:-1]))
+
+    @property
+    def packed(self) -> int:
+        return min(self.n_bits, PACKED_BITS)
+
+    @property
+    def code_axes(self) -> tuple[int, ...]:
+        return (2,) * (self.n_bits - self.packed) + (2**self.packed,)
+
+    def lay_ohms(self, ohms: Mapping[str, np.ndarray | float]) -> dict[str, np.ndarray | float]:
+        """Per-trial values of shape (…, n_trials, 1) reshaped to broadcast over the code axes."""
+        ones = (1,) * len(self.code_axes)
+        return {k: np.reshape(v, np.shape(v)[:-1] + ones) if np.ndim(v) else v
+                for k, v in ohms.items()}
+
+    def _axis_values(self, values: np.ndarray, axis: int) -> np.ndarray:
+        shape = [1] * len(self.code_axes)
+        shape[axis] = values.size
+        return values.reshape(shape)
+
+    def bit(self, b: int) -> np.ndarray:
+        """Code bit ``b`` (0/1 as float) on the layout; a bit above the block is constant."""
+        if b >= self.n_bits:
+            return np.full([1] * len(self.code_axes), float((self.first >> b) & 1))
+        if b < self.packed:
+            return self._axis_values(((np.arange(2**self.packed) >> b) & 1).astype(float), -1)
+        return self._axis_values(np.array([0.0, 1.0]), self.n_bits - 1 - b)
+
+    def level(self, shift: int) -> np.ndarray:
+        """``code >> shift`` on the layout (a thermometer group's level), as int64."""
+        base = self.first >> shift  # the block is aligned: (first + c) >> s = base + (c >> s)
+        if shift >= self.n_bits:
+            return np.full([1] * len(self.code_axes), base, dtype=np.int64)
+        high = self.n_bits - self.packed
+        upper = (np.arange(2**high, dtype=np.int64) << self.packed).reshape((2,) * high + (1,))
+        if shift >= self.packed:
+            return base + (upper >> shift)
+        return base + ((upper + self._axis_values(np.arange(2**self.packed), -1)) >> shift)
+
+    def to_codes(self, values: np.ndarray) -> np.ndarray:
+        """A value on the layout as shape (…trials, n_codes) in code order."""
+        full = self.trial_prefix + self.code_axes
+        return np.broadcast_to(values, full).reshape((*self.trial_prefix, 2**self.n_bits))
+
+
+def _solve_bit_tensor(st: _Stamps, probe_node, plan, keep_nodes, use_super=False, wanted=None, *,
+                      layout: _BitLayout) -> Solution:
+    """All codes (or one aligned block of them) on the bit-tensor layout (see :class:`_BitLayout`;
+    ``st`` is compiled with values laid out by :meth:`_BitLayout.lay_ohms`).
+
+    Early pivots of the elimination touch only the bits of the legs eliminated so far, so most of
+    the work is on small arrays and only the last pivots and the back substitution run at full
+    size; a leg's drive is small wherever it enters. Exact; the same arithmetic as the flat layout.
+    The superposition path forms its node voltages leg by leg on the same layout. A thermometer
+    group's level ``code >> shift`` (nominal only) lies on the axes of the bits above the shift.
+    """
+    net = st.net
+    cols = [layout.bit(b) for b in net.decode.leg_bits]
+    cols += [layout.level(s) for s in getattr(net.decode, "level_shifts", ())]  # after the legs
+    full = layout.trial_prefix + layout.code_axes
     if use_super:
         volts = _solve_superposition(st, None, (), probe_node, plan, tensor_cols=cols)
     else:
-        volts = _solve_general(st, cols, probe_node, plan)
-    sol = _finish(st, cols, volts, full, keep_nodes, use_super)
-    flat = (*prefix, n_codes)
-    sol.vout, sol.rout, sol.iref = (a.reshape(flat) for a in (sol.vout, sol.rout, sol.iref))
-    sol.node_voltages = {k: np.broadcast_to(v, full).reshape(flat)
-                         for k, v in sol.node_voltages.items()}
-    return sol
+        volts = _solve_general(st, cols, probe_node, plan, wanted)
+    sol = _finish(st, cols, volts, full, keep_nodes, use_super, wanted is not None)
+    return Solution(vout=layout.to_codes(sol.vout), rout=layout.to_codes(sol.rout),
+                    iref=layout.to_codes(sol.iref), method=sol.method,
+                    node_voltages={k: layout.to_codes(v) for k, v in sol.node_voltages.items()})
 
 
 CHUNK_ELEMENTS = 1 << 18
@@ -347,8 +396,22 @@ TENSOR_ELEMENTS = 1 << 20
 """Largest (trial × code) count solved on the bit-tensor layout in one pass."""
 
 
-def _solve_general(st: _Stamps, cols, probe_node, plan):
-    """Batched sparse elimination; ``cols[l]`` is leg l's drive (0/1), broadcastable to the batch."""
+def _output_nodes(st: _Stamps) -> set[int]:
+    """The unknowns the output voltage is read from: the output node, or for a virtual-ground
+    output every unknown node joined to the summing node."""
+    net = st.net
+    out = net.output.node
+    if not st.virtual:
+        return {st.index[out]}
+    ends = [(r.a, r.b) for r in net.resistors]
+    ends += [(leg.node, rail) for leg in [*net.legs, *net.groups] for rail in (leg.high, leg.low)]
+    return {st.index[a if b == out else b] for a, b in ends
+            if out in (a, b) and (a if b == out else b) in st.index}
+
+
+def _solve_general(st: _Stamps, cols, probe_node, plan, wanted=None):
+    """Batched sparse elimination; ``cols[l]`` is leg l's drive (0/1), broadcastable to the batch;
+    ``wanted``: the unknowns to form (default all)."""
     n = st.n
     entries = dict(st.a_fixed)
     b = {i: list(v) for i, v in st.b0.items()}
@@ -367,8 +430,8 @@ def _solve_general(st: _Stamps, cols, probe_node, plan):
             cur[0] = cur[0] + v0 * d
             cur[1] = cur[1] + v1 * d
     rhs = _rhs_arrays(n, b, probe_node)
-    x = solve_batched(n, entries, rhs, plan, st.nodes)
-    return {name: x[i] for i, name in enumerate(st.nodes)}
+    x = solve_batched(n, entries, rhs, plan, st.nodes, wanted)
+    return {name: x[i] for i, name in enumerate(st.nodes) if x[i] is not None}
 
 
 def _solve_superposition(st: _Stamps, drive, trial_shape, probe_node, plan, tensor_cols=None):
@@ -465,11 +528,12 @@ def _apply(drive: np.ndarray, per_leg: np.ndarray) -> np.ndarray:
     return per_leg[..., 0, :] @ drive.T
 
 
-def _finish(st: _Stamps, cols, volts, shape, keep_nodes, use_super) -> Solution:
+def _finish(st: _Stamps, cols, volts, shape, keep_nodes, use_super, vout_only=False) -> Solution:
     """Output voltage, Thevenin resistance and reference current from the solved node voltages.
 
     Only the node voltages these need are formed (those of the output and of every node touching
-    the source or the summing node), unless ``keep_nodes`` asks for all of them.
+    the source or the summing node), unless ``keep_nodes`` asks for all of them. ``vout_only``:
+    ``volts`` holds only what the output needs and ``iref`` is NaN.
     """
     net = st.net
     out = net.output
@@ -502,6 +566,8 @@ def _finish(st: _Stamps, cols, volts, shape, keep_nodes, use_super) -> Solution:
         return v
 
     terminals = {net.source, out.node} if virtual else {net.source}
+    if vout_only:
+        terminals = {out.node} if virtual else set()
     iref = np.zeros(())
     sum_current = np.zeros(())
     y_ss = np.zeros(())
@@ -532,7 +598,8 @@ def _finish(st: _Stamps, cols, volts, shape, keep_nodes, use_super) -> Solution:
     return Solution(
         vout=np.array(np.broadcast_to(vout, shape), dtype=float),
         rout=np.array(np.broadcast_to(rout, shape), dtype=float),
-        iref=np.array(np.broadcast_to(iref, shape), dtype=float),
+        iref=np.full(shape, np.nan) if vout_only else np.array(np.broadcast_to(iref, shape),
+                                                                dtype=float),
         method="superposition" if use_super else "general",
         node_voltages=nodes,
     )

@@ -27,8 +27,11 @@ class EliminationPlan:
     later_neighbours: tuple[tuple[int, ...], ...]  # indexed by pivot position
 
 
-def plan_elimination(n: int, pairs: set[tuple[int, int]]) -> EliminationPlan:
-    """Minimum-degree order for an ``n``-node symmetric pattern given by off-diagonal ``pairs``."""
+def plan_elimination(n: int, pairs: set[tuple[int, int]], last: int | None = None
+                     ) -> EliminationPlan:
+    """Minimum-degree order for an ``n``-node symmetric pattern given by off-diagonal ``pairs``;
+    node ``last`` (the output, when given) is eliminated last, so its value needs no back
+    substitution."""
     adj: list[set[int]] = [set() for _ in range(n)]
     for i, j in pairs:
         if i != j:
@@ -38,7 +41,8 @@ def plan_elimination(n: int, pairs: set[tuple[int, int]]) -> EliminationPlan:
     order: list[int] = []
     later: list[tuple[int, ...]] = []
     while remaining:
-        k = min(remaining, key=lambda v: (len(adj[v]), v))
+        pool = remaining - {last} if len(remaining) > 1 else remaining
+        k = min(pool, key=lambda v: (len(adj[v]), v))
         nb = adj[k]
         for a in nb:
             adj[a].discard(k)
@@ -60,7 +64,8 @@ def solve_batched(
     rhs: list[np.ndarray],
     plan: EliminationPlan,
     node_names: list[str] | None = None,
-) -> list[np.ndarray]:
+    wanted: set[int] | None = None,
+) -> list[np.ndarray | None]:
     """Solve ``A x = b`` for a batch of nodal conductance matrices sharing one pattern.
 
     Parameters
@@ -78,10 +83,14 @@ def solve_batched(
         From :func:`plan_elimination` on the same pattern.
     node_names : list[str], optional
         Used to name a floating node in the error.
+    wanted : set of int, optional
+        Unknowns whose solution is needed (default: all). Back substitution then forms only these
+        and the later pivots they depend on; the others are ``None``. A node eliminated last needs
+        no back substitution at all.
 
     Returns
     -------
-    list of n arrays, each shape batch + (n_rhs,)
+    list of n arrays (or None where not wanted), each shape batch + (n_rhs,)
         The solution per unknown.
 
     Raises
@@ -113,9 +122,27 @@ def solve_batched(
             for j in nb[idx + 1:]:
                 a[_key(i, j)] = a.get(_key(i, j), 0.0) - li * a.get(_key(k, j), 0.0)
     x: list[np.ndarray | None] = [None] * n
+    needed = _needed(plan, wanted)
     for k, nb in zip(reversed(plan.order), reversed(plan.later_neighbours), strict=True):
+        if needed is not None and k not in needed:
+            continue
         acc = b[k]
         for i in nb:
             acc = acc - np.asarray(a.get(_key(k, i), 0.0))[..., None] * x[i]
         x[k] = acc / np.asarray(pivots[k])[..., None]
-    return x  # type: ignore[return-value]
+    return x
+
+
+def _needed(plan: EliminationPlan, wanted: set[int] | None) -> set[int] | None:
+    """``wanted`` and every later pivot its back substitution reads (``None``: all)."""
+    if wanted is None:
+        return None
+    later = dict(zip(plan.order, plan.later_neighbours, strict=True))
+    needed: set[int] = set()
+    stack = list(wanted)
+    while stack:
+        k = stack.pop()
+        if k not in needed:
+            needed.add(k)
+            stack.extend(later[k])
+    return needed

@@ -102,7 +102,7 @@ def drift(design: Any, net: Network, temperatures_c: np.ndarray | list[float],
             return DriftResult(temperatures_c=temps, vout=np.full((temps.size, net.n_codes), np.nan),
                                offset_error=nan, gain_error=nan.copy(), max_abs_inl=nan.copy())
         feedback = ohms.pop("feedback", None)
-        v = solve(net, ohms=ohms).vout
+        v = solve(net, ohms=ohms, vout_only=True).vout
     if feedback is not None and net.output.kind == "virtual-ground":
         v = v * (feedback / net.output.feedback_ohms)
     ideal = net.ideal_lsb

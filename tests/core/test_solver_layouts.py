@@ -104,7 +104,7 @@ def test_an_aligned_block_of_codes_takes_the_bit_tensor_layout(monkeypatch):
     monkeypatch.setattr(solver, "_solve_bit_tensor", lambda *a, **k: calls.append(k) or real(*a, **k))
     net = build(Design(bits=6, ron_high=40, ron_low=25))
     solve(net, codes=np.arange(16, 32))
-    assert calls[-1]["first"] == 16
+    assert calls[-1]["layout"].first == 16
     solve(net, codes=np.arange(8, 24))  # 16 codes not starting at a multiple of 16
     solve(net, codes=np.array([0, 1, 3, 2]))
     assert len(calls) == 1
@@ -114,7 +114,7 @@ def test_an_aligned_block_of_codes_takes_the_bit_tensor_layout(monkeypatch):
     flat = solve(seg, codes=np.arange(seg.n_codes)[::-1], keep_nodes=True)
     for first, size in ((64, 64), (96, 16), (32, 8)):
         block = solve(seg, codes=np.arange(first, first + size), keep_nodes=True)
-        assert calls[-1]["first"] == first
+        assert calls[-1]["layout"].first == first
         for name in ("vout", "rout", "iref"):
             np.testing.assert_allclose(getattr(block, name),
                                        getattr(flat, name)[::-1][first:first + size], rtol=1e-12)
