@@ -131,3 +131,16 @@ def nominal_failure(design: Design, targets: Targets | None = None, criterion: s
         causes.append(f"the reference's output resistance ({_ohms(d.ref_r)}) — ideal it meets")
         changes.append("drive the network from a buffered reference")
     return NominalFailure(missed, worst, causes, changes)
+
+
+def loosest_grade_words(design: Design, grade: float | None, tightest: float,
+                        targets: Targets | None = None, criterion: str = "all") -> str:
+    """The loosest-grade answer in words: ``"±0.1 %"``; when none passes, either the real reason
+    (the nominal design already fails: ``"none — The nominal design already fails …"``) or
+    ``"tighter than ±0.01 %"`` when the nominal design meets the targets."""
+    if grade is not None:
+        return f"±{grade * 100:g} %"
+    failure = nominal_failure(design, targets, criterion)
+    if failure is not None:
+        return "none — " + failure.text()
+    return f"tighter than ±{tightest * 100:g} %"

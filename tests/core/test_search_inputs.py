@@ -124,3 +124,14 @@ def test_nominal_success_has_no_reason() -> None:
     assert failure is not None
     assert any("snapping to E24" in c for c in failure.causes)
     assert any("exact" in c for c in failure.changes)
+
+
+def test_loosest_grade_words_give_the_real_reason() -> None:
+    from rungwise.core.nominal_reason import loosest_grade_words
+
+    switched = Design(bits=12, ron_high=40, ron_low=25)
+    words = loosest_grade_words(switched, None, 0.0001)
+    assert words.startswith("none — The nominal design already fails")
+    assert "switch resistance" in words
+    assert loosest_grade_words(Design(bits=12), None, 0.0001) == "tighter than ±0.01 %"
+    assert loosest_grade_words(Design(bits=12), 0.001, 0.0001) == "±0.1 %"
