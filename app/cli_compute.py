@@ -17,6 +17,7 @@ from rungwise.core.errors import RungwiseError
 from rungwise.core.grades import CRITERIA
 from rungwise.core.montecarlo import check_run, plan_run
 from rungwise.core.review import DEFER, voltage_cautions
+from rungwise.core.skew import add_skew_figures
 from rungwise.core.targets import Targets
 from rungwise.core.units import format_value
 
@@ -60,6 +61,7 @@ def result_dict(ev: Evaluation, per_code: bool, stats: MonteCarloResult | None =
     out: dict[str, Any] = {
         "name": d.label, "topology": d.topology, "output": d.output, "bits": d.bits,
         "summary": {k: _plain(v) for k, v in ev.summary.items()},
+        "notes": dict(ev.notes),
         "parts": [{k: _plain(v) for k, v in p.items()} for p in ev.parts],
     }
     if per_code:
@@ -75,8 +77,14 @@ def result_dict(ev: Evaluation, per_code: bool, stats: MonteCarloResult | None =
     return out
 
 
+def _label_unit(key: str) -> tuple[str, str]:
+    return SUMMARY_KEYS.get(key, (key, ""))
+
+
 def _cell(key: str, value: Any) -> str:
-    unit = SUMMARY_KEYS.get(key, ("", ""))[1]
+    unit = _label_unit(key)[1]
+    if isinstance(value, float) and math.isnan(value):
+        return "—"
     if isinstance(value, bool):
         return "yes" if value else "no"
     if isinstance(value, int):
@@ -93,11 +101,14 @@ def render_table(evs: list[Evaluation]) -> str:
     rows = [["", *[e.design.label for e in evs]]]
     keys = [k for k in evs[0].summary if all(k in e.summary for e in evs)]
     for key in keys:
-        label = SUMMARY_KEYS.get(key, (key, ""))[0]
+        label = _label_unit(key)[0]
         rows.append([label, *[_cell(key, e.summary[key]) for e in evs]])
     widths = [max(len(r[i]) for r in rows) for i in range(len(rows[0]))]
-    return "\n".join("  ".join(c.ljust(w) for c, w in zip(r, widths, strict=True)).rstrip()
-                     for r in rows)
+    table = "\n".join("  ".join(c.ljust(w) for c, w in zip(r, widths, strict=True)).rstrip()
+                      for r in rows)
+    notes = [f"{e.design.label}: {_label_unit(k)[0].strip()}: {text}"
+             for e in evs for k, text in e.notes.items()]
+    return table + ("\n\n" + "\n".join(notes) if notes else "")
 
 
 def render_csv(evs: list[Evaluation], per_code: bool, stats: list[MonteCarloResult] | None = None,
@@ -156,6 +167,8 @@ def run(args: argparse.Namespace) -> int:
     """Evaluate and print; returns the exit code."""
     designs = chosen_candidates(args)
     evs = [evaluate(d) for d in designs]
+    for e in evs:  # the ratio search costs several worst-case searches: here, not in evaluate
+        add_skew_figures(e)
     warned = voltage_cautions(evs)
     for line in [*warned, DEFER] if warned else []:  # on stderr: the figures stay machine-readable
         print(f"rungwise: caution: {line}", file=sys.stderr)

@@ -82,6 +82,7 @@ FIELDS: dict[str, FieldSpec] = {
     "bandwidth": FieldSpec("Noise bandwidth", "Hz", 1e-3, 1e12),
     "thermometer_bits": FieldSpec("Segmented (thermometer) bits", "bits", 0, MAX_ARRAY_BITS,
                                   integer=True, optional=True),
+    "series_ratio": FieldSpec("Series ratio (skew)", "×", 0.5, 4.0),
 }
 """Numeric design fields with their display label, SI unit and allowed range."""
 
@@ -161,6 +162,11 @@ class Design:
     board : Mapping[str, float]
         Ratings and limits of the real parts, drift range, amplifier flaws given explicitly
         (``parts/board.py``); unset keys take their defaults there.
+    series_ratio : float
+        Skew, 0.5 … 4 (1 = classic): every ladder series resistor is ``series_ratio × R`` (R-2R
+        networks and a segmented design's R-2R section); in a per-bit binary-weighted network the
+        bit resistors step by ``2·series_ratio`` instead of 2 (bit k = R·(2·ratio)^(N−1−k)). Above
+        1 each bit weighs a little more than twice the next, so carries keep a margin.
     name : str
         A label for the candidate; empty means "use the topology".
     """
@@ -185,6 +191,7 @@ class Design:
     mismatch: Mapping[str, Any] = field(default_factory=dict)
     build: Mapping[str, str] = field(default_factory=dict)
     board: Mapping[str, float] = field(default_factory=dict)
+    series_ratio: float = 1.0
     name: str = ""
 
     def __post_init__(self) -> None:

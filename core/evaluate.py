@@ -17,8 +17,11 @@ from .network import Network
 from .part_rows import PartRows
 from .parts.figures import SUMMARY_KEYS as PART_SUMMARY_KEYS
 from .parts.figures import part_figures
+from .skew import SUMMARY_KEYS as SKEW_KEYS
 from .solve import Solution, solve
 from .topologies import build
+from .worst_case import SUMMARY_KEYS as WORST_CASE_KEYS
+from .worst_case import summary as worst_case_summary
 
 
 @dataclass
@@ -43,6 +46,8 @@ class Evaluation:
         (a :class:`~rungwise.core.part_rows.PartRows`, whose dicts are made when read).
     network : Network
     solution : Solution
+    notes : dict[str, str]
+        How some summary figures were decided, in words, by summary key (``guaranteed_monotonic``).
     """
 
     design: Design
@@ -57,6 +62,7 @@ class Evaluation:
     parts: list[dict[str, Any]]
     network: Network = field(repr=False)
     solution: Solution = field(repr=False)
+    notes: dict[str, str] = field(default_factory=dict)
 
     def per_code(self) -> dict[str, np.ndarray]:
         """Per-code arrays by name; ``dnl`` is padded with NaN at the last code."""
@@ -79,6 +85,8 @@ SUMMARY_KEYS: dict[str, tuple[str, str]] = {
     "max_abs_inl_bestfit": ("Max |INL|, best fit", "LSB"),
     "max_abs_dnl": ("Max |DNL|", "LSB"),
     "monotonic": ("Monotonic", ""),
+    **WORST_CASE_KEYS,
+    **SKEW_KEYS,  # added by skew.add_skew_figures (the command line), not by evaluate
     "rout_min": ("Output resistance, min", "Ω"),
     "rout_min_code": ("  at code", ""),
     "rout_max": ("Output resistance, max", "Ω"),
@@ -109,11 +117,13 @@ def _argmin_max(x: np.ndarray) -> tuple[float, int, float, int]:
 
 
 def summarize(design: Design, net: Network, sol: Solution,
-              curves: dict[str, np.ndarray] | None = None) -> dict[str, Any]:
+              curves: dict[str, np.ndarray] | None = None,
+              guarantee: dict[str, Any] | None = None) -> dict[str, Any]:
     """Scalar figures of a nominal solution (see :data:`SUMMARY_KEYS`).
 
     ``curves`` may pass the INL/DNL arrays already computed (keys ``inl_endpoint``, ``inl_bestfit``,
-    ``dnl``) so they are not computed twice.
+    ``dnl``) so they are not computed twice; ``guarantee`` the worst-case entries
+    (``worst_case.summary``), placed after ``monotonic``.
     """
     v = sol.vout
     n_codes = v.shape[-1]
@@ -134,6 +144,7 @@ def summarize(design: Design, net: Network, sol: Solution,
         "max_abs_inl_bestfit": float(np.nanmax(np.abs(inl_b))),
         "max_abs_dnl": float(np.nanmax(np.abs(steps))) if steps.size else 0.0,
         "monotonic": bool(linearity.monotonic(v)),
+        **(guarantee or {}),
     }
     for name, arr in (("rout", sol.rout), ("iref", sol.iref)):
         lo, lo_code, hi, hi_code = _argmin_max(arr)
@@ -177,6 +188,7 @@ def evaluate(design: Design) -> Evaluation:
     v = sol.vout
     curves = linearity_curves(v)
     extra, elements = part_figures(design, net, sol)
+    guarantee, guarantee_note = worst_case_summary(design)
     power_max, power_code = part_power_arrays(elements, net.parts)
     return Evaluation(
         design=design,
@@ -187,8 +199,9 @@ def evaluate(design: Design) -> Evaluation:
         inl_endpoint=curves["inl_endpoint"],
         inl_bestfit=curves["inl_bestfit"],
         dnl=curves["dnl"],
-        summary={**summarize(design, net, sol, curves), **extra},
+        summary={**summarize(design, net, sol, curves, guarantee), **extra},
         parts=PartRows(net.parts, power_max, power_code),
         network=net,
         solution=sol,
+        notes={"guaranteed_monotonic": guarantee_note},
     )

@@ -1,4 +1,5 @@
-"""Binary-weighted network: bit k has R·2^(N−1−k) (``unit_r`` is the MSB resistor).
+"""Binary-weighted network: bit k has R·2^(N−1−k) (``unit_r`` is the MSB resistor); with a skew
+``series_ratio`` = ρ ≠ 1 (per-bit build only) bit k has R·(2ρ)^(N−1−k).
 
 Outputs: ``divider`` (all bit resistors meet at the output; ideal Vout = Vref·k/(2^N − 1)),
 ``terminated-divider`` (``term`` = R·2^(N−1) to ground; ideal Vout = Vref·k/2^N) and ``summing-amp``
@@ -32,7 +33,7 @@ def build(design: Design) -> Network:
         fixed["sum"] = 0.0
     legs, parts = [], []
     for k in range(n):
-        ohms = value(design, f"bit{k}", r * 2.0 ** (n - 1 - k))
+        ohms = value(design, f"bit{k}", r * (2.0 * _bit_ratio(design)) ** (n - 1 - k))
         legs.append(SwitchedLeg(f"bit{k}", "bit", out_node, "ref", GROUND, ohms,
                                 design.ron_high, design.ron_low))
         parts.append(Part(f"bit{k}", "bit", ohms))
@@ -51,6 +52,14 @@ def build(design: Design) -> Network:
                    decode=binary_decoder(list(range(n))), output=output, parts=parts,
                    counts={"switches": n, "amplifiers": int(summing)},
                    ideal_lsb=_ideal_lsb(design))
+
+
+def _bit_ratio(design: Design) -> float:
+    """The design's skew as it applies to the bit resistors: ``series_ratio`` for a per-bit build,
+    1 for a unit-element array (whose bits are counts of equal units)."""
+    if design.build.get("binary", "per-bit") == "unit-array":
+        return 1.0
+    return design.series_ratio
 
 
 def _ideal_lsb(design: Design) -> float:

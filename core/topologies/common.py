@@ -44,7 +44,8 @@ def r2r_section(design: Design, bits: int, high: str, term_ohms: float
                                 design.ron_high, design.ron_low))
         parts.append(Part(f"leg{k}", "leg", ohms))
     for k in range(bits - 1):
-        res = Resistor(f"series{k}", "series", f"n{k}", f"n{k + 1}", value(design, f"series{k}", r))
+        res = Resistor(f"series{k}", "series", f"n{k}", f"n{k + 1}", value(design, f"series{k}",
+                                                                        design.series_ratio * r))
         resistors.append(res)
         parts.append(Part(res.part_id, "series", res.ohms))
     term = Resistor("term", "termination", "n0", GROUND, value(design, "term", term_ohms))

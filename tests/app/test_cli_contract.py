@@ -38,7 +38,12 @@ def design_file(tmp_path_factory):
 
 @pytest.fixture(scope="module")
 def expected():
-    return [evaluate(d) for d in CANDIDATES]
+    from rungwise.core.skew import add_skew_figures
+
+    evs = [evaluate(d) for d in CANDIDATES]
+    for ev in evs:  # compute adds the ratio search's figures
+        add_skew_figures(ev)
+    return evs
 
 
 def _same(cli_value, value) -> bool:
@@ -59,6 +64,10 @@ def test_json_contract_and_values(design_file, expected):
         assert (res["topology"], res["output"], res["bits"]) == (
             ev.design.topology, ev.design.output, ev.design.bits)
         assert set(res["summary"]) == set(ev.summary)
+        assert isinstance(res["summary"]["guaranteed_monotonic"], bool)  # issue 19's contract
+        ratio = res["summary"]["series_ratio_for_monotonic"]
+        assert ratio is None or isinstance(ratio, float)
+        assert set(res["notes"]) == {"guaranteed_monotonic", "series_ratio_for_monotonic"}
         for key, value in ev.summary.items():
             assert _same(res["summary"][key], value), key
         assert [{k: p[k] for k in ("id", "ohms", "role")} for p in res["parts"]] == [
@@ -130,7 +139,9 @@ def _table_number(cell: str, unit: str) -> float | bool:
 def test_table_parses_back(design_file, expected):
     proc = _run("compute", str(design_file), "--format", "table")
     assert proc.returncode == 0, proc.stderr
-    lines = proc.stdout.rstrip("\n").split("\n")
+    table, _, notes = proc.stdout.partition("\n\n")  # the notes say how figures were decided
+    assert "Monotonic on every board within tolerance: every part anywhere within" in notes
+    lines = table.rstrip("\n").split("\n")
     assert [c.strip() for c in re.split(r"\s{2,}", lines[0].strip())] == [
         ev.design.label for ev in expected]
     keys = [k for k in expected[0].summary if all(k in ev.summary for ev in expected)]

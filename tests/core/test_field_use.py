@@ -14,7 +14,8 @@ import pytest
 from rungwise.core import OUTPUTS_BY_TOPOLOGY, Design, evaluate
 from rungwise.core.field_use import unused_fields
 
-OTHER_VALUE = {"thermometer_bits": 1, "gain": 2.0, "feedback_r": 3.3e3, "ron_low": 70.0}
+OTHER_VALUE = {"thermometer_bits": 1, "gain": 2.0, "feedback_r": 3.3e3, "ron_low": 70.0,
+               "series_ratio": 1.1}
 """A value different from the base design's for each field the rules can grey out."""
 
 VARIANTS = [(t, o) for t, outs in OUTPUTS_BY_TOPOLOGY.items() for o in outs]
@@ -53,7 +54,7 @@ def test_unused_fields_change_nothing_and_used_ones_do(topology, output):
 
 def test_reasons_are_words_for_the_tooltip():
     reasons = unused_fields(_base("string", "unbuffered"))
-    assert set(reasons) == {"thermometer_bits", "gain", "feedback_r", "ron_low"}
+    assert set(reasons) == {"thermometer_bits", "gain", "feedback_r", "ron_low", "series_ratio"}
     assert all(len(text.split()) > 4 for text in reasons.values())
     assert unused_fields(_base("segmented", "buffer")) == {
         "feedback_r": reasons["feedback_r"]}
