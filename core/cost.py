@@ -146,10 +146,11 @@ class CostTable:
     def source(self) -> str:
         """Where the prices come from, in words (shown beside every cost)."""
         if not self.examples:
-            return "prices from the design file"
+            return "your prices"
         if len(self.examples) == 6:
             return EXAMPLE_NOTE
-        return "prices from the design file; " + EXAMPLE_NOTE + " for " + ", ".join(self.examples)
+        return ("your prices; invented example prices for " + ", ".join(self.examples)
+                + " (not quotes)")
 
     def grade_price(self, table: str, grade: float, series: str) -> float:
         """Price of one resistor (``table="resistor"``) or package at ``grade`` in ``series``."""

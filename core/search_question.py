@@ -90,7 +90,8 @@ def parse_int_range(text: Any, key: str, low: int, high: int) -> tuple[int, ...]
         except ValueError:
             raise DesignError(key, f"{text!r} is not a range like 0-6 or a list like 1,2,4") from None
         if not (low <= lo <= hi <= high):
-            raise DesignError(key, f"{item} is out of range; allowed: {low} … {high}")
+            order = ", low end first" if lo > hi else ""
+            raise DesignError(key, f"{item} is out of range; allowed: {low} … {high}{order}")
         out.update(range(lo, hi + 1))
     return tuple(sorted(out))
 
@@ -252,7 +253,8 @@ class SearchQuestion:
         try:
             if "topologies" in data:
                 items = data["topologies"]
-                items = [items] if isinstance(items, str) else items
+                items = items.replace(";", ",").split(",") if isinstance(items, str) else items
+                items = [t for t in items if str(t).strip()]
                 kw["networks"] = tuple(parse_network(t) for t in items)
             if "thermometer_bits" in data:
                 kw["thermometer_bits"] = parse_int_range(data["thermometer_bits"], "thermometer_bits",
@@ -302,6 +304,12 @@ class SearchQuestion:
             if math.isfinite(getattr(self, key)):
                 out[key] = getattr(self, key)
         return out
+
+    def updated(self, texts: Mapping[str, Any]) -> SearchQuestion:
+        """This question with file-style entries (``[search]`` keys, text as a person types it)
+        replacing its own; empty entries are left out. Errors name ``search.<key>``."""
+        given = {k: v for k, v in texts.items() if v is not None and v != "" and v != []}
+        return SearchQuestion.from_dict({**self.to_dict(), **given})
 
     def with_changes(self, **changes: Any) -> SearchQuestion:
         """A copy with some settings changed (validated)."""

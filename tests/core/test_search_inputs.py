@@ -32,7 +32,7 @@ def test_cost_table_defaults_say_they_are_invented() -> None:
         mine.grade_price("resistor", 0.0005, "E96")
     full = CostTable.from_dict({"switch": 1, "amplifier": 1, "area_per_part": 0, "resistor": {"1%": 1},
                                 "array_package": {"1%": 1}, "series_factor": {"E96": 1}})
-    assert full.source == "prices from the design file"
+    assert full.source == "your prices"
 
 
 @pytest.mark.parametrize(("data", "field"), [
