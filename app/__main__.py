@@ -10,7 +10,7 @@ import sys
 
 def main(argv: list[str] | None = None) -> int:
     """Run the program; returns the process exit code (0 ok, 1 internal error, 2 bad input)."""
-    from .cli import COMMANDS, run_cli
+    from .cli.main import COMMANDS, run_cli
 
     args = list(sys.argv[1:] if argv is None else argv)
     if args and (args[0] in COMMANDS or args[0] in {"-h", "--help", "--version"}):

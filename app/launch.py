@@ -30,13 +30,13 @@ def launch_window(args: list[str]) -> int:
               file=sys.stderr)
         return 2
     if not has_display():
-        from .cli import run_cli
+        from .cli.main import run_cli
 
         print(NO_DISPLAY_HINT, file=sys.stderr)
         return run_cli(["compute", *args])
     from PySide6.QtWidgets import QApplication
 
-    from .main_window import MainWindow
+    from .window.main_window import MainWindow
 
     app = QApplication.instance() or QApplication([sys.argv[0] if sys.argv else "rungwise"])
     app.setApplicationName("Rungwise")

@@ -6,7 +6,7 @@ import weakref
 
 import pytest
 
-from rungwise.app import workers
+from rungwise.app.jobs import workers
 
 
 @pytest.fixture(autouse=True)
@@ -45,7 +45,7 @@ def no_worker_left(monkeypatch):
 @pytest.fixture
 def window(qtbot):
     """The real window on the demo comparison, its first results drawn; shut down afterwards."""
-    from rungwise.app.main_window import MainWindow
+    from rungwise.app.window.main_window import MainWindow
 
     win = MainWindow(remember=False)
     win.ask_before_closing = False

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import csv
 
-from rungwise.app.cli import run_cli
+from rungwise.app.cli.main import run_cli
 from rungwise.core.demo import DEMO_BASE, demo_candidates
 
 

@@ -12,7 +12,7 @@ import sys
 
 import pytest
 
-from rungwise.app.cli import run_cli
+from rungwise.app.cli.main import run_cli
 from rungwise.core import SUMMARY_KEYS, Design, evaluate
 from rungwise.core.designfile import DesignFile, dumps
 

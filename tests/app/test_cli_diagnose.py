@@ -8,7 +8,7 @@ from pathlib import Path
 
 import pytest
 
-from rungwise.app.cli import run_cli
+from rungwise.app.cli.main import run_cli
 from rungwise.core import designfile
 from rungwise.core.diagnose.synthetic import sensor_bias_example
 

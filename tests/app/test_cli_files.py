@@ -12,7 +12,7 @@ from pathlib import Path
 
 import pytest
 
-from rungwise.app.cli import run_cli
+from rungwise.app.cli.main import run_cli
 from rungwise.core import designfile, evaluate
 from rungwise.core.demo import demo_candidates
 

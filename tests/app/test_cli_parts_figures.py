@@ -6,7 +6,7 @@ import json
 
 import pytest
 
-from rungwise.app.cli import run_cli
+from rungwise.app.cli.main import run_cli
 
 
 def test_compute_json_has_part_figures(capsys):

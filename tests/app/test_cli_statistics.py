@@ -6,7 +6,7 @@ import json
 
 import pytest
 
-from rungwise.app.cli import run_cli
+from rungwise.app.cli.main import run_cli
 from rungwise.core import Design, designfile, monte_carlo
 from rungwise.core.demo import DEMO_BASE
 from rungwise.core.grades import loosest_grade

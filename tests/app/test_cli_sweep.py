@@ -5,7 +5,7 @@ from __future__ import annotations
 import csv
 import json
 
-from rungwise.app.cli import run_cli
+from rungwise.app.cli.main import run_cli
 from rungwise.core import Design, evaluate
 
 

@@ -5,14 +5,14 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from rungwise.app.compare_table import best_columns, cell_text
-from rungwise.app.comparison_state import (
+from rungwise.app.plots.decimate import envelope, value_range
+from rungwise.app.window.compare_table import best_columns, cell_text
+from rungwise.app.window.comparison_state import (
     CANDIDATE_COLOURS,
     MAX_CANDIDATES,
     ComparisonState,
     with_colours,
 )
-from rungwise.app.plot_decimate import envelope, value_range
 from rungwise.core.demo import demo_candidates
 
 

@@ -13,9 +13,9 @@ import pytest
 from PySide6.QtCore import QTimer
 from PySide6.QtWidgets import QApplication, QMessageBox
 
-from rungwise.app.autosave import DAMAGED_PREFIX
 from rungwise.app.launch import launch_window
-from rungwise.app.main_window import MainWindow
+from rungwise.app.window.autosave import DAMAGED_PREFIX
+from rungwise.app.window.main_window import MainWindow
 from rungwise.core import designfile
 from rungwise.core.design import Design
 
@@ -26,7 +26,7 @@ import sys
 from PySide6.QtCore import QTimer
 from PySide6.QtWidgets import QApplication
 from rungwise.app.launch import launch_window
-from rungwise.app.main_window import MainWindow
+from rungwise.app.window.main_window import MainWindow
 
 app = QApplication(["rungwise"])
 

@@ -6,7 +6,7 @@ import importlib
 
 import pytest
 
-from rungwise.app.view_registry import VIEWS
+from rungwise.app.window.view_registry import VIEWS
 from rungwise.core.demo import DEMO_BASE, demo_candidates
 from rungwise.core.diagnose.synthetic import sensor_bias_example
 
@@ -15,7 +15,7 @@ pytest.importorskip("pytestqt")
 
 @pytest.fixture
 def pane(qtbot):
-    from rungwise.app.diagnose_view import DiagnosePane
+    from rungwise.app.views.diagnose import DiagnosePane
 
     view = DiagnosePane()
     qtbot.addWidget(view)

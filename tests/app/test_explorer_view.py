@@ -9,9 +9,9 @@ import importlib
 import numpy as np
 import pytest
 
-from rungwise.app.explorer_view import sweep_job
-from rungwise.app.view_registry import VIEWS
-from rungwise.app.workers import run_sync
+from rungwise.app.jobs.workers import run_sync
+from rungwise.app.views.explorer import sweep_job
+from rungwise.app.window.view_registry import VIEWS
 from rungwise.core import Design, evaluate
 from rungwise.core.grades import with_tolerance
 from rungwise.core.montecarlo import monte_carlo
@@ -23,7 +23,7 @@ LADDER = Design(topology="r2r-voltage", bits=6, name="Ladder")
 
 @pytest.fixture
 def pane(qtbot):
-    from rungwise.app.explorer_view import ExplorerPane
+    from rungwise.app.views.explorer import ExplorerPane
 
     view = ExplorerPane()
     qtbot.addWidget(view)

@@ -12,8 +12,8 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from rungwise.app import export_table
-from rungwise.app.plot_specs import comparison_plots, nice_ticks
+from rungwise.app.export import tables as export_table
+from rungwise.app.plots.specs import comparison_plots, nice_ticks
 from rungwise.core import evaluate
 from rungwise.core.demo import demo_candidates
 
@@ -154,8 +154,8 @@ def _points(el) -> np.ndarray:
 
 
 def test_svg_curves_follow_the_engines_values(evs, tmp_path: Path, qapp):
-    from rungwise.app.export_plots import export_plots
-    from rungwise.app.plot_paint import PALETTE
+    from rungwise.app.plots.export import export_plots
+    from rungwise.app.plots.paint import PALETTE
 
     written = export_plots(evs, tmp_path, ["svg"])
     assert sorted(p.name for p in written) == ["dnl.svg", "inl.svg", "rout.svg", "transfer.svg"]
@@ -178,7 +178,7 @@ def test_svg_curves_follow_the_engines_values(evs, tmp_path: Path, qapp):
 def test_png_plots_are_images_of_the_right_size(evs, tmp_path: Path, qapp):
     from PySide6.QtGui import QImage
 
-    from rungwise.app.export_plots import export_plots
+    from rungwise.app.plots.export import export_plots
 
     export_plots(evs, tmp_path, ["png"])
     for spec in comparison_plots(evs):
@@ -189,8 +189,8 @@ def test_png_plots_are_images_of_the_right_size(evs, tmp_path: Path, qapp):
 
 
 def test_nonfinite_points_break_the_line(qapp, tmp_path: Path):
-    from rungwise.app.plot_paint import PALETTE, save_svg
-    from rungwise.app.plot_specs import PlotSpec, Series
+    from rungwise.app.plots.paint import PALETTE, save_svg
+    from rungwise.app.plots.specs import PlotSpec, Series
 
     y = np.array([0.0, 1.0, math.inf, 3.0, 4.0, math.nan, 6.0])
     spec = PlotSpec("t", "gap", "code", "y", (Series("a", np.arange(7.0), y),))

@@ -9,8 +9,8 @@ from pathlib import Path
 
 import pytest
 
-from rungwise.app.autosave import SOURCE_KEY, Autosave
-from rungwise.app.recent_files import MAX_RECENT, RecentFiles
+from rungwise.app.window.autosave import SOURCE_KEY, Autosave
+from rungwise.app.window.recent_files import MAX_RECENT, RecentFiles
 from rungwise.core.demo import demo_candidates
 from rungwise.core.designfile import DesignFile
 
@@ -32,7 +32,7 @@ class _State:
 
 @pytest.fixture
 def history(qtbot):
-    from rungwise.app.edit_history import EditHistory
+    from rungwise.app.window.edit_history import EditHistory
 
     state = _State()
     hist = EditHistory(lambda: state.designs, state.apply)

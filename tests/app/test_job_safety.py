@@ -9,9 +9,9 @@ import time
 
 from PySide6.QtCore import QCoreApplication
 
-from rungwise.app import live_results
-from rungwise.app.stats_job import StatsRequest, statistics_job
-from rungwise.app.workers import JobRunner
+from rungwise.app.jobs import live_results
+from rungwise.app.jobs.workers import JobRunner
+from rungwise.app.views.stats_job import StatsRequest, statistics_job
 from rungwise.core import Design
 from rungwise.core.errors import DesignError
 

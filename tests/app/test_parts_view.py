@@ -8,7 +8,7 @@ import importlib
 import pytest
 from PySide6.QtCore import QCoreApplication
 
-from rungwise.app.view_registry import VIEWS
+from rungwise.app.window.view_registry import VIEWS
 from rungwise.core import Design, evaluate
 from rungwise.core.parts.bom import CAUTION
 
@@ -19,7 +19,7 @@ HOT = Design(topology="binary-weighted", output="terminated-divider", bits=6, vr
 
 @pytest.fixture
 def pane(qtbot):
-    from rungwise.app.parts_view import PartsPane
+    from rungwise.app.views.parts import PartsPane
 
     view = PartsPane()
     qtbot.addWidget(view)

@@ -5,8 +5,8 @@ from __future__ import annotations
 import pyqtgraph as pg
 from PySide6.QtGui import QPalette
 
-from rungwise.app.plot_theme import follow_palette
-from rungwise.app.theme import dark_palette
+from rungwise.app.plots.theme import follow_palette
+from rungwise.app.window.theme import dark_palette
 
 
 def _background(w: pg.PlotWidget) -> str:
@@ -23,8 +23,8 @@ def test_plot_follows_palette(qtbot):
 
 
 def test_analysis_views_do_not_keep_pyqtgraph_black(qtbot):
-    from rungwise.app.explorer_view import ExplorerPane
-    from rungwise.app.stats_view import StatisticsPane
+    from rungwise.app.views.explorer import ExplorerPane
+    from rungwise.app.views.stats import StatisticsPane
 
     for cls in (ExplorerPane, StatisticsPane):
         view = cls()

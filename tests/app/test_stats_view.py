@@ -6,9 +6,9 @@ import importlib
 
 import pytest
 
-from rungwise.app.stats_job import StatsRequest, statistics_job
-from rungwise.app.view_registry import VIEWS
-from rungwise.app.workers import run_sync
+from rungwise.app.jobs.workers import run_sync
+from rungwise.app.views.stats_job import StatsRequest, statistics_job
+from rungwise.app.window.view_registry import VIEWS
 from rungwise.core import Design, monte_carlo
 from rungwise.core.grades import loosest_grade, with_tolerance
 
@@ -20,7 +20,7 @@ PER_BIT = Design(topology="binary-weighted", output="terminated-divider", bits=8
 
 @pytest.fixture
 def pane(qtbot):
-    from rungwise.app.stats_view import StatisticsPane
+    from rungwise.app.views.stats import StatisticsPane
 
     view = StatisticsPane()
     qtbot.addWidget(view)

@@ -8,7 +8,7 @@ import pytest
 from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QComboBox, QLineEdit, QSpinBox
 
-from rungwise.app.binding import bound_inputs
+from rungwise.app.window.binding import bound_inputs
 from rungwise.core.build_style import BUILD_OPTIONS
 from rungwise.core.design import FIELDS
 from rungwise.core.topologies import build

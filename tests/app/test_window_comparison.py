@@ -4,9 +4,9 @@ from __future__ import annotations
 
 import threading
 
-from rungwise.app.comparison_state import MAX_CANDIDATES
-from rungwise.app.live_results import CHANNEL, LiveResults, ResultSet, nominal_job
-from rungwise.app.workers import run_sync
+from rungwise.app.jobs.live_results import CHANNEL, LiveResults, ResultSet, nominal_job
+from rungwise.app.jobs.workers import run_sync
+from rungwise.app.window.comparison_state import MAX_CANDIDATES
 from rungwise.core.demo import demo_candidates
 
 

@@ -22,7 +22,7 @@ from rungwise.core.targets import AnalysisSettings, Targets
 @pytest.fixture
 def win(qtbot, private_config):
     """A remembering window (its folders are the test's private configuration folder)."""
-    from rungwise.app.main_window import MainWindow
+    from rungwise.app.window.main_window import MainWindow
 
     w = MainWindow(remember=True)
     w.ask_before_closing = False
@@ -117,7 +117,7 @@ def test_crash_copy_is_written_and_restored(win, qtbot, private_config):
     shutil.copy(copy, crashed)  # as if that program had died
     designs = state.designs
 
-    from rungwise.app.main_window import MainWindow
+    from rungwise.app.window.main_window import MainWindow
 
     other = MainWindow(remember=True)
     other.ask_before_closing = False

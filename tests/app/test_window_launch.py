@@ -5,7 +5,7 @@ from __future__ import annotations
 from PySide6.QtWidgets import QApplication
 
 from rungwise.app.launch import launch_window
-from rungwise.app.main_window import MainWindow
+from rungwise.app.window.main_window import MainWindow
 from rungwise.core import designfile
 from rungwise.core.demo import demo_candidates
 

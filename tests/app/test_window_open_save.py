@@ -6,8 +6,8 @@ import json
 
 from PySide6.QtWidgets import QApplication
 
-from rungwise.app.main_window import MainWindow
-from rungwise.app.window_memory import FILE_NAME, load_memory
+from rungwise.app.window.main_window import MainWindow
+from rungwise.app.window.memory import FILE_NAME, load_memory
 from rungwise.core import designfile
 from rungwise.core.demo import demo_candidates
 

@@ -5,7 +5,7 @@ from __future__ import annotations
 from PySide6.QtGui import QPalette
 from PySide6.QtWidgets import QApplication
 
-from rungwise.app.theme import dark_palette, is_dark
+from rungwise.app.window.theme import dark_palette, is_dark
 
 
 def test_plots_follow_a_palette_change(window, qtbot):

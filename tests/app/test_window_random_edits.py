@@ -20,9 +20,9 @@ from PySide6.QtCore import QThreadPool
 from PySide6.QtGui import QAction
 from window_soak import Guard, Soak
 
-from rungwise.app.compare_table import BEST_MARK, cell_text
-from rungwise.app.main_window import STOPPED_TEXT
-from rungwise.app.workers import JobRunner
+from rungwise.app.jobs.workers import JobRunner
+from rungwise.app.window.compare_table import BEST_MARK, cell_text
+from rungwise.app.window.main_window import STOPPED_TEXT
 from rungwise.core import evaluate
 from rungwise.core.design import Design
 from rungwise.core.errors import RungwiseError

@@ -5,7 +5,7 @@ from __future__ import annotations
 
 from PySide6.QtGui import QAction
 
-from rungwise.app.main_window import STOPPED_TEXT
+from rungwise.app.window.main_window import STOPPED_TEXT
 
 
 def _shown_designs(window):

@@ -23,9 +23,9 @@ from PySide6.QtCore import QEvent, Qt, QtMsgType, qInstallMessageHandler
 from PySide6.QtGui import QAction, QKeyEvent
 from PySide6.QtWidgets import QApplication, QComboBox, QLineEdit, QMessageBox, QSpinBox
 
-from rungwise.app.binding import design_value, display_text
-from rungwise.app.edit_history import UNDO_LIMIT
-from rungwise.app.main_window import STOPPED_TEXT
+from rungwise.app.window.binding import design_value, display_text
+from rungwise.app.window.edit_history import UNDO_LIMIT
+from rungwise.app.window.main_window import STOPPED_TEXT
 from rungwise.core.design import FIELDS, Design
 from rungwise.core.diagnose.synthetic import sensor_bias_example
 from rungwise.core.errors import DesignError

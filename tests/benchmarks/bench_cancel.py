@@ -26,8 +26,8 @@ os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
 from PySide6.QtCore import QCoreApplication
 from PySide6.QtWidgets import QApplication
 
-from rungwise.app.stats_job import StatsRequest, statistics_job
-from rungwise.app.workers import JobRunner
+from rungwise.app.jobs.workers import JobRunner
+from rungwise.app.views.stats_job import StatsRequest, statistics_job
 from rungwise.core import Design, montecarlo
 
 TARGET_MS = 200.0

@@ -172,7 +172,7 @@ def row_sweep() -> None:
 
 
 def row_report(per_trial_16: float | None) -> None:
-    from rungwise.app.report_content import gather
+    from rungwise.app.export.report_content import gather
     from rungwise.core.designfile import DesignFile
 
     cands = [d.replace(bits=16) for d in demo_candidates()]
@@ -190,7 +190,7 @@ def row_report(per_trial_16: float | None) -> None:
 def row_stats() -> None:
     import threading
 
-    from rungwise.app.stats_job import StatsRequest, statistics_job
+    from rungwise.app.views.stats_job import StatsRequest, statistics_job
 
     tol = {"tolerance": 0.001}
     cands = (DEMO_BASE.replace(bits=12, mismatch=tol),

@@ -78,7 +78,7 @@ def main() -> None:
     args = parser.parse_args()
 
     app = QApplication.instance() or QApplication([])
-    from rungwise.app.main_window import MainWindow
+    from rungwise.app.window.main_window import MainWindow
 
     win = MainWindow(remember=False)
     win.ask_before_closing = False

@@ -6,7 +6,7 @@ import importlib
 
 import pytest
 
-from rungwise.app.cli import run_cli
+from rungwise.app.cli.main import run_cli
 from rungwise.core import Design, DesignError, evaluate, limits
 from rungwise.core.montecarlo import (
     BATCH_DRAWS,

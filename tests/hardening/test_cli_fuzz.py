@@ -18,7 +18,7 @@ import pytest
 from hypothesis import given
 from hypothesis import strategies as st
 
-from rungwise.app.cli import run_cli
+from rungwise.app.cli.main import run_cli
 from rungwise.core import Design, designfile, limits
 from rungwise.core.designfile import DesignFile
 from rungwise.core.diagnose.synthetic import sensor_bias_example

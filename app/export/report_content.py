@@ -20,8 +20,8 @@ from rungwise.core.designfile import DesignFile
 from rungwise.core.review import Recommendation, bom_lines, cautions, describe_targets, recommend
 from rungwise.core.units import format_value
 
-from .export_table import table_html_fragment
-from .plot_specs import PlotSpec, comparison_plots, spread_plot
+from ..plots.specs import PlotSpec, comparison_plots, spread_plot
+from .tables import table_html_fragment
 
 MAX_PART_ROWS = 40
 """Parts listed per candidate in the report; the rest are counted (all are in the exports)."""

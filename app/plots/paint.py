@@ -13,7 +13,7 @@ import numpy as np
 from PySide6.QtCore import QPointF, QRectF, QSize, Qt
 from PySide6.QtGui import QColor, QFont, QImage, QPainter, QPen, QPolygonF
 
-from .plot_specs import PlotSpec, axis_range, nice_ticks
+from .specs import PlotSpec, axis_range, nice_ticks
 
 PALETTE = ("#1f5fa8", "#c8501e", "#2e8b57", "#8a3f9e", "#b08800", "#4a4a4a")
 """Curve colours, in candidate order."""

@@ -1,7 +1,7 @@
 """Nominal results of the compared candidates, computed off the GUI thread, newest request wins.
 
 :class:`LiveResults` throttles bursts of requests (a value being dragged) to one job per
-``THROTTLE_MS``, runs it on a :class:`~rungwise.app.workers.JobRunner` channel and delivers only the
+``THROTTLE_MS``, runs it on a :class:`~rungwise.app.jobs.workers.JobRunner` channel and delivers only the
 newest request's results. Evaluations are cached by design, so editing one candidate recomputes
 only that one.
 """

@@ -1,6 +1,6 @@
 """What the exported and reported plots show, without Qt: titles, axis labels and data series.
 
-A :class:`PlotSpec` is drawn by ``plot_paint.paint_plot`` onto any Qt paint device (PNG image, SVG,
+A :class:`PlotSpec` is drawn by ``paint.paint_plot`` onto any Qt paint device (PNG image, SVG,
 PDF page), so every output shows the same data.
 """
 

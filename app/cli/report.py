@@ -36,8 +36,8 @@ def run(args: argparse.Namespace) -> int:
     doc = DesignFile(chosen_candidates(args), doc.settings, doc.analysis, doc.targets)
     title = args.title or (f"Design review: {Path(args.design).stem}" if args.design
                            else "Design review: demo")
-    from .report_content import gather
-    from .report_pdf import write_report  # imports Qt: only this command needs it
+    from ..export.report_content import gather
+    from ..plots.report_pdf import write_report  # imports Qt: only this command needs it
 
     data = gather(doc, title=title, with_stats=not args.no_stats,
                   progress=lambda line: print(f"rungwise: {line}", file=sys.stderr, flush=True))

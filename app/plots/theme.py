@@ -5,7 +5,7 @@ from __future__ import annotations
 import pyqtgraph as pg
 from PySide6.QtCore import QEvent, QObject
 
-from .theme import plot_colours
+from ..window.theme import plot_colours
 
 PENS = ("#1f5fa8", "#c8651b", "#2f8a3a", "#8a2f7c", "#6b6b6b")
 """Our own line colours for analysis plots (used where no candidate colour is known)."""

@@ -22,8 +22,8 @@ from rungwise.core.targets import AnalysisSettings, Targets
 from .autosave import Autosave, Recovered
 from .comparison_state import with_colours
 from .edit_history import EditHistory
+from .memory import CONFIG_ENV, config_dir
 from .recent_files import RecentFiles
-from .window_memory import CONFIG_ENV, config_dir
 
 AUTOSAVE_DELAY_MS = 1500
 """A crash copy is written this long after the last finished edit, ms."""
@@ -267,38 +267,38 @@ class FileFeatures(QObject):
 
     def export_table(self, path: Path) -> bool:
         """Write the figures table; the format follows the extension."""
-        from .export_table import write_table
+        from ..export.tables import write_table
 
         return self._run(str(path), lambda: write_table(path, self._evaluations()))
 
     def export_per_code(self, path: Path) -> bool:
         """Write every code's values as CSV."""
-        from .export_table import per_code_csv, write_text
+        from ..export.tables import per_code_csv, write_text
 
         return self._run(str(path), lambda: write_text(path, per_code_csv(self._evaluations())))
 
     def export_bom(self, path: Path) -> bool:
         """Write the bill of materials of every candidate as CSV."""
-        from .export_table import bom_csv, write_text
+        from ..export.tables import bom_csv, write_text
 
         return self._run(str(path), lambda: write_text(path, bom_csv(self._evaluations())))
 
     def export_plots(self, folder: Path) -> bool:
         """Write every plot as PNG and SVG into ``folder``."""
-        from .export_plots import export_plots
+        from ..plots.export import export_plots
 
         return self._run(str(folder), lambda: export_plots(self._evaluations(), folder))
 
     def write_report(self, path: Path, with_stats: bool = True) -> None:
         """Write the design-review PDF: figures and statistics (the file's seed) are gathered on a
         worker thread, the PDF is printed here when they arrive (``report_written`` then)."""
-        from .report_content import gather
+        from ..export.report_content import gather
 
         doc = self.document()
         title = f"Design review: {self.window.model.path.stem}" if self.window.model.path \
             else "Design review"
         if self.runner is None:
-            from .workers import JobRunner
+            from ..jobs.workers import JobRunner
 
             self.runner = JobRunner(self, max_threads=1)
             self.runner.finished.connect(self._on_report_ready)
@@ -310,7 +310,7 @@ class FileFeatures(QObject):
                                         + (" (statistics running)…" if with_stats else "…"))
 
     def _on_report_ready(self, _channel: str, data) -> None:
-        from .report_pdf import write_report
+        from ..plots.report_pdf import write_report
 
         path = self._report_path
         if self._run(str(path), lambda: write_report(path, data)):

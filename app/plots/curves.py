@@ -3,7 +3,7 @@
 Plots: output (with each candidate's ideal line dashed), error against the ideal line, INL
 (endpoint or best-fit line), DNL (with the −1 LSB monotonicity limit), output resistance and
 reference current. A 16-bit design draws as fast as an 8-bit one: each curve is drawn from a
-peak-keeping envelope of its visible codes (:mod:`rungwise.app.plot_decimate`), recomputed when the
+peak-keeping envelope of its visible codes (:mod:`rungwise.app.plots.decimate`), recomputed when the
 code axis is zoomed; ranges are set once per result (no auto-range passes) and the plots take new
 results one per event-loop turn.
 """
@@ -25,10 +25,10 @@ from PySide6.QtWidgets import QGridLayout, QLabel, QSizePolicy, QVBoxLayout, QWi
 
 from rungwise.core.units import format_value
 
-from .comparison_state import Candidate
-from .live_results import CandidateResult
-from .plot_decimate import envelope, value_range
-from .theme import plot_colours
+from ..jobs.live_results import CandidateResult
+from ..window.comparison_state import Candidate
+from ..window.theme import plot_colours
+from .decimate import envelope, value_range
 
 InlLine = Literal["endpoint", "bestfit"]
 """Which straight line INL is measured from."""

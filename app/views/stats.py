@@ -32,9 +32,9 @@ from rungwise.core import Design
 from rungwise.core.grades import STANDARD_GRADES
 from rungwise.core.targets import MAX_SEED
 
-from .plot_theme import PENS, candidate_colour, follow_palette
+from ..jobs.workers import Progress, runner_for
+from ..plots.theme import PENS, candidate_colour, follow_palette
 from .stats_job import StatsOutcome, StatsRequest, statistics_job
-from .workers import Progress, runner_for
 
 CHANNEL = "statistics"
 """JobRunner channel of this view."""

@@ -45,8 +45,8 @@ from rungwise.core.diagnose import (
 from rungwise.core.errors import RungwiseError
 from rungwise.core.units import format_value
 
-from .plot_theme import follow_palette
-from .workers import JobRunner
+from ..jobs.workers import JobRunner
+from ..plots.theme import follow_palette
 
 CHANNEL = "diagnose"
 """JobRunner channel of this view."""

@@ -30,9 +30,9 @@ class ViewEntry:
 
 
 VIEWS: list[ViewEntry] = [
-    ViewEntry("stats_pane", "Statistics", "rungwise.app.stats_view", "StatisticsPane"),
-    ViewEntry("diagnose_pane", "Built board", "rungwise.app.diagnose_view", "DiagnosePane"),
-    ViewEntry("parts_pane", "Parts", "rungwise.app.parts_view", "PartsPane"),
-    ViewEntry("explorer_pane", "Trade-offs", "rungwise.app.explorer_view", "ExplorerPane"),
+    ViewEntry("stats_pane", "Statistics", "rungwise.app.views.stats", "StatisticsPane"),
+    ViewEntry("diagnose_pane", "Built board", "rungwise.app.views.diagnose", "DiagnosePane"),
+    ViewEntry("parts_pane", "Parts", "rungwise.app.views.parts", "PartsPane"),
+    ViewEntry("explorer_pane", "Trade-offs", "rungwise.app.views.explorer", "ExplorerPane"),
 ]
 """Registered views, in tab order."""

@@ -15,7 +15,7 @@ from rungwise.core.sweep_answer import answer_lines
 from rungwise.core.units import parse_value
 
 from .candidates import apply_choices, load_candidates, parse_settings
-from .cli_compute import _plain
+from .compute import _plain
 
 NAME = "sweep"
 HELP = ("Sweep the bit count N or a segmented design's thermometer bits M and write every figure "

@@ -14,11 +14,10 @@ from types import ModuleType
 
 from rungwise.core.errors import RungwiseError
 
-from . import cli_bom, cli_compute, cli_diagnose, cli_export, cli_new, cli_report, cli_sweep
+from . import bom, compute, diagnose, export, new, report, sweep
 
 COMMANDS: dict[str, ModuleType] = {
-    m.NAME: m for m in (cli_compute, cli_new, cli_export, cli_report, cli_bom, cli_diagnose,
-                        cli_sweep)}
+    m.NAME: m for m in (compute, new, export, report, bom, diagnose, sweep)}
 """Command name → module implementing it."""
 
 EXIT_OK, EXIT_INTERNAL, EXIT_BAD_INPUT = 0, 1, 2

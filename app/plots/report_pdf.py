@@ -6,8 +6,8 @@ from pathlib import Path
 
 from rungwise.core.atomic import write_atomically
 
-from .qt_headless import gui_application
-from .report_content import ReviewData, report_html
+from ..export.report_content import ReviewData, report_html
+from ..qt_headless import gui_application
 
 
 def write_report(path: Path, data: ReviewData) -> None:
@@ -16,7 +16,7 @@ def write_report(path: Path, data: ReviewData) -> None:
     from PySide6.QtCore import QMarginsF, QSizeF, QUrl
     from PySide6.QtGui import QPageLayout, QPageSize, QPdfWriter, QTextDocument
 
-    from .plot_paint import plot_image
+    from .paint import plot_image
 
     doc = QTextDocument()
     doc.setDocumentMargin(0)

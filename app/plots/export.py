@@ -7,8 +7,8 @@ from pathlib import Path
 
 from rungwise.core import Evaluation
 
-from .plot_specs import comparison_plots
-from .qt_headless import gui_application
+from ..qt_headless import gui_application
+from .specs import comparison_plots
 
 
 def export_plots(evs: Sequence[Evaluation], folder: Path, formats: Sequence[str] = ("png", "svg")
@@ -17,7 +17,7 @@ def export_plots(evs: Sequence[Evaluation], folder: Path, formats: Sequence[str]
     created if missing); returns the paths."""
     gui_application()
     Path(folder).mkdir(parents=True, exist_ok=True)
-    from .plot_paint import save_png, save_svg  # after the platform is chosen
+    from .paint import save_png, save_svg  # after the platform is chosen
 
     writers = {"png": save_png, "svg": save_svg}
     written = []

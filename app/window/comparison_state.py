@@ -2,7 +2,7 @@
 
 Every finished change goes through :meth:`ComparisonState.apply_edit` (one place, so undo can be added
 there); listeners registered with :meth:`ComparisonState.subscribe` hear ``"candidates"`` and
-``"selection"`` changes. :mod:`rungwise.app.comparison_model` wraps this in Qt signals.
+``"selection"`` changes. :mod:`rungwise.app.window.comparison_model` wraps this in Qt signals.
 """
 
 from __future__ import annotations

@@ -13,8 +13,8 @@ from PySide6.QtWidgets import QAbstractItemView, QHeaderView, QTableWidget, QTab
 from rungwise.core.evaluate import SUMMARY_KEYS
 from rungwise.core.units import format_value
 
+from ..jobs.live_results import CandidateResult
 from .comparison_state import Candidate
-from .live_results import CandidateResult
 
 Best = Literal["smallest", "smallest_abs", "largest", "yes"]
 """How the best value of a row is chosen."""

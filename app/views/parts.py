@@ -33,6 +33,7 @@ from rungwise.core.parts.bom import CAUTION, to_csv
 from rungwise.core.topologies import build
 from rungwise.core.types import SERIES
 
+from ..jobs.workers import JobRunner
 from .parts_report import (
     BOM_COLUMNS,
     DRIFT_ROLES,
@@ -46,7 +47,6 @@ from .parts_report import (
     summary_lines,
     with_drift_choices,
 )
-from .workers import JobRunner
 
 AS_DESIGNED = "as designed"
 """Series choice that keeps each candidate's own series."""

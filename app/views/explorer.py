@@ -42,8 +42,8 @@ from rungwise.core.topologies.segmented import SIZING_RULE
 from rungwise.core.topologies.segmented_units import SIZING_RULE as UNIT_SIZING_RULE
 from rungwise.core.types import MAX_ARRAY_BITS
 
-from .plot_theme import candidate_colour, follow_palette
-from .workers import Progress, runner_for
+from ..jobs.workers import Progress, runner_for
+from ..plots.theme import candidate_colour, follow_palette
 
 CHANNEL = "explorer"
 """JobRunner channel of this view."""

@@ -30,17 +30,17 @@ from rungwise.core.demo import demo_candidates
 from rungwise.core.design import Design
 from rungwise.core.errors import RungwiseError
 
+from ..jobs.live_results import LiveResults, ResultSet
+from ..plots.curves import PLOTS, CodePlotsView
 from .candidate_list import CandidateListPane
 from .compare_table import CompareTable
 from .comparison_model import ComparisonModel
 from .comparison_state import Candidate, with_colours
 from .design_pane import CAPTION_WIDTH_TEXT, FIELD_WIDTH_TEXT, DesignPane
-from .live_results import LiveResults, ResultSet
-from .plot_views import PLOTS, CodePlotsView
+from .files import install as install_file_features
+from .memory import load_memory, save_memory
+from .texts import ABOUT_HTML, APP_TITLE
 from .view_registry import VIEWS, ViewEntry
-from .window_files import install as install_file_features
-from .window_memory import load_memory, save_memory
-from .window_texts import ABOUT_HTML, APP_TITLE
 
 BUSY_SHOW_MS = 250
 """Progress and Cancel appear when a computation runs longer than this, ms."""

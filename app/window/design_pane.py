@@ -1,7 +1,7 @@
 """The values pane: every setting of the candidate being edited, typed in engineering notation.
 
 Widgets are built from ``core.design.FIELDS`` and ``core.types`` and bound by name
-(:mod:`rungwise.app.binding`). A refused entry is marked at its field with the allowed range and
+(:mod:`rungwise.app.window.binding`). A refused entry is marked at its field with the allowed range and
 never reaches the design.
 """
 

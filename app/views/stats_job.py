@@ -56,7 +56,7 @@ def _at_grade(design: Design, grade: float | None) -> tuple[Design, str]:
 
 def statistics_job(request: StatsRequest) -> Any:
     """A ``JobRunner`` job: ``job(cancel)`` yielding ``Progress`` and finally a ``StatsOutcome``."""
-    from .workers import Progress
+    from ..jobs.workers import Progress
 
     def job(cancel: threading.Event) -> Iterator[Any]:
         n = len(request.designs)

@@ -9,7 +9,7 @@ from pathlib import Path
 from rungwise.core import evaluate
 from rungwise.core.errors import RungwiseError
 
-from . import export_table
+from ..export import tables as export_table
 from .candidates import add_choice_arguments, chosen_candidates
 
 NAME = "export"
@@ -67,7 +67,7 @@ def run(args: argparse.Namespace) -> int:
             export_table.write_text(bom, export_table.bom_csv(evs))
             written.append(bom)
         if args.plots:
-            from .export_plots import export_plots  # imports Qt: only when plots are asked for
+            from ..plots.export import export_plots  # imports Qt: only when plots are asked for
 
             written += export_plots(evs, Path(args.plots), formats)
     except OSError as exc:

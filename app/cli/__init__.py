@@ -1,0 +1,1 @@
+"""The headless command line: the parser, one module per command, and their Qt-free helpers."""

@@ -1,0 +1,1 @@
+"""Background work for the window: the job runner and the live nominal results."""

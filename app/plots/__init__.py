@@ -1,0 +1,1 @@
+"""Plots drawn with Qt: the curves page, analysis-view styling, plot specs, painting and plot files."""

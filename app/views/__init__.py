@@ -1,0 +1,1 @@
+"""Analysis views beside the comparison, each with its Qt-free job or report helper."""

@@ -1,0 +1,1 @@
+"""The main window: panes, the figures table, field binding, comparison state, edit history and files."""
