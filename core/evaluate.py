@@ -8,6 +8,7 @@ from typing import Any
 import numpy as np
 
 from .design import Design
+from .figure_meaning import reasons
 from .limits import check_evaluation
 from .metrics import linearity
 from .metrics.power import WHOLE_CODES
@@ -48,6 +49,9 @@ class Evaluation:
     solution : Solution
     notes : dict[str, str]
         How some summary figures were decided, in words, by summary key (``guaranteed_monotonic``).
+    no_meaning : dict[str, str]
+        Summary keys that mean nothing for the inputs (their value is NaN) → the reason
+        (``figure_meaning.py``), e.g. settling with no load capacitance.
     """
 
     design: Design
@@ -63,6 +67,7 @@ class Evaluation:
     network: Network = field(repr=False)
     solution: Solution = field(repr=False)
     notes: dict[str, str] = field(default_factory=dict)
+    no_meaning: dict[str, str] = field(default_factory=dict)
 
     def per_code(self) -> dict[str, np.ndarray]:
         """Per-code arrays by name; ``dnl`` is padded with NaN at the last code."""
@@ -190,6 +195,9 @@ def evaluate(design: Design) -> Evaluation:
     extra, elements = part_figures(design, net, sol)
     guarantee, guarantee_note = worst_case_summary(design)
     power_max, power_code = part_power_arrays(elements, net.parts)
+    summary = {**summarize(design, net, sol, curves, guarantee), **extra}
+    void = reasons(design, summary)
+    summary.update(dict.fromkeys(void, float("nan")))
     return Evaluation(
         design=design,
         codes=np.arange(net.n_codes),
@@ -199,9 +207,10 @@ def evaluate(design: Design) -> Evaluation:
         inl_endpoint=curves["inl_endpoint"],
         inl_bestfit=curves["inl_bestfit"],
         dnl=curves["dnl"],
-        summary={**summarize(design, net, sol, curves, guarantee), **extra},
+        summary=summary,
         parts=PartRows(net.parts, power_max, power_code),
         network=net,
         solution=sol,
         notes={"guaranteed_monotonic": guarantee_note},
+        no_meaning=void,
     )

@@ -2,20 +2,32 @@
 
 A figure computed from an input that was not given reads as a result when shown as a number:
 settling "0 s" with no load capacitance looks instant, drift at the cold and hot ends with no
-temperature coefficient repeats the nominal values. :func:`not_meaningful` names the reason so
-the window's table, the command line and the report show it instead of the number;
-:func:`figure_note` adds what a figure needs beside it (the temperature of a drift row).
+temperature coefficient repeats the nominal values. ``evaluate`` sets such figures to NaN and
+keeps the reason in ``Evaluation.no_meaning`` (from :func:`reasons`), so the window's table, the
+command line and the report show the reason instead of a number; :func:`figure_note` adds what a
+figure needs beside it (the temperature of a drift row).
 """
 
 from __future__ import annotations
 
-import math
-from collections.abc import Mapping
+from collections.abc import Iterable
 from typing import Any
 
+from .metrics.drift import any_part_drifts
+from .parts.board import board_value
+
 SETTLING_KEYS = ("settling_tau", "settling_time")
+"""Summary keys of the output's settling."""
+
 DRIFT_KEYS = ("drift_gain_error_low", "drift_gain_error_high", "drift_offset_low",
               "drift_offset_high", "drift_inl_low", "drift_inl_high")
+"""Summary keys of the figures at the ends of the temperature range."""
+
+AMPLIFIER_OUTPUTS = ("buffer", "summing-amp", "transimpedance")
+"""Outputs taken through an amplifier (its speed is not modelled)."""
+
+NO_MEANING_TEXT = "no meaning"
+"""The words shown in place of such a figure, before its reason."""
 
 
 def has_tempco(design: Any) -> bool:
@@ -24,23 +36,51 @@ def has_tempco(design: Any) -> bool:
     return bool(mm.get("tempco", 0.0)) or any(float(v) for v in mm.get("tempco_parts", {}).values())
 
 
-def not_meaningful(design: Any, key: str, summary: Mapping[str, Any] | None = None) -> str | None:
-    """Why ``key`` means nothing for ``design`` (short words for a table cell), or ``None``."""
-    if key in SETTLING_KEYS:
-        value = (summary or {}).get(key)
-        if isinstance(value, float) and math.isnan(value):
-            return "behind an amplifier, whose speed is not modelled"
-        if design.load_c == 0:
-            return "no load capacitance given"
-    if key in DRIFT_KEYS and not has_tempco(design):
-        return "no temperature coefficient set"
+def _settling_reason(design: Any) -> str | None:
+    if design.output in AMPLIFIER_OUTPUTS:
+        return "behind an amplifier, whose speed is not modelled"
+    if design.load_c == 0:
+        return "no load capacitance given"
     return None
+
+
+def _drift_reason(design: Any) -> str | None:
+    if not has_tempco(design):
+        return "no temperature coefficient set"
+    ends = [board_value(design, "temp_low_c"), board_value(design, "temp_high_c")]
+    if not any_part_drifts(design, ends):
+        return "no part changes value between the range's ends"
+    return None
+
+
+def not_meaningful(design: Any, key: str) -> str | None:
+    """Why summary figure ``key`` means nothing for ``design`` (short words for a table cell), or
+    ``None`` when it means something."""
+    if key in SETTLING_KEYS:
+        return _settling_reason(design)
+    if key in DRIFT_KEYS:
+        return _drift_reason(design)
+    return None
+
+
+def reasons(design: Any, keys: Iterable[str]) -> dict[str, str]:
+    """``{key: reason}`` for every key of ``keys`` that means nothing for ``design``."""
+    settling, drift = _settling_reason(design), _drift_reason(design)
+    out = {}
+    for key in keys:
+        why = settling if key in SETTLING_KEYS else drift if key in DRIFT_KEYS else None
+        if why:
+            out[key] = why
+    return out
+
+
+def shown(reason: str) -> str:
+    """The text shown in place of a figure: ``"no meaning: no load capacitance given"``."""
+    return f"{NO_MEANING_TEXT}: {reason}"
 
 
 def figure_note(design: Any, key: str) -> str:
     """What belongs beside a meaningful figure: ``"at 70 °C"`` for a drift row, else ``""``."""
-    from .parts.board import board_value
-
     if key in DRIFT_KEYS:
         end = "temp_low_c" if key.endswith("_low") else "temp_high_c"
         return f"at {board_value(design, end):g} °C"

@@ -14,6 +14,7 @@ import numpy as np
 
 from rungwise.core import SUMMARY_KEYS, Evaluation, MonteCarloResult, evaluate, monte_carlo
 from rungwise.core.errors import RungwiseError
+from rungwise.core.figure_meaning import shown
 from rungwise.core.grades import CRITERIA
 from rungwise.core.montecarlo import check_run, plan_run
 from rungwise.core.review import DEFER, voltage_cautions
@@ -62,6 +63,7 @@ def result_dict(ev: Evaluation, per_code: bool, stats: MonteCarloResult | None =
         "name": d.label, "topology": d.topology, "output": d.output, "bits": d.bits,
         "summary": {k: _plain(v) for k, v in ev.summary.items()},
         "notes": dict(ev.notes),
+        "no_meaning": dict(ev.no_meaning),
         "parts": [{k: _plain(v) for k, v in p.items()} for p in ev.parts],
     }
     if per_code:
@@ -81,8 +83,10 @@ def _label_unit(key: str) -> tuple[str, str]:
     return SUMMARY_KEYS.get(key, (key, ""))
 
 
-def _cell(key: str, value: Any) -> str:
+def _cell(key: str, value: Any, reason: str | None = None) -> str:
     unit = _label_unit(key)[1]
+    if reason:
+        return shown(reason)
     if isinstance(value, float) and math.isnan(value):
         return "—"
     if isinstance(value, bool):
@@ -102,7 +106,7 @@ def render_table(evs: list[Evaluation]) -> str:
     keys = [k for k in evs[0].summary if all(k in e.summary for e in evs)]
     for key in keys:
         label = _label_unit(key)[0]
-        rows.append([label, *[_cell(key, e.summary[key]) for e in evs]])
+        rows.append([label, *[_cell(key, e.summary[key], e.no_meaning.get(key)) for e in evs]])
     widths = [max(len(r[i]) for r in rows) for i in range(len(rows[0]))]
     table = "\n".join("  ".join(c.ljust(w) for c, w in zip(r, widths, strict=True)).rstrip()
                       for r in rows)

@@ -61,7 +61,7 @@ def part_ohms_at(design: Any, net: Network, temperatures_c: np.ndarray) -> dict[
             for i, pid in enumerate(parts.ids())}
 
 
-def _any_part_drifts(design: Any, temperatures_c: np.ndarray) -> bool:
+def any_part_drifts(design: Any, temperatures_c: np.ndarray) -> bool:
     """Whether any part's value changes at any of the temperatures (a coefficient not zero)."""
     base = MismatchModel.of(design)
     models = [dataclasses.replace(base, temperature_c=float(t)) for t in temperatures_c]
@@ -92,7 +92,7 @@ def drift(design: Any, net: Network, temperatures_c: np.ndarray | list[float],
     """
     temps = np.asarray(temperatures_c, dtype=float)
     feedback = None
-    if nominal_vout is not None and not _any_part_drifts(design, temps):
+    if nominal_vout is not None and not any_part_drifts(design, temps):
         v = np.broadcast_to(nominal_vout, (len(temps), nominal_vout.shape[-1]))
     else:
         ohms = part_ohms_at(design, net, temps)

@@ -27,6 +27,8 @@ SUMMARY_KEYS: dict[str, tuple[str, str]] = {
     "noise_density": ("Thermal noise density, worst code", "V/√Hz"),
     "noise_rms": ("Thermal noise over the bandwidth", "V"),
     "noise_rms_lsb": ("  relative to the LSB", "LSB"),
+    "drift_low_c": ("Cold end of the temperature range", "°C"),
+    "drift_high_c": ("Hot end of the temperature range", "°C"),
     "drift_gain_error_low": ("Gain error at the cold end", "fraction"),
     "drift_gain_error_high": ("Gain error at the hot end", "fraction"),
     "drift_offset_low": ("Offset at the cold end", "V"),
@@ -75,8 +77,9 @@ def part_figures(design: Any, net: Network, sol: Solution
         "noise_rms": noise_rms,
         "noise_rms_lsb": noise_rms / lsb if lsb else float("nan"),
     }
-    ends = drift(design, net, [board_value(design, "temp_low_c"), board_value(design, "temp_high_c")],
-                 nominal_vout=sol.vout)
+    range_c = [board_value(design, "temp_low_c"), board_value(design, "temp_high_c")]
+    ends = drift(design, net, range_c, nominal_vout=sol.vout)
+    out["drift_low_c"], out["drift_high_c"] = (float(t) for t in range_c)
     for i, end in enumerate(("low", "high")):
         out[f"drift_gain_error_{end}"] = float(ends.gain_error[i])
         out[f"drift_offset_{end}"] = float(ends.offset_error[i])

@@ -27,3 +27,19 @@ def test_compute_json_has_part_figures(capsys):
 def test_bad_series_is_a_bad_input(capsys):
     assert run_cli(["compute", "--set", "series=E7"]) == 2
     assert "series" in capsys.readouterr().err
+
+
+def test_figures_with_no_meaning_say_why(capsys):
+    # no load capacitance and no temperature coefficient: settling and drift rows say so
+    assert run_cli(["compute", "--format", "table", "--set", "bits=6", "--set", "load_c=0"]) == 0
+    lines = capsys.readouterr().out.splitlines()
+    row = next(ln for ln in lines if ln.startswith("Settling to ½ LSB"))
+    assert "no meaning: no load capacitance given" in row
+    assert " 0 s" not in row
+    assert run_cli(["compute", "--format", "json", "--set", "bits=6", "--set", "load_c=1n",
+                    "--set", "mismatch.tempco=0"]) == 0
+    res = json.loads(capsys.readouterr().out)["results"][0]
+    assert res["summary"]["drift_inl_high"] is None
+    assert res["no_meaning"]["drift_inl_high"] == "no temperature coefficient set"
+    assert "settling_time" not in res["no_meaning"]
+    assert res["summary"]["settling_time"] > 0

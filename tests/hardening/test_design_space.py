@@ -32,6 +32,8 @@ ARRAYS = ("vout", "iref", "inl_endpoint", "inl_bestfit", "dnl")
 def _allowed_non_finite(ev, key: str) -> bool:
     """Summary figures that are not finite by definition (each documented where it is computed)."""
     net, s = ev.network, ev.summary
+    if key in ev.no_meaning:  # core/figure_meaning.py: no meaning for the inputs, NaN with a reason
+        return math.isnan(s[key])
     if key in {"settling_tau", "settling_time"}:  # metrics/settling.py: NaN behind an amplifier
         return has_amplifier(net) and math.isnan(s[key])
     if key == "amp_inl_added":  # metrics/amplifier.py: NaN when the real output is flat (the
