@@ -19,7 +19,8 @@ from .part_rows import PartRows
 from .parts.figures import SUMMARY_KEYS as PART_SUMMARY_KEYS
 from .parts.figures import part_figures
 from .skew import SUMMARY_KEYS as SKEW_KEYS
-from .solve import Solution, solve
+from .solution import Solution
+from .solve import solve
 from .topologies import build
 from .worst_case import SUMMARY_KEYS as WORST_CASE_KEYS
 from .worst_case import summary as worst_case_summary

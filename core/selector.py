@@ -18,7 +18,8 @@ Two exact ways to get ``v``, ``r`` and ``h``:
 * **sparse** (any other fixed network): one sparse LU factorisation (scipy.sparse) and one solve
   per selectable node for the diagonal of the inverse; per trial. Tests compare the two.
 
-Networks with chains but no selector are handed to the general solver with the chains expanded.
+Networks with chains but no selector are solved by the general solver on :func:`expanded` (the
+solver's dispatch decides).
 """
 
 from __future__ import annotations
@@ -31,6 +32,7 @@ import numpy as np
 from .element_arrays import array_values
 from .errors import NetworkError
 from .network import ChainNodes, Network
+from .solution import Solution, check_connected
 
 
 @dataclasses.dataclass
@@ -55,17 +57,13 @@ def expanded(net: Network) -> Network:
     return dataclasses.replace(net, resistors=[*net.resistors, *extra], chains=[])
 
 
-def solve_selected(net: Network, ohms: Mapping[str, np.ndarray | float], codes, method,
-                   keep_nodes: bool):
-    """Solve a network with a selector (or chains) at ``codes``; see the module docstring.
+def solve_selected(net: Network, ohms: Mapping[str, np.ndarray | float], codes,
+                   keep_nodes: bool) -> Solution:
+    """Solve a network with a selector at ``codes``; see the module docstring.
 
-    Returns a :class:`~rungwise.core.solve.Solution`; with ``keep_nodes`` only the fixed nodes and
-    the output node are reported.
+    Returns a :class:`~rungwise.core.solution.Solution`; with ``keep_nodes`` only the fixed nodes
+    and the output node are reported.
     """
-    from .solve import Solution, solve
-
-    if net.selector is None:
-        return solve(expanded(net), ohms, codes, method, keep_nodes)
     sel, out = net.selector, net.output
     if net.legs or net.groups:
         raise NetworkError(sel.out, "a tap selector needs a code-independent network: switched "
@@ -215,13 +213,11 @@ def _sparse(net: Network, ohms) -> TapTable:
     import scipy.sparse as sp
     from scipy.sparse.linalg import splu
 
-    from .solve import _check_connected
-
     flat = expanded(net)
     sel = net.selector
     nodes = [n for n in dict.fromkeys(x for r in flat.resistors for x in (r.a, r.b))
              if n not in net.fixed]
-    _check_connected(dataclasses.replace(flat, output=dataclasses.replace(
+    check_connected(dataclasses.replace(flat, output=dataclasses.replace(
         flat.output, node=next(iter(net.fixed)))), nodes)
     index = {name: i for i, name in enumerate(nodes)}
     values = [np.asarray(ohms.get(r.part_id, r.ohms), dtype=float) for r in flat.resistors]

@@ -13,7 +13,7 @@ Both return the same :class:`Solution`; tests check them against each other and 
 from __future__ import annotations
 
 from collections.abc import Mapping
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from typing import Literal
 
 import numpy as np
@@ -21,32 +21,11 @@ import numpy as np
 from . import element_arrays
 from .errors import NetworkError
 from .network import Network
+from .selector import expanded, solve_selected
+from .solution import Solution, check_connected
 from .sparse_elim import EliminationPlan, plan_elimination, solve_batched
 
 Method = Literal["auto", "general", "superposition"]
-
-
-@dataclass
-class Solution:
-    """Per-code results of one network.
-
-    Attributes
-    ----------
-    vout : ndarray, shape batch = (n_codes,) or (n_trials, n_codes), volts
-    rout : ndarray, same shape, ohms — Thevenin resistance at the output terminal, load excluded
-        (for a virtual-ground output: the resistance the summing node sees).
-    iref : ndarray, same shape, amperes — current delivered by the reference (positive sourcing).
-    method : str
-        ``"general"`` or ``"superposition"``.
-    node_voltages : dict[str, ndarray]
-        Every node's voltage (fixed ones included), same batch shape; filled when ``keep_nodes``.
-    """
-
-    vout: np.ndarray
-    rout: np.ndarray
-    iref: np.ndarray
-    method: str
-    node_voltages: dict[str, np.ndarray] = field(default_factory=dict)
 
 
 # ------------------------------------------------------------------------------------------------
@@ -166,31 +145,6 @@ def _plan(n: int, pairs: set[tuple[int, int]], last: int | None) -> EliminationP
     return plan
 
 
-def _check_connected(net: Network, nodes: list[str]) -> None:
-    """Raise :class:`NetworkError` naming a node with no path to a fixed node in any code."""
-    links: dict[str, set[str]] = {name: set() for name in [*nodes, *net.fixed]}
-    for r in net.resistors:
-        links.setdefault(r.a, set()).add(r.b)
-        links.setdefault(r.b, set()).add(r.a)
-    for leg in [*net.legs, *net.groups]:
-        for rail in (leg.high, leg.low):
-            if rail is not None:
-                links.setdefault(leg.node, set()).add(rail)
-                links.setdefault(rail, set()).add(leg.node)
-    reached = set(net.fixed)
-    frontier = list(net.fixed)
-    while frontier:
-        cur = frontier.pop()
-        for nxt in links.get(cur, ()):
-            if nxt not in reached:
-                reached.add(nxt)
-                frontier.append(nxt)
-    for name in nodes:
-        if name not in reached:
-            raise NetworkError(name, f"node '{name}' has no DC path to ground or a source "
-                               "(a floating node): the network cannot be solved")
-
-
 # ------------------------------------------------------------------------------------------------
 # the solver
 
@@ -233,16 +187,16 @@ def solve(
         A node is floating, or superposition was asked for where it is not exact.
     """
     ohms = dict(ohms or {})
-    if net.selector is not None or net.chains:
-        from .selector import solve_selected  # networks with array-held strings or a tap switch
-
-        return solve_selected(net, ohms, codes, method, keep_nodes)
+    if net.selector is not None:  # a code-selected tap: one fixed network, solved once
+        return solve_selected(net, ohms, codes, keep_nodes)
+    if net.chains:  # array-held resistor strings: solved as plain resistors
+        return solve(expanded(net), ohms, codes, method, keep_nodes)
     codes = np.arange(net.n_codes) if codes is None else np.asarray(codes, dtype=np.int64)
     trial_shape = np.broadcast_shapes(*{np.shape(v) for v in ohms.values()}) if ohms else ()
     per_code = max(1, int(np.prod(trial_shape)))
     layout = _BitLayout.fitting(net, codes, trial_shape)
     st = _Stamps(net, layout.lay_ohms(ohms) if layout else ohms)
-    _check_connected(net, st.nodes)
+    check_connected(net, st.nodes)
     linear = st.superposition_holds()
     if method == "superposition" and not linear:
         raise NetworkError(net.output.node, "superposition is not exact for this network: a switch "

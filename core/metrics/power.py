@@ -21,7 +21,8 @@ import numpy as np
 
 from ..element_arrays import plain_equivalent, plain_size
 from ..network import Network, PartList
-from ..solve import Solution, solve
+from ..solution import Solution
+from ..solve import solve
 
 CODE_CHUNK = 1 << 15
 """Codes solved per pass when node voltages are kept; bounds working memory."""

@@ -31,7 +31,8 @@ import numpy as np
 
 from ..element_arrays import array_values
 from ..network import BlockSequence, Network, PartArray, PartList
-from ..solve import Solution, solve
+from ..solution import Solution
+from ..solve import solve
 
 
 def running_max(x: np.ndarray, reverse: bool = False) -> tuple[np.ndarray, np.ndarray]:

@@ -12,7 +12,7 @@ from ..metrics.drift import drift
 from ..metrics.power import ElementPower, worst_case
 from ..metrics.power_arrays import switch_maxima
 from ..network import Network
-from ..solve import Solution
+from ..solution import Solution
 from .board import board_value
 
 SUMMARY_KEYS: dict[str, tuple[str, str]] = {
