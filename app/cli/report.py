@@ -39,8 +39,11 @@ def run(args: argparse.Namespace) -> int:
     from ..export.report_content import gather
     from ..plots.report_pdf import write_report  # imports Qt: only this command needs it
 
+    source = Path(args.design) if args.design else None
     data = gather(doc, title=title, with_stats=not args.no_stats,
-                  progress=lambda line: print(f"rungwise: {line}", file=sys.stderr, flush=True))
+                  progress=lambda line: print(f"rungwise: {line}", file=sys.stderr, flush=True),
+                  source=source.name if source else "",
+                  file_bytes=source.read_bytes() if source else None)
     try:
         write_report(out, data)
     except OSError as exc:

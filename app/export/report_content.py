@@ -1,32 +1,103 @@
-"""The design-review report's content, without Qt: figures gathered once, rendered as HTML.
+"""The design-review report's content, without Qt: figures gathered once, written as blocks.
 
-:func:`gather` evaluates every candidate (and runs the Monte Carlo statistics with the file's trial
-count and seed unless asked not to); :func:`report_html` turns that into one HTML document whose
-plots are ``<img src="plot:NAME">`` references that ``report_pdf`` fills with images. Every number
-in the text comes from the gathered results; the recommendation from ``core.review.recommend``.
+:func:`gather` evaluates every candidate, runs the Monte Carlo statistics with the file's trial
+count and seed (unless asked not to), finds the loosest tolerance grade that meets the targets
+and derives the recommendation. :func:`report_blocks` turns that into headings, paragraphs,
+tables and figures (``report_blocks``) that ``report_pdf`` lays out on pages. Every number comes
+from the gathered results and is written by :func:`figure_text` (engineering notation, SI
+prefixes, per cent for fractions — never scientific notation).
 """
 
 from __future__ import annotations
 
 import datetime as _dt
-import html
+import hashlib
 import math
-from collections.abc import Callable, Mapping, Sequence
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
 from typing import Any
 
-from rungwise.core import FIELDS, Evaluation, evaluate
-from rungwise.core.designfile import DesignFile
-from rungwise.core.review import Recommendation, bom_lines, cautions, describe_targets, recommend
+from rungwise.core import FIELDS, SUMMARY_KEYS, Evaluation, evaluate
+from rungwise.core.designfile import DesignFile, dumps
+from rungwise.core.review import (
+    Recommendation,
+    bom_lines,
+    cautions,
+    describe_targets,
+    recommend,
+)
+from rungwise.core.stats_result import STAT_UNITS
 from rungwise.core.units import format_value
 
 from ..plots.specs import PlotSpec, comparison_plots, spread_plot
-from .tables import table_html_fragment
+from ..window.comparison_state import with_colours
+from .report_blocks import Block, Figure, Heading, PageBreak, Paragraph, Table
 
 MAX_PART_ROWS = 40
 """Parts listed per candidate in the report; the rest are counted (all are in the exports)."""
 
+GRADE_TRIALS = 1000
+"""Most boards per tolerance grade when looking for the loosest grade that passes."""
 
+
+def program_version() -> str:
+    """The installed Rungwise version."""
+    from importlib.metadata import PackageNotFoundError, version
+
+    try:
+        return version("rungwise")
+    except PackageNotFoundError:  # pragma: no cover - running from a bare checkout
+        return "unknown"
+
+
+def checksum(text: str | bytes) -> str:
+    """A short content checksum: the first 8 hex digits of SHA-256."""
+    data = text.encode("utf-8") if isinstance(text, str) else text
+    return hashlib.sha256(data).hexdigest()[:8]
+
+
+# --- numbers -----------------------------------------------------------------------------------
+def figure_text(value: Any, unit: str = "") -> str:
+    """A figure for people: engineering notation with an SI prefix (``342.9 µA``), fractions as
+    per cent, LSB with up to four significant digits, yes/no, whole numbers as they are."""
+    if value is None:
+        return "—"
+    if isinstance(value, bool):
+        return "yes" if value else "no"
+    if isinstance(value, int):
+        return f"{value:,}".replace(",", " ") + (f" {unit}" if unit else "")
+    x = float(value)
+    if math.isnan(x):
+        return "—"
+    if unit == "fraction":
+        return _decimal(x * 100, 4) + " %"
+    if unit in {"LSB", "×", "R", "bits", "%"} or not unit:
+        return _decimal(x, 4) + (f" {unit}" if unit else "")
+    if math.isinf(x):
+        return format_value(x, unit)
+    if x != 0 and abs(x) < 1e-15:
+        return f"{_decimal(x / 1e-15, 4)} f{unit}"
+    return format_value(x, unit)
+
+
+def _decimal(x: float, digits: int) -> str:
+    """``x`` to ``digits`` significant digits in plain decimal (no exponent)."""
+    if math.isinf(x):
+        return "∞" if x > 0 else "−∞"
+    if x == 0:
+        return "0"
+    places = max(0, digits - 1 - math.floor(math.log10(abs(x))))
+    text = f"{x:.{min(places, 12)}f}"
+    if "." in text:
+        text = text.rstrip("0").rstrip(".")
+    return text.replace("-", "−")
+
+
+def _percent(x: float) -> str:
+    return _decimal(x * 100, 3) + " %"
+
+
+# --- gathering ---------------------------------------------------------------------------------
 @dataclass
 class ReviewData:
     """Everything the report shows, computed once.
@@ -37,10 +108,18 @@ class ReviewData:
     evs : list[Evaluation]
     stats : list
         ``MonteCarloResult`` per candidate, or ``None`` where statistics were not run.
+    grades : list
+        Per candidate ``(loosest grade or None, YieldCurve)``, or ``None`` where not run.
     recommendation : Recommendation
-    title : str
+    title, source : str
+        The report's title and the design file's name (``""`` for an unsaved comparison).
     notes : list[str]
         Why statistics were left out for a candidate, if they were.
+    colours : list[str]
+        Each candidate's colour (``#rrggbb``), as in the window.
+    checksum, version : str
+    search : SearchSummary or None
+        The design search's question and answer when the file holds a ``[search]`` table.
     """
 
     doc: DesignFile
@@ -49,6 +128,13 @@ class ReviewData:
     recommendation: Recommendation
     title: str = "Design review"
     notes: list[str] = field(default_factory=list)
+    grades: list[Any] = field(default_factory=list)
+    source: str = ""
+    colours: list[str] = field(default_factory=list)
+    checksum: str = ""
+    version: str = ""
+    search: Any = None
+    made: str = ""
 
     @property
     def plots(self) -> list[PlotSpec]:
@@ -58,134 +144,356 @@ class ReviewData:
 
 
 def gather(doc: DesignFile, title: str = "Design review", with_stats: bool = True,
-           cancel: Any = None, progress: Callable[[str], None] | None = None) -> ReviewData:
-    """Evaluate the candidates, run statistics (file's trials and seed), derive the recommendation.
+           cancel: Any = None, progress: Callable[[str], None] | None = None,
+           source: str = "", file_bytes: bytes | None = None) -> ReviewData:
+    """Evaluate the candidates, run statistics (file's trials and seed) and the loosest passing
+    tolerance grade, derive the recommendation.
 
     ``cancel`` (a ``threading.Event``) is checked between Monte Carlo batches; once it is set the
     remaining statistics are skipped (a caller that cancels discards the result). ``progress``,
     when given, receives a line of text about ten times per candidate's statistics (boards done).
+    ``source`` names the design file and ``file_bytes`` is its content (for the checksum; the
+    document's own text when not given).
     """
     evs = [evaluate(d) for d in doc.candidates]
     stats: list[Any] = [None] * len(evs)
+    grades: list[Any] = [None] * len(evs)
     notes: list[str] = []
     if with_stats:
         from rungwise.core.errors import DesignError
+        from rungwise.core.grades import iter_yield_vs_tolerance
         from rungwise.core.montecarlo import iter_monte_carlo
 
+        trials = doc.analysis.trials
         for i, d in enumerate(doc.candidates):
             if cancel is not None and cancel.is_set():
                 break
             try:
-                for partial in iter_monte_carlo(d, doc.analysis.trials, doc.analysis.seed,
-                                                cancel=cancel, targets=doc.targets,
+                for partial in iter_monte_carlo(d, trials, doc.analysis.seed, cancel=cancel,
+                                                targets=doc.targets,
                                                 reports=10 if progress else 1):
                     stats[i] = partial
                     if progress is not None:
                         progress(f"statistics of {d.label} ({i + 1} of {len(evs)}): "
-                                 f"{partial.done:,} of {doc.analysis.trials:,} boards")
+                                 f"{partial.done:,} of {trials:,} boards")
+                curve = None
+                for curve in iter_yield_vs_tolerance(d, trials=min(trials, GRADE_TRIALS),
+                                                     seed=doc.analysis.seed,
+                                                     targets=doc.targets, cancel=cancel):
+                    if progress is not None:
+                        progress(f"tolerance grades of {d.label}: {len(curve.yields)} of "
+                                 f"{len(curve.steps)}")
+                if curve is not None and len(curve.yields) == len(curve.steps):
+                    grades[i] = (curve.loosest(doc.targets.min_yield), curve)
             except DesignError as exc:
                 notes.append(f"{d.label}: statistics not run ({exc})")
     yields = [float(s.yield_all) if s is not None else None for s in stats]
     rec = recommend(evs, doc.targets, yields if any(y is not None for y in yields) else None)
-    return ReviewData(doc, evs, stats, rec, title, notes)
+    colours = [c.colour for c in with_colours(doc.candidates, _colours(doc))]
+    search = _search(doc, cancel) if with_stats else None
+    return ReviewData(doc, evs, stats, rec, title, notes, grades, source, colours,
+                      checksum(file_bytes if file_bytes is not None else dumps(doc)),
+                      program_version(), search,
+                      _dt.datetime.now(_dt.UTC).strftime("%Y-%m-%d %H:%M UTC"))
 
 
-# --- HTML pieces -----------------------------------------------------------------------------
-def _esc(x: Any) -> str:
-    return html.escape(str(x))
+def _colours(doc: DesignFile) -> list[str]:
+    found = doc.settings.get("colours", []) if isinstance(doc.settings, dict) else []
+    return [str(c) for c in found] if isinstance(found, list) else []
 
 
-def _table(head: Sequence[str], rows: Sequence[Sequence[Any]], right_from: int = 1) -> str:
-    out = ['<table border="1" cellspacing="0" cellpadding="3">',
-           "<tr>" + "".join(f"<th>{_esc(h)}</th>" for h in head) + "</tr>"]
-    for r in rows:
-        out.append("<tr>" + "".join(
-            f'<td{" align=right" if i >= right_from else ""}>{_esc(c)}</td>' for i, c in enumerate(r))
-            + "</tr>")
-    out.append("</table>")
-    return "\n".join(out)
+def _search(doc: DesignFile, cancel: Any) -> Any:
+    """The design search's summary when the file asks one (``[search]``), else ``None``."""
+    from rungwise.core.search_report import file_search, search_summary
+
+    result = file_search(doc, cancel=cancel)
+    return None if result is None else search_summary(result, doc.candidates[0], doc.cost)
+
+
+# --- blocks ------------------------------------------------------------------------------------
+def _swatches(data: ReviewData, first: int) -> dict[int, str]:
+    return {first + i: c for i, c in enumerate(data.colours)}
+
+
+def not_meaningful(ev: Evaluation, key: str) -> str | None:
+    """Why a summary figure means nothing for this design's inputs, or ``None``."""
+    from rungwise.core import figure_meaning
+
+    return figure_meaning.not_meaningful(ev.design, key, ev.summary)
+
+
+def _cell(ev: Evaluation, key: str) -> str:
+    reason = not_meaningful(ev, key)
+    if reason:
+        return f"— ({reason})"
+    from rungwise.core.figure_meaning import figure_note
+
+    label, unit = SUMMARY_KEYS.get(key, (key, ""))
+    value = ev.summary.get(key)
+    if isinstance(value, float) and label.strip() == "at code" and math.isfinite(value):
+        value = int(value)
+    note = figure_note(ev.design, key)
+    return figure_text(value, unit) + (f" {note}" if note else "")
+
+
+KEY_FIGURES = ("lsb", "max_abs_inl_endpoint", "max_abs_inl_bestfit", "max_abs_dnl", "monotonic",
+               "gain_error", "rout_max", "iref_max", "power_total_max")
+"""The figures page 1 sets side by side."""
+
+
+def _yield_text(data: ReviewData, i: int) -> str:
+    s = data.stats[i]
+    if s is None:
+        return "not computed"
+    y = s.yield_all
+    return _decision(y.passed, y.trials, data.doc.targets.min_yield).yield_text()
+
+
+def _decision(passed: int, trials: int, target: float):
+    from rungwise.core.yield_decision import decide_yield
+
+    return decide_yield(int(passed), int(trials), float(target))
+
+
+def _page_one(data: ReviewData) -> list[Block]:
+    doc, evs = data.doc, data.evs
+    t = doc.targets
+    names = ", ".join(e.design.label for e in evs)
+    src = f" from {data.source}" if data.source else ""
+    out: list[Block] = [
+        Heading(data.title, 0),
+        Paragraph(f"Candidates: {names}. Made by Rungwise {data.version} on {data.made}{src}.",
+                  "small"),
+        Heading("The question", 2),
+        Paragraph(f"Which candidate meets the targets — {describe_targets(t)} — with at least "
+                  f"{_percent(t.min_yield)} of boards passing when the parts vary as each "
+                  f"candidate's tolerance says ({doc.analysis.trials:,} random boards, seed "
+                  f"{doc.analysis.seed})? Among those that do, the one with the fewest parts."),
+        Heading("The answer", 2),
+        Paragraph(data.recommendation.text, "verdict"),
+        Heading("What would pass", 2),
+    ]
+    rows = []
+    for i, (ev, v) in enumerate(zip(evs, data.recommendation.verdicts, strict=True)):
+        rows.append([ev.design.label, "yes" if v.passes else "no — " + "; ".join(v.failures),
+                     *_grade_cells(data, i)])
+    out.append(Table(["Candidate", "Meets the targets now",
+                      f"Loosest grade for {_percent(t.min_yield)} yield", "Yield at that grade"],
+                     rows, "llrr", row_swatches=dict(enumerate(data.colours))))
+    for i, ev in enumerate(evs):
+        reason = _nominal_reason(data, i)
+        if reason:
+            out.append(Paragraph(f"{ev.design.label}: {reason}", "small"))
+    if data.search is not None:
+        out.append(Paragraph("Design search: " + data.search.answer))
+    out.append(Heading("Key figures", 2))
+    rows = [[_label(k), *[_cell(e, k) for e in evs]] for k in KEY_FIGURES]
+    rows.append(["Yield, all targets", *[_yield_text(data, i) for i in range(len(evs))]])
+    rows.append(["Parts (resistors + switches + amplifiers)",
+                 *[str(v.parts) for v in data.recommendation.verdicts]])
+    out.append(Table(["Figure", *[e.design.label for e in evs]], rows,
+                     swatches=_swatches(data, 1)))
+    inl = next(p for p in data.plots if p.name == "inl")
+    out.append(Figure("plot", inl, 0.36, colours=tuple(data.colours)))
+    out.append(PageBreak())
+    return out
+
+
+def _grade_cells(data: ReviewData, i: int) -> list[str]:
+    g = data.grades[i] if i < len(data.grades) else None
+    if g is None:
+        return ["not computed", "—"]
+    grade, curve = g
+    if grade is None:
+        tightest = float(curve.steps.min())
+        best = curve.yields[int(curve.steps.argmin())]
+        return [f"none down to ±{_decimal(tightest * 100, 3)} %",
+                _decision(best.passed, best.trials, data.doc.targets.min_yield).yield_text()]
+    k = [float(s) for s in curve.steps].index(grade)
+    y = curve.yields[k]
+    return [f"±{_decimal(grade * 100, 3)} %",
+            _decision(y.passed, y.trials, data.doc.targets.min_yield).yield_text()]
+
+
+def _nominal_reason(data: ReviewData, i: int) -> str:
+    g = data.grades[i] if i < len(data.grades) else None
+    if g is None or g[0] is not None:
+        return ""
+    from rungwise.core.nominal_reason import nominal_failure
+
+    found = nominal_failure(data.doc.candidates[i], data.doc.targets)
+    return found.text() if found is not None else ""
+
+
+def _label(key: str) -> str:
+    return SUMMARY_KEYS.get(key, (key, ""))[0].strip()
 
 
 def _input_text(key: str, value: Any) -> str:
     if key in FIELDS:
         if value is None:
             return "default"
-        unit = FIELDS[key].unit
+        spec = FIELDS[key]
+        if spec.integer:
+            return str(value)
         if isinstance(value, float) and math.isinf(value):
             return "open"
-        return format_value(value, unit if unit not in {"bits"} else "") if not FIELDS[key].integer \
-            else str(value)
-    if isinstance(value, Mapping):
-        return ", ".join(f"{k} = {v}" for k, v in value.items()) or "defaults"
+        return figure_text(value, spec.unit if spec.unit != "bits" else "")
+    if isinstance(value, dict):
+        return ", ".join(f"{k} = {_setting(v, k)}" for k, v in value.items()) or "defaults"
     return str(value)
 
 
-def _design_section(data: ReviewData) -> str:
+def _setting(v: Any, key: str = "") -> str:
+    if isinstance(v, float) and "tempco" in key:
+        return _decimal(v * 1e6, 4) + " ppm/K"
+    if isinstance(v, float) and "tolerance" in key:
+        return "±" + _decimal(v * 100, 4) + " %"
+    if isinstance(v, float):
+        return _decimal(v, 6)
+    if isinstance(v, dict):
+        return "{" + ", ".join(f"{k} = {_setting(x, key)}" for k, x in v.items()) + "}"
+    return str(v)
+
+
+def _design_section(data: ReviewData) -> list[Block]:
     cands = data.doc.candidates
     keys = [k for k in cands[0].to_dict() if k not in {"name", "parts"}]
     rows = []
     for key in keys:
         label = FIELDS[key].label if key in FIELDS else key.replace("_", " ").capitalize()
-        rows.append([f"{label} ({key})", *[_input_text(key, d.to_dict()[key]) for d in cands]])
-    overrides = [", ".join(f"{k} = {format_value(v, 'Ω')}" for k, v in d.parts.items()) or "none"
-                 for d in cands]
-    rows.append(["As-built part values (parts)", *overrides])
-    return ("<h2>1. Design and assumptions</h2>\n"
-            + _table(["Setting", *[d.label for d in cands]], rows)
-            + "\n<p>Assumptions: the reference is an ideal source behind its output resistance "
-            "(ref_r); each switch is a resistance (ron_high when its bit is 1, ron_low when 0); the "
-            "output is loaded by load_r (and load_c for settling); values are DC, at the stated "
-            "temperature. Targets: " + _esc(describe_targets(data.doc.targets)) + ".</p>")
+        rows.append([label, *[_input_text(key, d.to_dict().get(key)) for d in cands]])
+    rows.append(["As-built part values",
+                 *[f"{len(d.parts)} parts given" if d.parts else "none" for d in cands]])
+    return [Heading("1. Design and assumptions", 1),
+            Table(["Setting", *[d.label for d in cands]], rows, "l" + "l" * len(cands),
+                  swatches=_swatches(data, 1)),
+            Paragraph("Assumptions: the reference is an ideal source behind its output resistance; "
+                      "each switch is a resistance (one value when its bit is 1, another when 0); "
+                      "the output is loaded by the load resistance (and its capacitance for "
+                      "settling); values are DC, at the stated temperature. Targets: "
+                      + describe_targets(data.doc.targets) + ".")]
 
 
-def _stats_section(data: ReviewData) -> str:
-    out = ["<h2>4. Statistics and yield</h2>"]
+def _comparison_section(data: ReviewData) -> list[Block]:
+    from .tables import comparison_rows
+
+    rows = [[r.label.strip() if not r.label.startswith(" ") else "   " + r.label.strip(),
+             *[_cell(e, r.key) for e in data.evs]] for r in comparison_rows(data.evs)]
+    return [Heading("2. Comparison", 1),
+            Table(["Figure", *[e.design.label for e in data.evs]], rows,
+                  swatches=_swatches(data, 1))]
+
+
+def _search_section(data: ReviewData) -> list[Block]:
+    from rungwise.core.search_report import TABLE_HEAD
+
+    s = data.search
+    if s is None:
+        return []
+    out: list[Block] = [Heading("Design search", 2), *[Paragraph(q, "small") for q in s.question],
+                        Paragraph(s.answer)]
+    if s.rows:
+        out.append(Table(list(TABLE_HEAD), s.rows, "lrlrrrrr"))
+    out += [Paragraph(w, "small", bullet=True) for w in s.why_lost]
+    out.append(Paragraph(f"Method: {s.method}. Prices: {s.prices}.", "small"))
+    return out
+
+
+def schematic_code(ev: Evaluation) -> int:
+    """The code whose switch states the report's schematic shows: mid-scale plus one LSB (the
+    MSB and the LSB driven, so both switch positions appear)."""
+    n = ev.design.bits
+    return (1 << (n - 1)) | 1 if n > 1 else 1
+
+
+def _schematic_section(data: ReviewData) -> list[Block]:
+    from rungwise.core.schematic import schematic
+
+    out: list[Block] = [PageBreak(), Heading("3. Schematics", 1),
+                        Paragraph("Each candidate as built: designators as in the bill of "
+                                  "materials, values after snapping and as-built changes, "
+                                  "switches in the state of the code named under each drawing.",
+                                  "small")]
+    for i, ev in enumerate(data.evs):
+        sch = schematic(ev.design, schematic_code(ev))
+        x0, y0, x1, y1 = sch.bounds()
+        aspect = min(0.9, max(0.3, (y1 - y0 + 2.2) / (x1 - x0 + 2.9)))
+        out.append(Heading(ev.design.label, 3))
+        out.append(Figure("schematic", sch, aspect, accent=data.colours[i]))
+    return out
+
+
+def _plots_section(data: ReviewData) -> list[Block]:
+    out: list[Block] = [PageBreak(), Heading("4. Plots", 1)]
+    for spec in data.plots:
+        out.append(Figure("plot", spec, 0.52, colours=tuple(data.colours)))
+    return out
+
+
+YIELD_LABELS = {"yield_monotonic": "Monotonic", "yield_dnl": "|DNL| within limit",
+                "yield_inl": "|INL| within limit", "yield_all": "All targets together"}
+
+
+def _stats_section(data: ReviewData) -> list[Block]:
+    out: list[Block] = [PageBreak(), Heading("5. Statistics and yield", 1)]
     if not any(s is not None for s in data.stats):
-        out.append("<p>Statistics were not computed for this report.</p>")
-    for ev, s in zip(data.evs, data.stats, strict=True):
+        out.append(Paragraph("Statistics were not computed for this report."))
+    target = data.doc.targets.min_yield
+    for i, (ev, s) in enumerate(zip(data.evs, data.stats, strict=True)):
         if s is None:
             continue
-        out.append(f"<h3>{_esc(ev.design.label)}</h3><p>{_esc(s.model.describe())}; {s.done} "
-                   f"trials, seed {s.seed}, {_esc(s.engine)} engine.</p>")
-        rows = [[label, y.text()] for label, y in
-                zip(("Monotonic", "|DNL| within limit", "|INL| within limit", "All together"),
-                    s.yields().values(), strict=True)]
-        out.append(_table(["Yield", "Value ± standard error"], rows))
+        out.append(Heading(ev.design.label, 3))
+        out.append(Paragraph(f"{s.model.describe()}; {s.done:,} boards, seed {s.seed}, "
+                             f"{s.engine} engine.", "small"))
+        rows = []
+        for key, y in s.yields().items():
+            d = _decision(y.passed, y.trials, target)
+            rows.append([YIELD_LABELS.get(key, key), f"{y.passed:,} of {y.trials:,}",
+                         d.yield_text()])
+        out.append(Table(["Yield", "Boards passing", "Yield (one-sided 95 % bounds)"], rows,
+                         "lrr", row_swatches={k: data.colours[i] for k in range(len(rows))}))
         pct = s.percentiles
-        head = ["Figure", *[f"{p:g} %" for p in next(iter(pct.values()))]]
-        out.append(_table(head, [[k, *[f"{v:.4g}" for v in d.values()]] for k, d in pct.items()]))
-    out += [f"<p>{_esc(n)}</p>" for n in data.notes]
-    return "\n".join(out)
+        head = ["Figure", *[f"{p:g} % of boards" for p in next(iter(pct.values()))]]
+        rows = [[_label(k), *[figure_text(v, STAT_UNITS.get(k, "")) for v in d.values()]]
+                for k, d in pct.items()]
+        out.append(Table(head, rows))
+    out += [Paragraph(n, "small") for n in data.notes]
+    return out
 
 
-def _parts_section(data: ReviewData) -> str:
-    out = ["<h2>5. Parts and ratings</h2>"]
+def _parts_section(data: ReviewData) -> list[Block]:
+    out: list[Block] = [PageBreak(), Heading("6. Parts and ratings", 1)]
     for ev in data.evs:
-        rows = [[p["id"], p["role"], format_value(p["ohms"], "Ω"),
-                 format_value(p.get("power_max", math.nan), "W"), p.get("power_code", "")]
-                for p in ev.parts[:MAX_PART_ROWS]]
-        out.append(f"<h3>{_esc(ev.design.label)}</h3>")
-        out.append(_table(["Part", "Role", "Value", "Worst power", "at code"], rows, right_from=2))
+        out.append(Heading(ev.design.label, 3))
+        rows = [[p["id"], p["role"], figure_text(p["ohms"], "Ω"),
+                 figure_text(p.get("power_max", math.nan), "W"),
+                 str(p.get("power_code", ""))] for p in ev.parts[:MAX_PART_ROWS]]
+        out.append(Table(["Part", "Role", "Value", "Worst power", "At code"], rows, "llrrr"))
         if len(ev.parts) > MAX_PART_ROWS:
-            out.append(f"<p>… and {len(ev.parts) - MAX_PART_ROWS} more parts (all are in the "
-                       "table and per-code exports).</p>")
-        out.append("<p>Bill of materials (power needed = worst-case power per unit ÷ derating; "
-                   "for switches, the current to source or sink):</p>")
+            out.append(Paragraph(f"… and {len(ev.parts) - MAX_PART_ROWS:,} more parts (all are "
+                                 "in the table and per-code exports).", "small"))
         lines, problem = bom_lines(ev)
+        out.append(Paragraph("Bill of materials: the rating to buy is the worst-case power of "
+                             "one resistor divided by the derating; a switch line gives the "
+                             "current it must source or sink.", "small"))
         if problem:
-            out.append(f"<p>{_esc(problem[0].upper() + problem[1:])}.</p>")
-        out.append(_table(["Designators", "Kind", "Value", "Series", "Tolerance", "Power needed",
-                           "Qty", "Flag"], [_bom_row(ln) for ln in lines], right_from=2))
-    return "\n".join(out)
+            out.append(Paragraph(problem[0].upper() + problem[1:] + "."))
+        out.append(Table(["Designators", "Kind", "Value", "Tolerance", "Rating needed",
+                          "Switch current", "Qty", "Flag"], [_bom_row(ln) for ln in lines],
+                         "llrrrrrl"))
+    return out
 
 
 def _bom_row(ln) -> list[str]:
     nan = math.isnan
-    need = "" if nan(ln.power_needed) else format_value(ln.power_needed,
-                                                        "A" if ln.kind == "switch" else "W")
-    return [ln.designators, ln.kind, "" if nan(ln.ohms) else format_value(ln.ohms, "Ω"), ln.series,
-            "" if nan(ln.tolerance) else f"±{ln.tolerance * 100:g} %", need, str(ln.quantity),
-            ln.note if ln.flagged else ""]
+    power = "" if ln.kind == "switch" or nan(ln.power_needed) else figure_text(ln.power_needed,
+                                                                               "W")
+    current = (figure_text(ln.power_needed, "A") if ln.kind == "switch"
+               and not nan(ln.power_needed) else "")
+    return [ln.designators, ln.kind, "" if nan(ln.ohms) else figure_text(ln.ohms, "Ω"),
+            "" if nan(ln.tolerance) else f"±{_decimal(ln.tolerance * 100, 3)} %", power, current,
+            str(ln.quantity), ln.note if ln.flagged else ""]
 
 
 METHOD_NOTES: tuple[str, ...] = (
@@ -196,53 +504,45 @@ METHOD_NOTES: tuple[str, ...] = (
     "best-fit line by least squares (IEEE Std 1241); DNL against the endpoint LSB; monotonic when "
     "no step is negative.",
     "Power: worst case over all codes of V²/R for each resistor, from the same solution.",
-    "Thermal noise: √(4kT·Rout) at the worst code, k = 1.380649e-23 J/K (SI 2019), integrated over "
-    "the design's bandwidth; settling to ½ LSB: τ·ln(2·(2^N − 1)) with τ = worst-code Rout × load_c.",
+    "Thermal noise: √(4kT·Rout) at the worst code, k the Boltzmann constant (SI 2019), integrated "
+    "over the design's bandwidth; settling to ½ LSB: τ·ln(2·(2^N − 1)) with τ = worst-code Rout × "
+    "load capacitance (no figure without a load capacitance).",
     "Statistics: Monte Carlo over random part values drawn by a seeded numpy Generator (the seed is "
-    "printed so any result can be reproduced); yields with standard error √(p(1 − p)/n).",
-    "Part counts: counted from the built network (resistors, switches, amplifiers).",
+    "printed on every page so any result can be reproduced); yields with one-sided 95 % "
+    "Clopper–Pearson bounds — with no failing board only the lower bound is known.",
+    "Loosest grade that passes: the same boards (same seed) at each standard tolerance grade; the "
+    "largest grade whose yield of all targets reaches the target yield.",
+    "Schematics and part names: drawn from the solved network itself; designators follow the bill "
+    "of materials (one per physical resistor).",
 )
 """How each kind of figure is obtained, printed in the report."""
 
 
-PLOT_WIDTH_PT = 460
-"""Width of a plot in the report, points (two plots of 3:2 fit one A4 page with margins)."""
-
-
-def _plot_blocks(plots: Sequence[PlotSpec]) -> list[str]:
-    """Two plots per page, each page started explicitly so no plot is cut by a page break."""
-    out = []
-    for i, p in enumerate(plots):
-        brk = ' style="page-break-before: always"' if i and i % 2 == 0 else ""
-        out.append(f'<p{brk}><img src="plot:{p.name}" width="{PLOT_WIDTH_PT}"></p>')
+def report_blocks(data: ReviewData) -> list[Block]:
+    """The whole report as blocks, page 1 first."""
+    out = _page_one(data)
+    out += _design_section(data)
+    out += _comparison_section(data)
+    out += _search_section(data)
+    out += _schematic_section(data)
+    out += _plots_section(data)
+    out += _stats_section(data)
+    out += _parts_section(data)
+    out += [PageBreak(), Heading("7. Cautions", 1)]
+    out += [Paragraph(c, bullet=True) for c in cautions(data.evs)]
+    out += [Heading("8. Method and sources", 1)]
+    out += [Paragraph(m, bullet=True) for m in METHOD_NOTES]
+    out += [Heading("9. Recommendation", 1), Paragraph(data.recommendation.text, "verdict")]
     return out
 
 
-def report_html(data: ReviewData) -> str:
-    """The whole report as HTML (plots as ``plot:NAME`` image references)."""
-    evs = data.evs
-    names = ", ".join(e.design.label for e in evs)
-    stamp = _dt.datetime.now(_dt.UTC).strftime("%Y-%m-%d %H:%M UTC")
-    parts = [
-        f"<h1>{_esc(data.title)}</h1>",
-        f"<p>Candidates: {_esc(names)}. Made by Rungwise on {stamp}.</p>",
-        f"<p><b>{_esc(data.recommendation.text)}</b></p>",
-        _design_section(data),
-        "<h2>2. Comparison</h2>",
-        table_html_fragment(evs),
-        '<h2 style="page-break-before: always">3. Plots</h2>',
-        *_plot_blocks(data.plots),
-        '<div style="page-break-before: always"></div>',
-        _stats_section(data),
-        _parts_section(data),
-        "<h2>6. Cautions</h2>",
-        "<ul>" + "".join(f"<li>{_esc(c)}</li>" for c in cautions(evs)) + "</ul>",
-        "<h2>7. Method and sources</h2>",
-        "<ul>" + "".join(f"<li>{_esc(m)}</li>" for m in METHOD_NOTES) + "</ul>",
-        "<h2>8. Recommendation</h2>",
-        f"<p>{_esc(data.recommendation.text)}</p>",
-        _table(["Candidate", "Parts", "Max |INL| (LSB)", "Max |DNL| (LSB)", "Monotonic", "Misses"],
-               [[v.label, v.parts, f"{v.inl:.3g}", f"{v.dnl:.3g}", "yes" if v.monotonic else "no",
-                 "; ".join(v.failures) or "none"] for v in data.recommendation.verdicts]),
-    ]
-    return "<html><body>\n" + "\n".join(parts) + "\n</body></html>\n"
+def page_footer(data: ReviewData) -> str:
+    """The line every page carries (the page number is added beside it)."""
+    name = data.source or "unsaved comparison"
+    return (f"{name} · Rungwise {data.version} · seed {data.doc.analysis.seed} · design "
+            f"checksum {data.checksum}")
+
+
+def plots_for(data: ReviewData) -> Sequence[PlotSpec]:
+    """Every plot the report draws (page 1's INL plot is one of them)."""
+    return data.plots

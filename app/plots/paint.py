@@ -7,11 +7,14 @@ the report, so every output shows the same curves. Needs a ``QGuiApplication``
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from pathlib import Path
 
 import numpy as np
 from PySide6.QtCore import QPointF, QRectF, QSize, Qt
 from PySide6.QtGui import QColor, QFont, QImage, QPainter, QPen, QPolygonF
+
+from rungwise.core.units import format_value
 
 from .specs import PlotSpec, axis_range, nice_ticks
 
@@ -22,8 +25,8 @@ PALETTE = ("#1f5fa8", "#c8501e", "#2e8b57", "#8a3f9e", "#b08800", "#4a4a4a")
 def _fmt(v: float, step: float) -> str:
     if v == 0:
         return "0"
-    if abs(v) >= 1e5 or abs(v) < 1e-3:
-        return f"{v:.3g}"
+    if abs(v) >= 1e5 or abs(v) < 1e-3:  # an SI prefix, never an exponent
+        return format_value(v, "", 3)
     decimals = max(0, -int(np.floor(np.log10(step)))) if step < 1 else 0
     return f"{v:.{decimals}f}"
 
@@ -41,8 +44,12 @@ def _runs(x: np.ndarray, y: np.ndarray) -> list[tuple[np.ndarray, np.ndarray]]:
     return out
 
 
-def paint_plot(painter: QPainter, rect: QRectF, spec: PlotSpec) -> None:
-    """Draw ``spec`` inside ``rect`` (device units): frame, grid, ticks, curves, legend, labels."""
+def paint_plot(painter: QPainter, rect: QRectF, spec: PlotSpec,
+               palette: Sequence[str] | None = None) -> None:
+    """Draw ``spec`` inside ``rect`` (device units): frame, grid, ticks, curves, legend, labels.
+
+    ``palette`` gives the curve colours in candidate order (default :data:`PALETTE`)."""
+    palette = tuple(palette or ()) + PALETTE[len(palette or ()):]
     painter.save()
     painter.setRenderHint(QPainter.RenderHint.Antialiasing, True)
     unit = rect.height() / 40.0
@@ -87,7 +94,7 @@ def paint_plot(painter: QPainter, rect: QRectF, spec: PlotSpec) -> None:
     painter.setPen(frame)
     painter.drawRect(area)
     for i, s in enumerate(spec.series):
-        pen = QPen(QColor(PALETTE[(i if s.colour is None else s.colour) % len(PALETTE)]))
+        pen = QPen(QColor(palette[(i if s.colour is None else s.colour) % len(palette)]))
         pen.setWidthF(unit * 0.12)
         if s.dashed:
             pen.setStyle(Qt.PenStyle.DashLine)

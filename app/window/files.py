@@ -305,7 +305,9 @@ class FileFeatures(QObject):
             self.runner.failed.connect(lambda _c, msg: self.window.show_problem(
                 f"Could not prepare the report:\n{msg}"))
         self._report_path = Path(path)
-        self.runner.submit("report", lambda cancel: gather(doc, title, with_stats, cancel))
+        source = self.window.model.path.name if self.window.model.path else ""
+        self.runner.submit("report", lambda cancel: gather(doc, title, with_stats, cancel,
+                                                           source=source))
         self.window.status_text.setText(f"Preparing the report {Path(path).name}"
                                         + (" (statistics running)…" if with_stats else "…"))
 
