@@ -15,6 +15,19 @@ from rungwise.core.errors import DesignError, RungwiseError
 from rungwise.core.types import OUTPUTS_BY_TOPOLOGY, TOPOLOGIES
 
 
+def pick_candidate(candidates: list[Design], choice: str | None) -> Design:
+    """The candidate named or numbered (from 1) by ``choice``; the first when ``None``."""
+    if choice is None:
+        return candidates[0]
+    for d in candidates:
+        if d.label == choice:
+            return d
+    if choice.isdigit() and 1 <= int(choice) <= len(candidates):
+        return candidates[int(choice) - 1]
+    names = ", ".join(f"{i}: {d.label}" for i, d in enumerate(candidates, start=1))
+    raise DesignError("candidate", f"no candidate {choice!r}; choose one of {names}")
+
+
 def load_candidates(path: str | None) -> list[Design]:
     """Candidates from a design file, or the demo's when ``path`` is ``None``."""
     return load_document(path).candidates

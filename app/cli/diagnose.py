@@ -12,10 +12,10 @@ from typing import Any
 import numpy as np
 
 from rungwise.core.diagnose import Diagnosis, diagnose, read_measurement, to_c_header, to_csv
-from rungwise.core.errors import DesignError, RungwiseError
+from rungwise.core.errors import RungwiseError
 from rungwise.core.units import format_value
 
-from .candidates import apply_choices, load_candidates, parse_settings
+from .candidates import apply_choices, load_candidates, parse_settings, pick_candidate
 
 NAME = "diagnose"
 HELP = ("Analyse a measured curve of a built converter: INL/DNL, bit weights, the part that is "
@@ -46,21 +46,8 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
                    "design and its as-built version (the best suspect at its fitted value)")
 
 
-def _pick(candidates: list, choice: str | None):
-    """The candidate named or numbered (from 1) by ``choice``; the first when ``None``."""
-    if choice is None:
-        return candidates[0]
-    for d in candidates:
-        if d.label == choice:
-            return d
-    if choice.isdigit() and 1 <= int(choice) <= len(candidates):
-        return candidates[int(choice) - 1]
-    names = ", ".join(f"{i}: {d.label}" for i, d in enumerate(candidates, start=1))
-    raise DesignError("candidate", f"no candidate {choice!r}; choose one of {names}")
-
-
 def _design(args: argparse.Namespace):
-    base = [_pick(load_candidates(args.design), args.candidate)]
+    base = [pick_candidate(load_candidates(args.design), args.candidate)]
     chosen = apply_choices(base, parse_settings(args.settings),
                            [args.topology] if args.topology else None)
     return chosen[0]

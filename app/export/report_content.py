@@ -28,6 +28,7 @@ from rungwise.core.review import (
 )
 from rungwise.core.stats_result import STAT_UNITS
 from rungwise.core.units import format_value
+from rungwise.core.version import program_version
 
 from ..plots.specs import PlotSpec, comparison_plots, spread_plot
 from ..window.comparison_state import with_colours
@@ -38,16 +39,6 @@ MAX_PART_ROWS = 40
 
 GRADE_TRIALS = 1000
 """Most boards per tolerance grade when looking for the loosest grade that passes."""
-
-
-def program_version() -> str:
-    """The installed Rungwise version."""
-    from importlib.metadata import PackageNotFoundError, version
-
-    try:
-        return version("rungwise")
-    except PackageNotFoundError:  # pragma: no cover - running from a bare checkout
-        return "unknown"
 
 
 def checksum(text: str | bytes) -> str:

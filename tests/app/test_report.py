@@ -14,13 +14,14 @@ from pathlib import Path
 import pytest
 
 from rungwise.app.cli.main import run_cli
-from rungwise.app.export.report_content import figure_text, program_version
+from rungwise.app.export.report_content import figure_text
 from rungwise.core import SUMMARY_KEYS, Design, designfile, evaluate
 from rungwise.core.designfile import DesignFile
 from rungwise.core.grades import loosest_grade
 from rungwise.core.parts.bom import bill_of_materials
 from rungwise.core.review import DEFER, recommend
 from rungwise.core.targets import AnalysisSettings, Targets
+from rungwise.core.version import program_version
 
 pytestmark = pytest.mark.skipif(shutil.which("pdftotext") is None and os.environ.get("CI") != "true",
                                 reason="pdftotext (poppler-utils) not installed; .ci/setup installs it")
