@@ -42,8 +42,9 @@ class _Painter:
     def pt(self, p: sm.Point) -> QPointF:
         return QPointF(self.o[0] + p[0] * self.s, self.o[1] + p[1] * self.s)
 
-    def pen(self, colour: QColor = INK, width: float = 0.035, style=Qt.PenStyle.SolidLine) -> QPen:
-        pen = QPen(colour, max(1.0, width * self.s), style)
+    def pen(self, colour: QColor = INK, width: float = 0.035, style=Qt.PenStyle.SolidLine,
+            least: float = 1.0) -> QPen:
+        pen = QPen(colour, max(least, width * self.s), style)
         pen.setCapStyle(Qt.PenCapStyle.RoundCap)
         return pen
 
@@ -171,7 +172,7 @@ def _switch(d: _Painter, it: sm.Switch) -> None:
         p.drawEllipse(t, r, r)
     if it.closed is not None:
         end = throws[it.closed]
-        p.setPen(d.pen(d.accent, width=0.06))
+        p.setPen(d.pen(d.accent, width=0.06, least=2.5))
         p.drawLine(pole, end)
     else:  # open: the blade stops short of the throw, lifted
         t = throws[0]

@@ -61,6 +61,10 @@ class CandidateListPane(QWidget):
         self.list.itemChanged.connect(self._on_renamed)
         model.candidates_changed.connect(self.refresh)
         model.selection_changed.connect(lambda _i: self.refresh())
+        from .candidate_card import CardOnHover
+
+        self.card = CardOnHover(self.list, lambda: [(c.design, c.colour)
+                                                    for c in self.model.state.candidates])
         self.refresh()
 
     def _colour_menu(self) -> QMenu:

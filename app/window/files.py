@@ -227,7 +227,9 @@ class FileFeatures(QObject):
                 ("&Bill of materials (CSV)…", self.export_bom_dialog, "action_export_bom"),
                 ("All p&lots to a folder (PNG and SVG)…", self.export_plots_dialog,
                  "action_export_plots"),
-                ("Design-&review report (PDF)…", self.report_dialog, "action_report")):
+                ("Design-&review report (PDF)…", self.report_dialog, "action_report"),
+                ("&Netlist for a circuit simulator (SPICE)…", self.netlist_dialog,
+                 "action_export_netlist")):
             act = QAction(text, w, objectName=name)
             act.triggered.connect(slot)
             export.addAction(act)
@@ -347,6 +349,28 @@ class FileFeatures(QObject):
         path = self._ask("Write the design-review report", "review.pdf", "PDF (*.pdf)")
         if path is not None:
             self.write_report(path if path.suffix.lower() == ".pdf" else path.with_suffix(".pdf"))
+
+
+    def export_netlist(self, path: Path, code: int | None) -> bool:
+        """Write the edited candidate's netlist at ``code`` (every code when ``None``)."""
+        from .netlist_export import write_netlist
+
+        source = self.window.model.path.name if self.window.model.path else ""
+        design = self.window.model.state.current.design
+        return self._run(str(path), lambda: write_netlist(path, design, code, source))
+
+    def netlist_dialog(self) -> None:
+        """Ask for the code and the file, then write the edited candidate's netlist."""
+        from .netlist_export import NetlistDialog
+
+        design = self.window.model.state.current.design
+        dialog = NetlistDialog(design, self.window)
+        if dialog.exec() != NetlistDialog.DialogCode.Accepted:
+            return
+        stem = "".join(c if c.isalnum() else "-" for c in design.label).strip("-") or "candidate"
+        path = self._ask("Write the netlist", f"{stem}.cir", "SPICE netlist (*.cir *.sp)")
+        if path is not None:
+            self.export_netlist(path if path.suffix else path.with_suffix(".cir"), dialog.code)
 
 
 def install(window: QWidget) -> FileFeatures:

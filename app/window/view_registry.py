@@ -34,5 +34,6 @@ VIEWS: list[ViewEntry] = [
     ViewEntry("diagnose_pane", "Built board", "rungwise.app.views.diagnose", "DiagnosePane"),
     ViewEntry("parts_pane", "Parts", "rungwise.app.views.parts", "PartsPane"),
     ViewEntry("explorer_pane", "Trade-offs", "rungwise.app.views.explorer", "ExplorerPane"),
+    ViewEntry("schematic_pane", "Schematic", "rungwise.app.views.schematic", "SchematicPane"),
 ]
 """Registered views, in tab order."""
