@@ -206,25 +206,17 @@ def _swatches(data: ReviewData, first: int) -> dict[int, str]:
     return {first + i: c for i, c in enumerate(data.colours)}
 
 
-def not_meaningful(ev: Evaluation, key: str) -> str | None:
-    """Why a summary figure means nothing for this design's inputs, or ``None``."""
-    from rungwise.core import figure_meaning
-
-    return figure_meaning.not_meaningful(ev.design, key, ev.summary)
-
-
 def _cell(ev: Evaluation, key: str) -> str:
-    reason = not_meaningful(ev, key)
-    if reason:
-        return f"— ({reason})"
-    from rungwise.core.figure_meaning import figure_note
+    from rungwise.core.figure_meaning import shown
 
+    reason = ev.no_meaning.get(key)
+    if reason:
+        return shown(reason)
     label, unit = SUMMARY_KEYS.get(key, (key, ""))
     value = ev.summary.get(key)
     if isinstance(value, float) and label.strip() == "at code" and math.isfinite(value):
         value = int(value)
-    note = figure_note(ev.design, key)
-    return figure_text(value, unit) + (f" {note}" if note else "")
+    return figure_text(value, unit)
 
 
 KEY_FIGURES = ("lsb", "max_abs_inl_endpoint", "max_abs_inl_bestfit", "max_abs_dnl", "monotonic",
