@@ -3,10 +3,10 @@
 from __future__ import annotations
 
 import argparse
+import dataclasses
 import sys
 from pathlib import Path
 
-from rungwise.core.designfile import DesignFile
 from rungwise.core.errors import RungwiseError
 
 from .candidates import add_choice_arguments, chosen_candidates, load_document
@@ -33,7 +33,7 @@ def run(args: argparse.Namespace) -> int:
     if not out.parent.is_dir():
         raise RungwiseError(f"folder {out.parent} does not exist (for {out})")
     doc = load_document(args.design)
-    doc = DesignFile(chosen_candidates(args), doc.settings, doc.analysis, doc.targets)
+    doc = dataclasses.replace(doc, candidates=chosen_candidates(args))  # search and cost kept
     title = args.title or (f"Design review: {Path(args.design).stem}" if args.design
                            else "Design review: demo")
     from ..export.report_content import gather

@@ -130,7 +130,9 @@ class FileFeatures(QObject):
         settings = dict(opened.settings) if opened is not None else {}
         settings["colours"] = [c.colour for c in state.candidates]
         return DesignFile(candidates=state.designs, settings=settings, analysis=self.analysis(),
-                          targets=opened.targets if opened is not None else Targets())
+                          targets=opened.targets if opened is not None else Targets(),
+                          search=opened.search if opened is not None else None,
+                          cost=opened.cost if opened is not None else None)
 
     def saved(self, path: Path) -> None:
         """The comparison was written to ``path``."""

@@ -207,3 +207,21 @@ def test_report_with_no_display_in_a_fresh_process(tmp_path: Path):
                          timeout=120)
     assert out.returncode == 0, out.stderr
     assert pdf.read_bytes().startswith(b"%PDF")
+
+
+def test_page_one_gives_the_design_search_answer_when_the_file_asks(tmp_path: Path, qapp):
+    from rungwise.core.search_question import SearchQuestion
+    from rungwise.core.search_report import file_search
+    from rungwise.core.space_search import InlineExecutor
+
+    question = SearchQuestion(networks=(("r2r-voltage", "unbuffered"),), series=("E24",),
+                              grades=(0.01, 0.001), trials=100, seed=5)
+    doc = DesignFile(_candidates()[:1], analysis=AnalysisSettings(trials=100, seed=5),
+                     search=question)
+    path = tmp_path / "asked.toml"
+    designfile.save(path, doc)
+    pdf = tmp_path / "r.pdf"
+    assert run_cli(["report", str(path), "-o", str(pdf)]) == 0
+    answer = file_search(designfile.load(path), executor=InlineExecutor()).answer_text()
+    first = "".join(_pdf_text(pdf, 1).split())
+    assert "Designsearch:" + "".join(_n(answer).split()) in first
