@@ -31,11 +31,13 @@ class Heading:
 @dataclass
 class Paragraph:
     """A paragraph of plain text; ``style`` is ``"body"``, ``"verdict"`` (bold, larger) or
-    ``"small"``; ``bullet`` draws it as a list item."""
+    ``"small"``; ``bullet`` draws it as a list item; ``keep_with_next`` keeps it on the page of
+    what follows (a table's introduction)."""
 
     text: str
     style: str = "body"
     bullet: bool = False
+    keep_with_next: bool = False
 
 
 @dataclass
@@ -104,10 +106,26 @@ class Placed:
 
 
 def _first_piece(m: Measured) -> float:
-    """The least of a block that must come right after a heading."""
+    """The least of a block that must come right after a heading: a table's header and first
+    rows (the whole table when it is too short to be cut without a lone row)."""
     if m.rows is None:
         return m.height
-    return m.head + sum(m.rows[:MIN_ROWS])
+    return m.head + sum(m.rows if len(m.rows) < 2 * MIN_ROWS else m.rows[:MIN_ROWS])
+
+
+def _kept_height(measured: Sequence[Measured], i: int) -> float:
+    """Height from block ``i`` through every block it is kept with, to the first piece of the
+    first one that is not kept with the next."""
+    need = 0.0
+    while i < len(measured):
+        m = measured[i]
+        if m.page_break:
+            break
+        if not m.keep_with_next or i + 1 == len(measured):
+            return need + _first_piece(m)
+        need += m.height
+        i += 1
+    return need
 
 
 class _Pager:
@@ -121,8 +139,8 @@ class _Pager:
             self.pages.append([])
         self.y = 0.0
 
-    def place(self, i: int, m: Measured, after: Measured | None) -> None:
-        need = m.height + (_first_piece(after) if m.keep_with_next and after is not None else 0)
+    def place(self, i: int, m: Measured, measured: Sequence[Measured]) -> None:
+        need = _kept_height(measured, i) if m.keep_with_next else m.height
         if self.y + need > self.height:
             self.new_page()
         self.pages[-1].append(Placed(i, self.y))
@@ -165,7 +183,7 @@ def paginate(measured: Sequence[Measured], page_height: float) -> list[list[Plac
         if m.page_break:
             pager.new_page()
         elif m.rows is None:
-            pager.place(i, m, measured[i + 1] if i + 1 < len(measured) else None)
+            pager.place(i, m, measured)
         else:
             pager.table(i, m)
     if not pager.pages[-1] and len(pager.pages) > 1:

@@ -309,7 +309,9 @@ def _nominal_reason(data: ReviewData, i: int) -> str:
 
 
 def _label(key: str) -> str:
-    return SUMMARY_KEYS.get(key, (key, ""))[0].strip()
+    """A figure's label (per-trial keys such as ``offset`` read as ``offset_error``)."""
+    found = SUMMARY_KEYS.get(key) or SUMMARY_KEYS.get(f"{key}_error") or (key, "")
+    return found[0].strip()
 
 
 def _input_text(key: str, value: Any) -> str:
@@ -393,7 +395,7 @@ def schematic_code(ev: Evaluation) -> int:
 def _schematic_section(data: ReviewData) -> list[Block]:
     from rungwise.core.schematic import schematic
 
-    out: list[Block] = [PageBreak(), Heading("3. Schematics", 1),
+    out: list[Block] = [Heading("3. Schematics", 1),
                         Paragraph("Each candidate as built: designators as in the bill of "
                                   "materials, values after snapping and as-built changes, "
                                   "switches in the state of the code named under each drawing.",
@@ -403,12 +405,12 @@ def _schematic_section(data: ReviewData) -> list[Block]:
         x0, y0, x1, y1 = sch.bounds()
         aspect = min(0.9, max(0.3, (y1 - y0 + 2.2) / (x1 - x0 + 2.9)))
         out.append(Heading(ev.design.label, 3))
-        out.append(Figure("schematic", sch, aspect, accent=data.colours[i]))
+        out.append(Figure("schematic", sch, aspect, caption=sch.caption, accent=data.colours[i]))
     return out
 
 
 def _plots_section(data: ReviewData) -> list[Block]:
-    out: list[Block] = [PageBreak(), Heading("4. Plots", 1)]
+    out: list[Block] = [Heading("4. Plots", 1)]
     for spec in data.plots:
         out.append(Figure("plot", spec, 0.52, colours=tuple(data.colours)))
     return out
@@ -419,7 +421,7 @@ YIELD_LABELS = {"yield_monotonic": "Monotonic", "yield_dnl": "|DNL| within limit
 
 
 def _stats_section(data: ReviewData) -> list[Block]:
-    out: list[Block] = [PageBreak(), Heading("5. Statistics and yield", 1)]
+    out: list[Block] = [Heading("5. Statistics and yield", 1)]
     if not any(s is not None for s in data.stats):
         out.append(Paragraph("Statistics were not computed for this report."))
     target = data.doc.targets.min_yield
@@ -428,7 +430,7 @@ def _stats_section(data: ReviewData) -> list[Block]:
             continue
         out.append(Heading(ev.design.label, 3))
         out.append(Paragraph(f"{s.model.describe()}; {s.done:,} boards, seed {s.seed}, "
-                             f"{s.engine} engine.", "small"))
+                             f"{s.engine} engine.", "small", keep_with_next=True))
         rows = []
         for key, y in s.yields().items():
             d = _decision(y.passed, y.trials, target)
@@ -446,7 +448,7 @@ def _stats_section(data: ReviewData) -> list[Block]:
 
 
 def _parts_section(data: ReviewData) -> list[Block]:
-    out: list[Block] = [PageBreak(), Heading("6. Parts and ratings", 1)]
+    out: list[Block] = [Heading("6. Parts and ratings", 1)]
     for ev in data.evs:
         out.append(Heading(ev.design.label, 3))
         rows = [[p["id"], p["role"], figure_text(p["ohms"], "Ω"),
@@ -457,9 +459,10 @@ def _parts_section(data: ReviewData) -> list[Block]:
             out.append(Paragraph(f"… and {len(ev.parts) - MAX_PART_ROWS:,} more parts (all are "
                                  "in the table and per-code exports).", "small"))
         lines, problem = bom_lines(ev)
-        out.append(Paragraph("Bill of materials: the rating to buy is the worst-case power of "
-                             "one resistor divided by the derating; a switch line gives the "
-                             "current it must source or sink.", "small"))
+        out.append(Paragraph(f"Bill of materials of {ev.design.label}: the rating to buy is the "
+                             "worst-case power of one resistor divided by the derating; a switch "
+                             "line gives the current it must source or sink.", "small",
+                             keep_with_next=True))
         if problem:
             out.append(Paragraph(problem[0].upper() + problem[1:] + "."))
         out.append(Table(["Designators", "Kind", "Value", "Tolerance", "Rating needed",
@@ -511,7 +514,7 @@ def report_blocks(data: ReviewData) -> list[Block]:
     out += _plots_section(data)
     out += _stats_section(data)
     out += _parts_section(data)
-    out += [PageBreak(), Heading("7. Cautions", 1)]
+    out += [Heading("7. Cautions", 1)]
     out += [Paragraph(c, bullet=True) for c in cautions(data.evs)]
     out += [Heading("8. Method and sources", 1)]
     out += [Paragraph(m, bullet=True) for m in METHOD_NOTES]

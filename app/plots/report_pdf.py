@@ -182,7 +182,8 @@ def _measure(pg: _Page, blocks):
             _, _, before, after, _ = STYLES[b.style]
             indent = 12.0 if b.bullet else (8.0 if b.style == "verdict" else 0.0)
             h = pg.text_height(b.text, b.style, pg.width - indent)
-            out.append(Measured(height=before + h + after + (4 if b.style == "verdict" else 0)))
+            out.append(Measured(height=before + h + after + (4 if b.style == "verdict" else 0),
+                                keep_with_next=b.keep_with_next))
         elif isinstance(b, Table):
             lay = _TableLayout(pg, b)
             layouts[i] = lay
@@ -232,7 +233,7 @@ def _draw_figure(pg: _Page, b, x: float, y: float) -> None:
     if b.kind == "plot":
         paint_plot(pg.p, rect, b.item, b.colours)
     else:
-        paint_schematic(pg.p, rect, b.item, b.accent or "#1f5fa8")
+        paint_schematic(pg.p, rect, b.item, b.accent or "#1f5fa8", caption=False)
     if b.caption:
         pg.draw_text(x, y + pg.width * b.aspect + 2, pg.width, 40, b.caption, "small")
 

@@ -67,3 +67,12 @@ def test_a_heading_goes_with_its_table():
               Measured(head=5, rows=[10.0] * 3)]
     pages = paginate(blocks, PAGE)
     assert [p.block for p in pages[1]] == [1, 2]
+
+
+def test_a_chain_of_kept_blocks_moves_with_a_short_table():
+    # heading → introduction → a three-row table, which cannot be cut without a lone row
+    blocks = [Measured(height=70), Measured(height=6, keep_with_next=True),
+              Measured(height=6, keep_with_next=True), Measured(head=5, rows=[5.0] * 3)]
+    pages = paginate(blocks, PAGE)
+    assert [p.block for p in pages[0]] == [0]
+    assert [p.block for p in pages[1]] == [1, 2, 3]
