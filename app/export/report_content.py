@@ -399,7 +399,7 @@ def _schematic_section(data: ReviewData) -> list[Block]:
                         Paragraph("Each candidate as built: designators as in the bill of "
                                   "materials, values after snapping and as-built changes, "
                                   "switches in the state of the code named under each drawing.",
-                                  "small")]
+                                  "small", keep_with_next=True)]
     for i, ev in enumerate(data.evs):
         sch = schematic(ev.design, schematic_code(ev))
         x0, y0, x1, y1 = sch.bounds()
