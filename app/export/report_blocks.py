@@ -64,7 +64,8 @@ class Table:
 @dataclass
 class Figure:
     """A drawing: ``kind`` ``"plot"`` (a ``PlotSpec``) or ``"schematic"`` (a ``Schematic``);
-    ``aspect`` is height / width; ``colours`` the candidates' colours in order."""
+    ``aspect`` is height / width; ``colours`` the candidates' colours in order; ``shrink`` > 0
+    lets it shrink to that fraction of its height to stay on the page."""
 
     kind: str
     item: Any
@@ -72,6 +73,7 @@ class Figure:
     caption: str = ""
     colours: tuple[str, ...] = ()
     accent: str = ""
+    shrink: float = 0.0
 
 
 @dataclass
@@ -85,24 +87,28 @@ Block = Heading | Paragraph | Table | Figure | PageBreak
 @dataclass
 class Measured:
     """A block's heights on the page: ``height`` for an uncut block; a table's ``head`` and
-    ``rows`` heights (every height includes the space after it)."""
+    ``rows`` heights (every height includes the space after it). ``least`` (> 0) lets a figure
+    shrink down to that height to finish a page instead of moving to the next one."""
 
     height: float = 0.0
     head: float = 0.0
     rows: list[float] | None = None
     keep_with_next: bool = False
     page_break: bool = False
+    least: float = 0.0
 
 
 @dataclass
 class Placed:
-    """One block (or a run of a table's rows) on a page: top ``y``, table rows ``start:stop``."""
+    """One block (or a run of a table's rows) on a page: top ``y``, table rows ``start:stop``,
+    ``height`` given to a block that shrank to fit (0: its measured height)."""
 
     block: int
     y: float
     start: int = 0
     stop: int = 0
     continued: bool = False
+    height: float = 0.0
 
 
 def _first_piece(m: Measured) -> float:
@@ -141,7 +147,12 @@ class _Pager:
 
     def place(self, i: int, m: Measured, measured: Sequence[Measured]) -> None:
         need = _kept_height(measured, i) if m.keep_with_next else m.height
-        if self.y + need > self.height:
+        room = self.height - self.y
+        if 0 < m.least <= room < need and self.pages[-1]:  # shrink to finish this page
+            self.pages[-1].append(Placed(i, self.y, height=room))
+            self.y += room
+            return
+        if need > room:
             self.new_page()
         self.pages[-1].append(Placed(i, self.y))
         self.y += m.height

@@ -64,11 +64,9 @@ def figure_text(value: Any, unit: str = "") -> str:
         return _decimal(x * 100, 4) + " %"
     if unit in {"LSB", "×", "R", "bits", "%"} or not unit:
         return _decimal(x, 4) + (f" {unit}" if unit else "")
-    if math.isinf(x):
-        return format_value(x, unit)
     if x != 0 and abs(x) < 1e-15:
         return f"{_decimal(x / 1e-15, 4)} f{unit}"
-    return format_value(x, unit)
+    return format_value(x, unit).replace("-", "−")  # the minus sign, as in every other figure
 
 
 def _decimal(x: float, digits: int) -> str:
@@ -243,6 +241,9 @@ def _page_one(data: ReviewData) -> list[Block]:
     t = doc.targets
     names = ", ".join(e.design.label for e in evs)
     src = f" from {data.source}" if data.source else ""
+    ran = any(s is not None for s in data.stats)
+    boards = (f"({doc.analysis.trials:,} random boards, seed {doc.analysis.seed})" if ran else
+              "(statistics were not run for this report, so yields are not judged)")
     out: list[Block] = [
         Heading(data.title, 0),
         Paragraph(f"Candidates: {names}. Made by Rungwise {data.version} on {data.made}{src}.",
@@ -250,8 +251,8 @@ def _page_one(data: ReviewData) -> list[Block]:
         Heading("The question", 2),
         Paragraph(f"Which candidate meets the targets — {describe_targets(t)} — with at least "
                   f"{_percent(t.min_yield)} of boards passing when the parts vary as each "
-                  f"candidate's tolerance says ({doc.analysis.trials:,} random boards, seed "
-                  f"{doc.analysis.seed})? Among those that do, the one with the fewest parts."),
+                  f"candidate's tolerance says {boards}? Among those that do, the one with the "
+                  "fewest parts."),
         Heading("The answer", 2),
         Paragraph(data.recommendation.text, "verdict"),
         Heading("What would pass", 2),
@@ -277,7 +278,7 @@ def _page_one(data: ReviewData) -> list[Block]:
     out.append(Table(["Figure", *[e.design.label for e in evs]], rows,
                      swatches=_swatches(data, 1)))
     inl = next(p for p in data.plots if p.name == "inl")
-    out.append(Figure("plot", inl, 0.36, colours=tuple(data.colours)))
+    out.append(Figure("plot", inl, 0.36, colours=tuple(data.colours), shrink=0.6))
     out.append(PageBreak())
     return out
 

@@ -192,7 +192,8 @@ def _measure(pg: _Page, blocks):
             out.append(Measured(head=lay.head, rows=rows))
         elif isinstance(b, Figure):
             cap = pg.text_height(b.caption, "small", pg.width) + 2 if b.caption else 0.0
-            out.append(Measured(height=pg.width * b.aspect + cap + 8.0))
+            full = pg.width * b.aspect + cap + 8.0
+            out.append(Measured(height=full, least=full * b.shrink if b.shrink else 0.0))
     return out, layouts
 
 
@@ -222,20 +223,24 @@ def _draw_block(pg: _Page, b, placed, y: float, layouts) -> None:
     elif isinstance(b, Table):
         layouts[placed.block].draw(pg, x, y, placed.start, placed.stop, placed.continued)
     elif isinstance(b, Figure):
-        _draw_figure(pg, b, x, y)
+        _draw_figure(pg, b, x, y, placed.height)
 
 
-def _draw_figure(pg: _Page, b, x: float, y: float) -> None:
+def _draw_figure(pg: _Page, b, x: float, y: float, given: float = 0.0) -> None:
     from .paint import paint_plot
     from .schematic_paint import paint_schematic
 
-    rect = pg.rect(x, y, pg.width, pg.width * b.aspect)
+    height = pg.width * b.aspect
+    if given:  # shrunk to finish a page: the drawing takes what is left after its caption
+        cap = pg.text_height(b.caption, "small", pg.width) + 2 if b.caption else 0.0
+        height = given - cap - 8.0
+    rect = pg.rect(x, y, pg.width, height)
     if b.kind == "plot":
         paint_plot(pg.p, rect, b.item, b.colours)
     else:
         paint_schematic(pg.p, rect, b.item, b.accent or "#1f5fa8", caption=False)
     if b.caption:
-        pg.draw_text(x, y + pg.width * b.aspect + 2, pg.width, 40, b.caption, "small")
+        pg.draw_text(x, y + height + 2, pg.width, 40, b.caption, "small")
 
 
 def _frame(pg: _Page, data: ReviewData, number: int, count: int) -> None:

@@ -76,3 +76,10 @@ def test_a_chain_of_kept_blocks_moves_with_a_short_table():
     pages = paginate(blocks, PAGE)
     assert [p.block for p in pages[0]] == [0]
     assert [p.block for p in pages[1]] == [1, 2, 3]
+
+
+def test_a_shrinkable_figure_finishes_the_page():
+    blocks = [Measured(height=70), Measured(height=40, least=24), Measured(height=40, least=35)]
+    pages = paginate(blocks, PAGE)
+    assert [(p.block, p.height) for p in pages[0]] == [(0, 0.0), (1, 30.0)]  # shrunk from 40
+    assert [p.block for p in pages[1]] == [2]  # room was 0: moves on whole
