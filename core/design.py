@@ -13,6 +13,7 @@ from dataclasses import dataclass, field
 from types import MappingProxyType
 from typing import Any
 
+from .display_names import network_name
 from .errors import DesignError
 from .types import MAX_ARRAY_BITS, MAX_BITS, OUTPUTS_BY_TOPOLOGY, SERIES, TOPOLOGIES
 from .units import parse_value
@@ -322,7 +323,7 @@ class Design:
     @property
     def label(self) -> str:
         """The name shown for this candidate."""
-        return self.name or f"{self.topology} ({self.output})"
+        return self.name or network_name(self.topology, self.output)
 
 
 def _id_summary(ids: list[str]) -> str:

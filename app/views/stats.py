@@ -10,6 +10,7 @@ from __future__ import annotations
 import numpy as np
 import pyqtgraph as pg
 from PySide6.QtCore import Qt, Signal
+from PySide6.QtGui import QBrush, QColor
 from PySide6.QtWidgets import (
     QCheckBox,
     QComboBox,
@@ -17,6 +18,7 @@ from PySide6.QtWidgets import (
     QFormLayout,
     QGridLayout,
     QHBoxLayout,
+    QHeaderView,
     QLabel,
     QLineEdit,
     QProgressBar,
@@ -33,7 +35,7 @@ from rungwise.core.grades import STANDARD_GRADES
 from rungwise.core.targets import MAX_SEED
 
 from ..jobs.workers import Progress, runner_for
-from ..plots.theme import PENS, candidate_colour, follow_palette
+from ..plots.theme import candidate_colour, follow_palette
 from .stats_job import StatsOutcome, StatsRequest, statistics_job
 
 CHANNEL = "statistics"
@@ -43,8 +45,11 @@ CRITERIA = {"monotonic": "Monotonic", "dnl": "|DNL| within target", "inl": "|INL
             "all": "Every target"}
 """Decision rules offered, by ``grades.Criterion`` value."""
 
-COLUMNS = ("Candidate", "Engine", "Monotonic", "|DNL| ok", "|INL| ok", "All targets",
-           "Loosest passing grade")
+PLOT_MIN_HEIGHT = 210
+"""Smallest height of a plot of this view, px."""
+
+COLUMNS = ("Candidate", "Engine", "Monotonic", "|DNL| ok", "|INL| ok", "All\ntargets",
+           "Loosest\npassing grade")
 """Columns of the results table."""
 
 
@@ -122,8 +127,12 @@ class StatisticsPane(QWidget):
         self.table = QTableWidget(0, len(COLUMNS), objectName="table_stats")
         self.table.setHorizontalHeaderLabels(list(COLUMNS))
         self.table.setEditTriggers(QTableWidget.EditTrigger.NoEditTriggers)
-        self.table.horizontalHeader().setStretchLastSection(True)
-        self.table.setMaximumHeight(160)
+        # columns share the width and long texts wrap: no sideways scrolling on a laptop screen
+        self.table.horizontalHeader().setSectionResizeMode(QHeaderView.ResizeMode.Stretch)
+        self.table.verticalHeader().setSectionResizeMode(QHeaderView.ResizeMode.ResizeToContents)
+        self.table.setWordWrap(True)
+        self.table.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+        self.table.setVerticalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
         self.combo_candidate = QComboBox(objectName="combo_stats_candidate")
         self.combo_candidate.currentIndexChanged.connect(self._show_candidate)
         self.plot_hist = follow_palette(pg.PlotWidget(title="Boards by worst error"))
@@ -142,6 +151,8 @@ class StatisticsPane(QWidget):
         self.plot_yield.setLabel("bottom", "part tolerance ± (%)")
         self.plot_yield.setLabel("left", "yield (%)")
         self.plot_yield.addLegend()
+        for plot in (self.plot_yield, self.plot_hist, self.plot_envelope):
+            plot.setMinimumHeight(PLOT_MIN_HEIGHT)  # the view scrolls rather than squash a plot
         plots = QGridLayout()
         plots.addWidget(self.plot_yield, 0, 0, 1, 2)
         plots.addWidget(self.plot_hist, 1, 0)
@@ -166,6 +177,8 @@ class StatisticsPane(QWidget):
             self._colours = list(colours)
             if self._outcome is not None:
                 self._plot_yield(self._outcome)
+                self._fill_table(self._outcome)
+                self._show_candidate(self.combo_candidate.currentIndex())
 
     def set_candidates(self, designs: list[Design]) -> None:
         """New candidates after a finished edit; reruns when "Rerun" is ticked — at once if the
@@ -278,7 +291,17 @@ class StatisticsPane(QWidget):
             for j, text in enumerate(cells):
                 item = QTableWidgetItem(text)
                 item.setTextAlignment(Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignVCenter)
+                if j == 0:
+                    item.setForeground(QBrush(QColor(candidate_colour(self._colours, i))))
                 self.table.setItem(i, j, item)
+        self._fit_table_height()
+
+    def _fit_table_height(self) -> None:
+        """Show every row: the view scrolls as a whole, the table never on its own."""
+        t = self.table
+        t.resizeRowsToContents()
+        rows = sum(t.rowHeight(r) for r in range(t.rowCount()))
+        t.setFixedHeight(t.horizontalHeader().sizeHint().height() + rows + 2 * t.frameWidth() + 2)
 
     def _plot_yield(self, outcome: StatsOutcome) -> None:
         self.plot_yield.clear()
@@ -302,14 +325,19 @@ class StatisticsPane(QWidget):
         self.plot_envelope.clear()
         if r is None or r.done == 0:
             return
-        for values, name, colour in ((r.max_abs_dnl, "max |DNL|", PENS[0]),
-                                     (r.max_abs_inl, f"max |INL| ({r.targets.inl_line})", PENS[1])):
+        colour = candidate_colour(self._colours, index)
+        label = outcome.request.designs[index].label
+        # the candidate's colour; DNL filled and solid, INL unfilled and dashed
+        for values, name, fill, style in (
+                (r.max_abs_dnl, "max |DNL|", colour + "70", Qt.PenStyle.SolidLine),
+                (r.max_abs_inl, f"max |INL| ({r.targets.inl_line})", None, Qt.PenStyle.DashLine)):
             counts, edges = np.histogram(values, bins=40)
-            self.plot_hist.plot(edges, counts, stepMode="center", fillLevel=0,
-                                brush=pg.mkBrush(colour + "60"), pen=pg.mkPen(colour), name=name)
+            self.plot_hist.plot(edges, counts, stepMode="center", fillLevel=0 if fill else None,
+                                brush=pg.mkBrush(fill) if fill else None,
+                                pen=pg.mkPen(colour, width=2, style=style), name=f"{label}: {name}")
         env = r.inl_envelope
         codes = r.envelope_codes.astype(float)
         for row, style in zip(env, (Qt.PenStyle.DashLine, Qt.PenStyle.SolidLine, Qt.PenStyle.DashLine),
                               strict=True):
-            self.plot_envelope.plot(codes, row, pen=pg.mkPen(PENS[2], width=1.5, style=style))
+            self.plot_envelope.plot(codes, row, pen=pg.mkPen(colour, width=1.5, style=style))
         self.plot_envelope.setTitle(f"INL spread, 1/50/99 % of {r.envelope_trials} boards")

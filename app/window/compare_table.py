@@ -10,7 +10,9 @@ from PySide6.QtCore import Qt
 from PySide6.QtGui import QBrush, QColor, QFont
 from PySide6.QtWidgets import QAbstractItemView, QHeaderView, QTableWidget, QTableWidgetItem, QWidget
 
+from rungwise.core.display_names import network_name
 from rungwise.core.evaluate import SUMMARY_KEYS
+from rungwise.core.figure_meaning import NO_MEANING_TEXT, shown
 from rungwise.core.units import format_value
 
 from ..jobs.live_results import CandidateResult
@@ -49,6 +51,9 @@ RULE_WORDS: dict[Best, str] = {
 BEST_MARK = "◆"
 """Drawn after the best value(s) of a row."""
 
+LABEL_CHARS = 30
+"""Row captions longer than this wrap onto a second line (the values keep the width)."""
+
 REL_TIE = 1e-9
 """Values within this relative distance of the best count as equally good."""
 
@@ -69,9 +74,23 @@ def cell_text(key: str, value: Any) -> str:
     return format_value(value, unit)
 
 
-def best_columns(key: str, values: Sequence[Any]) -> set[int]:
-    """Indices of the best values of a row (empty when the row is not judged or all are equal)."""
+def comparable(key: str, values: Sequence[Any], bits: Sequence[int] | None
+               ) -> tuple[list[Any], str]:
+    """A row's values made comparable, and how: figures in LSB compare as they are when every
+    candidate has the same bits, else per full scale (value / (2^N − 1), an LSB being that share
+    of the full scale); other figures compare as they are."""
+    if bits is None or SUMMARY_KEYS[key][1] != "LSB" or len(set(bits)) <= 1:
+        same = f", all {bits[0]} bits" if bits and SUMMARY_KEYS[key][1] == "LSB" else ""
+        return list(values), same
+    scaled = [None if v is None else float(v) / (2 ** n - 1) for v, n in zip(values, bits, strict=True)]
+    return scaled, ", compared per full scale as the bits differ"
+
+
+def best_columns(key: str, values: Sequence[Any], bits: Sequence[int] | None = None) -> set[int]:
+    """Indices of the best values of a row (empty when the row is not judged or all are equal);
+    ``bits`` per candidate makes LSB figures of different resolutions compare per full scale."""
     rule = BEST_RULE.get(key)
+    values, _how = comparable(key, values, bits)
     known = [(i, v) for i, v in enumerate(values) if v is not None
              and not (isinstance(v, float) and math.isnan(v))]
     if rule is None or len(known) < 2:
@@ -88,6 +107,32 @@ def best_columns(key: str, values: Sequence[Any]) -> set[int]:
     tol = REL_TIE * max(abs(best), 1e-300)
     winners = {i for i, s in score.items() if s - best <= tol}
     return set() if len(winners) == len(known) else winners
+
+
+def wrapped(name: str, width: int = 14) -> str:
+    """A candidate name broken into lines of about ``width`` characters at spaces (a narrow
+    column header)."""
+    lines: list[str] = []
+    for word in name.split():
+        if lines and len(lines[-1]) + 1 + len(word) <= width:
+            lines[-1] += f" {word}"
+        else:
+            lines.append(word)
+    return "\n".join(lines) or name
+
+
+def reasons_text(candidates: Sequence[Candidate], results: Sequence[CandidateResult]) -> str:
+    """One line per reason a figure has no meaning: which rows, for which candidates."""
+    rows: dict[str, dict[str, list[str]]] = {}
+    for cand, res in zip(candidates, results, strict=True):
+        for key, why in (res.evaluation.no_meaning if res.evaluation is not None else {}).items():
+            rows.setdefault(why, {}).setdefault(SUMMARY_KEYS[key][0].strip(), []).append(cand.name)
+    lines = []
+    for why, figures in rows.items():
+        names = sorted({n for ns in figures.values() for n in ns})
+        who = "every candidate" if len(names) == len(candidates) else ", ".join(names)
+        lines.append(f"No meaning — {why} ({who}): {', '.join(figures)}.")
+    return "\n".join(lines)
 
 
 class CompareTable(QTableWidget):
@@ -111,7 +156,9 @@ class CompareTable(QTableWidget):
 
     @staticmethod
     def _row_label(key: str) -> str:
-        return SUMMARY_KEYS[key][0]
+        label = SUMMARY_KEYS[key][0]
+        indent = label[: len(label) - len(label.lstrip())]
+        return indent + wrapped(label, LABEL_CHARS).replace("\n", "\n" + indent)
 
     def set_results(self, candidates: Sequence[Candidate], results: Sequence[CandidateResult]) -> None:
         """Fill the table from one result set (a candidate that failed shows its message)."""
@@ -120,28 +167,40 @@ class CompareTable(QTableWidget):
             self.setColumnCount(len(candidates))
             self._names = [c.name for c in candidates]
             for col, cand in enumerate(candidates):
-                head = QTableWidgetItem(f"■ {cand.name}")
+                head = QTableWidgetItem(f"■ {wrapped(cand.name)}")
                 head.setForeground(QBrush(QColor(cand.colour)))
-                head.setToolTip(f"{cand.design.topology}, {cand.design.output}, {cand.design.bits} bits")
+                d = cand.design
+                head.setToolTip(f"{cand.name}: {network_name(d.topology, d.output)}, {d.bits} bits")
                 self.setHorizontalHeaderItem(col, head)
             bold = QFont(self.font())
             bold.setBold(True)
             self._texts = []
+            bits = [c.design.bits for c in candidates]
             for row, key in enumerate(self.keys):
                 values = [r.evaluation.summary.get(key) if r.evaluation is not None else None
                           for r in results]
-                best = best_columns(key, values)
+                void = [r.evaluation.no_meaning.get(key) if r.evaluation is not None else None
+                        for r in results]
+                best = best_columns(key, [None if why else v for v, why in zip(values, void,
+                                                                                strict=True)], bits)
+                how = comparable(key, values, bits)[1]
                 texts = []
                 for col, (v, res) in enumerate(zip(values, results, strict=True)):
                     text = cell_text(key, v) if res.evaluation is not None else "not solved"
-                    shown = f"{text} {BEST_MARK}" if col in best else text
-                    item = QTableWidgetItem(shown)
+                    if void[col]:
+                        text = NO_MEANING_TEXT
+                    label = f"{text} {BEST_MARK}" if col in best else text
+                    item = QTableWidgetItem(label)
                     item.setTextAlignment(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
                     if col in best:
                         item.setFont(bold)
-                        item.setToolTip(f"Best in this row ({RULE_WORDS[BEST_RULE[key]]})")
+                        item.setToolTip(f"Best in this row ({RULE_WORDS[BEST_RULE[key]]}{how})")
                     elif res.evaluation is None:
                         item.setToolTip(res.message)
+                    elif void[col]:
+                        item.setToolTip(shown(void[col]).capitalize())
+                        item.setForeground(QBrush(QColor("#7a7a7a")))
+                        text = shown(void[col])
                     if key == "monotonic" and v is False:
                         item.setFont(bold)
                     self.setItem(row, col, item)

@@ -21,6 +21,7 @@ from PySide6.QtWidgets import (
 
 from rungwise.core.build_style import BUILD_OPTIONS, unused_build_keys
 from rungwise.core.design import FIELDS, Design
+from rungwise.core.display_names import output_name, topology_name
 from rungwise.core.errors import DesignError
 from rungwise.core.field_use import unused_fields
 from rungwise.core.types import OUTPUTS_BY_TOPOLOGY, TOPOLOGIES
@@ -82,7 +83,7 @@ class DesignPane(QWidget):
         self._build()
         self.setStyleSheet(REFUSED_STYLE)
         self.binder = FieldBinder(self)
-        self.binder.set_choices("topology", [(t, t) for t in TOPOLOGIES])
+        self.binder.set_choices("topology", [(topology_name(t), t) for t in TOPOLOGIES])
         for key, (_label, words) in BUILD_CHOICES.items():
             self.binder.set_choices(f"build.{key}", [(words[v], v) for v in BUILD_OPTIONS[key]])
         self.binder.entry_finished.connect(self._on_finished)
@@ -153,7 +154,8 @@ class DesignPane(QWidget):
         self._commit_timer.stop()
         self._pending = None
         self._design = design
-        self.binder.set_choices("output", [(o, o) for o in OUTPUTS_BY_TOPOLOGY[design.topology]])
+        self.binder.set_choices("output", [(output_name(o), o)
+                                           for o in OUTPUTS_BY_TOPOLOGY[design.topology]])
         self.binder.show(design, keep_refused=same_candidate)
         self.heading.setText(f"<b>{design.label}</b>")
         self._grey_unused(design)

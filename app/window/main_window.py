@@ -1,6 +1,8 @@
-"""The comparison window: candidates and values on the left, curves (and analysis views) in the
-middle, the figures table on the right. Menus, files and remembered settings live here; each panel
-is its own module.
+"""The comparison window: curves and analysis views in the middle, the candidates and values and
+the figures table in dock panels that can be hidden, floated and put back (their places are
+remembered). On a window narrower than :data:`WIDE_WINDOW` the two panels share one side as tabs,
+so an analysis view keeps most of the width. Menus, files and remembered settings live here; each
+panel is its own module.
 """
 
 from __future__ import annotations
@@ -11,6 +13,7 @@ from pathlib import Path
 from PySide6.QtCore import QByteArray, Qt, QTimer, Signal
 from PySide6.QtGui import QAction, QActionGroup, QCloseEvent, QGuiApplication, QKeySequence, QShowEvent
 from PySide6.QtWidgets import (
+    QDockWidget,
     QFileDialog,
     QGroupBox,
     QLabel,
@@ -19,7 +22,6 @@ from PySide6.QtWidgets import (
     QProgressBar,
     QPushButton,
     QScrollArea,
-    QSplitter,
     QTabWidget,
     QVBoxLayout,
     QWidget,
@@ -33,7 +35,7 @@ from rungwise.core.errors import RungwiseError
 from ..jobs.live_results import LiveResults, ResultSet
 from ..plots.curves import PLOTS, CodePlotsView
 from .candidate_list import CandidateListPane
-from .compare_table import CompareTable
+from .compare_table import CompareTable, reasons_text
 from .comparison_model import ComparisonModel
 from .comparison_state import Candidate, with_colours
 from .design_pane import CAPTION_WIDTH_TEXT, FIELD_WIDTH_TEXT, DesignPane
@@ -51,6 +53,15 @@ STOPPED_TEXT = ("Stopped: the curves and figures are of earlier values; change a
 
 FILE_FILTER = "Rungwise designs (*.rwd.toml *.toml);;All files (*)"
 """File dialog filter for design files."""
+
+WIDE_WINDOW = 1700
+"""Window width, px, from which the figures panel sits beside the curves instead of sharing the
+left side with the values panel as a tab."""
+
+DOCK_FEATURES = (QDockWidget.DockWidgetFeature.DockWidgetClosable
+                 | QDockWidget.DockWidgetFeature.DockWidgetMovable
+                 | QDockWidget.DockWidgetFeature.DockWidgetFloatable)
+"""What a person may do with a panel: hide it, move it to another side, float it."""
 
 
 class MainWindow(QMainWindow):
@@ -70,7 +81,6 @@ class MainWindow(QMainWindow):
         self.ask_before_closing = True
         self._sizes_pending = False
         self._user_sized = False
-        self._fitting_splitter = False
         self.model = ComparisonModel(candidates or with_colours(demo_candidates()), self)
         self.live = LiveResults(self)
         self.views: dict[str, QWidget] = {}
@@ -87,6 +97,7 @@ class MainWindow(QMainWindow):
 
     # --- layout -----------------------------------------------------------------------------------
     def _build(self) -> None:
+        self.setDockNestingEnabled(True)
         self.candidates_pane = CandidateListPane(self.model, self)
         self.pane = DesignPane(self)
         left = QWidget(self)
@@ -101,7 +112,8 @@ class MainWindow(QMainWindow):
         scroll.setWidget(left)
         scroll.setWidgetResizable(True)
         scroll.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
-        scroll.setMinimumWidth(260)
+        scroll.setMinimumWidth(self._values_width())
+        self.dock_values = self._dock("Candidates and values", "dock_values", scroll)
 
         self.plots = CodePlotsView(self)
         self.tabs = QTabWidget(self, objectName="tabs_analysis")
@@ -109,24 +121,21 @@ class MainWindow(QMainWindow):
         self.tabs.addTab(self.plots, "Curves")
         for entry in VIEWS:
             self._add_view(entry)
+        self.setCentralWidget(self.tabs)
 
         self.table = CompareTable(self)
-        right = QGroupBox("Figures", self, objectName="group_figures")
-        right.setMinimumWidth(330)
+        right = QWidget(self, objectName="group_figures")
         lay = QVBoxLayout(right)
         lay.addWidget(self.table)
-        note = QLabel(f"{'◆'} marks the best value in a row (hover for the rule).", right)
+        self.meaning_note = QLabel(right, objectName="label_no_meaning")
+        self.meaning_note.setWordWrap(True)
+        self.meaning_note.hide()
+        lay.addWidget(self.meaning_note)
+        note = QLabel(f"{'◆'} marks the best value in a row; LSB rows compare per full scale when "
+                      "the bits differ (hover a mark for its rule).", right)
         note.setWordWrap(True)
         lay.addWidget(note)
-
-        self.splitter = QSplitter(Qt.Orientation.Horizontal, self, objectName="splitter_main")
-        for w in (scroll, self.tabs, right):
-            self.splitter.addWidget(w)
-        self.splitter.setStretchFactor(0, 0)
-        self.splitter.setStretchFactor(1, 1)
-        self.splitter.setStretchFactor(2, 0)
-        self.splitter.setChildrenCollapsible(False)
-        self.setCentralWidget(self.splitter)
+        self.dock_figures = self._dock("Figures", "dock_figures", right)
 
         bar = self.statusBar()
         self.status_text = QLabel(self, objectName="label_status")
@@ -141,6 +150,40 @@ class MainWindow(QMainWindow):
         self.cancel_button.hide()
         self._busy_timer = QTimer(self, singleShot=True, interval=BUSY_SHOW_MS)
         self._busy_timer.timeout.connect(self._show_busy)
+
+    def _dock(self, title: str, name: str, widget: QWidget) -> QDockWidget:
+        dock = QDockWidget(title, self, objectName=name)
+        dock.setFeatures(DOCK_FEATURES)
+        dock.setWidget(widget)
+        self.addDockWidget(Qt.DockWidgetArea.LeftDockWidgetArea, dock)
+        return dock
+
+    def arrange_panels(self) -> None:
+        """Put the panels back in their default places for the window's width: side by side
+        around the curves on a wide window, else as two tabs on the left (figures in front)."""
+        self._user_sized = False
+        for dock in (self.dock_values, self.dock_figures):
+            dock.setFloating(False)
+            dock.show()
+        self.addDockWidget(Qt.DockWidgetArea.LeftDockWidgetArea, self.dock_values)
+        if self.width() >= WIDE_WINDOW:
+            self.addDockWidget(Qt.DockWidgetArea.RightDockWidgetArea, self.dock_figures)
+            self.resizeDocks([self.dock_values, self.dock_figures],
+                             [self._values_width(), min(self._table_width(), int(self.width() * 0.4))],
+                             Qt.Orientation.Horizontal)
+        else:
+            self.addDockWidget(Qt.DockWidgetArea.LeftDockWidgetArea, self.dock_figures)
+            self.tabifyDockWidget(self.dock_values, self.dock_figures)
+            self.dock_figures.raise_()
+            self.resizeDocks([self.dock_values], [min(max(self._table_width(), self._values_width()),
+                                                      int(self.width() * 0.48))],
+                             Qt.Orientation.Horizontal)
+
+    def _values_width(self) -> int:
+        """Width of the values panel: a caption beside a field of a comfortable width."""
+        fm = self.fontMetrics()
+        return max(260, fm.horizontalAdvance(CAPTION_WIDTH_TEXT) + fm.horizontalAdvance(FIELD_WIDTH_TEXT)
+                   + 90)
 
     def _add_view(self, entry: ViewEntry) -> None:
         try:
@@ -219,6 +262,15 @@ class MainWindow(QMainWindow):
         m.addSeparator()
         action(m, "&Fit all curves", self.plots.auto_range, "Ctrl+0", "action_fit")
 
+        m = bar.addMenu("&Panels")
+        for dock, key in ((self.dock_values, "Ctrl+Shift+V"), (self.dock_figures, "Ctrl+Shift+F")):
+            toggle = dock.toggleViewAction()
+            toggle.setShortcut(QKeySequence(key))
+            toggle.setObjectName(f"action_show_{dock.objectName()}")
+            m.addAction(toggle)
+        m.addSeparator()
+        action(m, "Put the panels &back", self.arrange_panels, "Ctrl+Shift+B", "action_panels_back")
+
         m = bar.addMenu("&Help")
         action(m, "&About Rungwise and cautions", self.show_about, QKeySequence.StandardKey.HelpContents,
                "action_about")
@@ -234,11 +286,6 @@ class MainWindow(QMainWindow):
         self.live.progress_changed.connect(self._on_progress)
         self.live.failed.connect(lambda msg: self.show_problem(f"The computation failed: {msg}"))
         self.cancel_button.clicked.connect(self.stop_computing)
-        self.splitter.splitterMoved.connect(self._on_splitter_moved)
-
-    def _on_splitter_moved(self, *_args) -> None:
-        if not self._fitting_splitter:
-            self._user_sized = True
 
     # --- model → everything ------------------------------------------------------------------------
     def _on_candidates_changed(self) -> None:
@@ -286,6 +333,9 @@ class MainWindow(QMainWindow):
         shown = [Candidate(r.design, c.colour) for c, r in zip(cands, result.results, strict=True)]
         self.plots.set_results(shown, result.results)
         self.table.set_results(shown, result.results)
+        why = reasons_text(shown, result.results)
+        self.meaning_note.setText(why)
+        self.meaning_note.setVisible(bool(why))
         self._fit_table()
         failed = [f"{c.name}: {r.message}" for c, r in zip(shown, result.results, strict=True)
                   if r.evaluation is None]
@@ -452,9 +502,8 @@ class MainWindow(QMainWindow):
         else:
             screen = QGuiApplication.primaryScreen().availableGeometry()
             self.resize(min(1500, int(screen.width() * 0.92)), min(920, int(screen.height() * 0.9)))
-        sizes = mem.get("splitter")
-        if isinstance(sizes, list) and len(sizes) == 3 and all(isinstance(s, int) and s > 0 for s in sizes):
-            self.splitter.setSizes(sizes)
+        docks = mem.get("docks")
+        if isinstance(docks, str) and self.restoreState(QByteArray.fromBase64(docks.encode())):
             self._user_sized = True  # the person's own layout from last time
         else:
             self._sizes_pending = True  # set on first show, when the window has its real size
@@ -462,38 +511,30 @@ class MainWindow(QMainWindow):
             self.set_inl_line(mem["inl_line"])
 
     def showEvent(self, event: QShowEvent) -> None:
-        """Give the panels their default widths the first time the window appears."""
+        """Put the panels in their default places the first time the window appears."""
         super().showEvent(event)
         if self._sizes_pending:
             self._sizes_pending = False
-            self.splitter.setSizes(self._default_sizes())
-
-    def _default_sizes(self) -> list[int]:
-        """Values pane, curves and figures widths: the table gets room for two candidates."""
-        fm = self.pane.fontMetrics()
-        field = fm.horizontalAdvance(CAPTION_WIDTH_TEXT) + fm.horizontalAdvance(FIELD_WIDTH_TEXT)
-        left = max(260, field + 90)
-        right = min(self._table_width(), int(self.width() * 0.45))
-        return [left, max(self.width() - left - right, 300), right]
+            self.arrange_panels()
 
     def _table_width(self) -> int:
         """Width the figures panel needs to show every column without scrolling."""
         t = self.table
+        t.resizeColumnsToContents()
         columns = sum(t.columnWidth(c) for c in range(t.columnCount()))
         if t.columnCount() == 0:
             columns = 2 * (t.fontMetrics().horizontalAdvance("0.09686 LSB ◆") + 30)
         return t.verticalHeader().sizeHint().width() + columns + t.verticalScrollBar().sizeHint().width() + 40
 
     def _fit_table(self) -> None:
-        """Widen the figures panel for its columns until the person moves the dividers."""
-        if self._user_sized or not self.isVisible():
+        """Widen the figures panel for its columns (within 48 % of the window) unless the
+        person has placed the panels themselves."""
+        dock = self.dock_figures
+        if self._user_sized or not self.isVisible() or dock.isFloating() or not dock.isVisible():
             return
-        left, centre, right = self.splitter.sizes()
-        want = min(self._table_width(), int(self.width() * 0.45))
-        if want > right:
-            self._fitting_splitter = True
-            self.splitter.setSizes([left, max(centre - (want - right), 300), want])
-            self._fitting_splitter = False
+        want = max(min(self._table_width(), int(self.width() * 0.48)), self._values_width())
+        if want != dock.width():
+            self.resizeDocks([dock], [want], Qt.Orientation.Horizontal)
 
     def last_file(self) -> Path | None:
         """The design file open when the window last closed, if it still exists."""
@@ -504,7 +545,7 @@ class MainWindow(QMainWindow):
         """What is remembered for the next run."""
         return {
             "geometry": bytes(self.saveGeometry().toBase64()).decode(),
-            "splitter": self.splitter.sizes(),
+            "docks": bytes(self.saveState().toBase64()).decode(),
             "inl_line": self.plots.inl_line,
             "last_file": str(self.model.path) if self.model.path else None,
         }

@@ -1,4 +1,4 @@
-"""What the window remembers between runs: geometry, splitter sizes, INL line, the last design file.
+"""What the window remembers between runs: geometry, panel places, INL line, the last design file.
 
 A small JSON file of our own in the user configuration folder (platformdirs); the environment
 variable ``RUNGWISE_CONFIG_DIR`` points it elsewhere (tests use a temporary folder). A damaged file

@@ -16,6 +16,11 @@ def _curve_count(window) -> int:
     return counts.pop()
 
 
+def _header(window, column: int) -> str:
+    """A figures-table column header as one line (long names wrap in the header)."""
+    return " ".join(window.table.horizontalHeaderItem(column).text().split())
+
+
 def test_add_and_remove_update_curves_and_table(window, qtbot):
     state = window.model.state
     n = len(demo_candidates())
@@ -28,7 +33,7 @@ def test_add_and_remove_update_curves_and_table(window, qtbot):
     assert _curve_count(window) == n + 1
     assert window.table.columnCount() == n + 1
     added = state.candidates[n]
-    assert window.table.horizontalHeaderItem(n).text().endswith(added.name)
+    assert _header(window, n).endswith(added.name)
     # the new curve is drawn in the new candidate's colour with its data
     curve = window.plots.curves["output"][n]
     assert curve.opts["pen"].color().name() == added.colour
@@ -38,7 +43,7 @@ def test_add_and_remove_update_curves_and_table(window, qtbot):
         window.candidates_pane.button_remove.click()
     assert _curve_count(window) == n
     assert window.table.columnCount() == n
-    assert [window.table.horizontalHeaderItem(i).text()[2:] for i in range(n)] == [
+    assert [_header(window, i)[2:] for i in range(n)] == [
         c.name for c in state.candidates]
     # the analysis views draw each candidate in its comparison colour too
     colours = [c.colour for c in state.candidates]
