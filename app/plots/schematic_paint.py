@@ -33,11 +33,11 @@ class _Painter:
         self.tint = QColor(accent)
         self.tint.setAlpha(40)
         self.font = QFont("DejaVu Sans")
-        self.font.setPixelSize(max(7, round(self.s * 0.24)))
+        self.font.setPixelSize(max(9, round(self.s * 0.24)))
         self.bold = QFont(self.font)
         self.bold.setBold(True)
         self.small = QFont(self.font)
-        self.small.setPixelSize(max(6, round(self.s * 0.2)))
+        self.small.setPixelSize(max(8, round(self.s * 0.2)))
 
     def pt(self, p: sm.Point) -> QPointF:
         return QPointF(self.o[0] + p[0] * self.s, self.o[1] + p[1] * self.s)

@@ -63,6 +63,7 @@ class SchematicPane(QWidget):
         self.setObjectName("schematic_pane")
         self.designs: list[Design] = []
         self.colours: list[str] = []
+        self.code_chosen = False  # the person picked a code: keep it across edits
         self.combo = QComboBox(self, objectName="combo_schematic_candidate")
         self.combo.setSizeAdjustPolicy(QComboBox.SizeAdjustPolicy.AdjustToContents)
         self.spin_code = QSpinBox(self, objectName="spin_schematic_code")
@@ -84,7 +85,7 @@ class SchematicPane(QWidget):
         layout.addWidget(self.canvas, 1)
         layout.addWidget(self.status)
         self.combo.currentIndexChanged.connect(self._on_candidate)
-        self.spin_code.valueChanged.connect(lambda _v: self.redraw())
+        self.spin_code.valueChanged.connect(self._on_code)
 
     # --- the view protocol ---------------------------------------------------------------------
     def set_candidates(self, designs: list[Design]) -> None:
@@ -109,6 +110,10 @@ class SchematicPane(QWidget):
         i = self.combo.currentIndex()
         return self.designs[i] if 0 <= i < len(self.designs) else None
 
+    def _on_code(self, _value: int) -> None:
+        self.code_chosen = True
+        self.redraw()
+
     def _on_candidate(self, _index: int, keep_code: bool = False) -> None:
         d = self.design
         if d is None:
@@ -117,7 +122,8 @@ class SchematicPane(QWidget):
         old = self.spin_code.value()
         self.spin_code.blockSignals(True)
         self.spin_code.setRange(0, top)
-        self.spin_code.setValue(old if keep_code and old <= top else (1 << (d.bits - 1)) | 1)
+        keep = keep_code and self.code_chosen and old <= top
+        self.spin_code.setValue(old if keep else (1 << (d.bits - 1)) | 1 if d.bits > 1 else 1)
         self.spin_code.blockSignals(False)
         self.redraw()
 

@@ -48,6 +48,7 @@ def test_schematic_view_follows_the_candidates_and_the_code(compared, qtbot):
     assert [pane.combo.itemText(i) for i in range(pane.combo.count())] == ["ladder six",
                                                                              "string ten"]
     assert pane.spin_code.maximum() == 63
+    assert pane.spin_code.value() == 33  # mid-scale and the LSB until a code is picked
     pane.spin_code.setValue(5)
     assert pane.code_label.text() == "(0b000101)"
     sheet = pane.canvas.sheet
