@@ -168,6 +168,11 @@ class Design:
         networks and a segmented design's R-2R section); in a per-bit binary-weighted network the
         bit resistors step by ``2·series_ratio`` instead of 2 (bit k = R·(2·ratio)^(N−1−k)). Above
         1 each bit weighs a little more than twice the next, so carries keep a margin.
+    timing : Mapping[str, Any]
+        Switch edges and node capacitance (``timing.py``: ``rise``, ``fall``, ``skew``,
+        ``node_c``) given explicitly; unset keys are 0.
+    sine : Mapping[str, Any]
+        The test sine of the spectrum (``timing.py``: ``samples``, ``cycles``, ``amplitude``).
     name : str
         A label for the candidate; empty means "use the topology".
     """
@@ -193,6 +198,8 @@ class Design:
     build: Mapping[str, str] = field(default_factory=dict)
     board: Mapping[str, float] = field(default_factory=dict)
     series_ratio: float = 1.0
+    timing: Mapping[str, Any] = field(default_factory=dict)
+    sine: Mapping[str, Any] = field(default_factory=dict)
     name: str = ""
 
     def __post_init__(self) -> None:
@@ -248,6 +255,10 @@ class Design:
         from .parts.board import check_board
 
         object.__setattr__(self, "board", MappingProxyType(check_board(self.board)))
+        from .timing import check_sine, check_timing
+
+        object.__setattr__(self, "timing", MappingProxyType(check_timing(self.timing)))
+        object.__setattr__(self, "sine", MappingProxyType(check_sine(self.sine)))
 
     # --- conversions -------------------------------------------------------------------------
     @classmethod
@@ -269,6 +280,8 @@ class Design:
                            for k, v in self.mismatch.items()}
         out["build"] = dict(self.build)
         out["board"] = dict(self.board)
+        out["timing"] = {k: list(v) if k == "skew" else v for k, v in self.timing.items()}
+        out["sine"] = dict(self.sine)
         return out
 
     def replace(self, **changes: Any) -> Design:
@@ -299,7 +312,7 @@ class Design:
         changes: dict[str, Any] = {}
         parts = dict(self.parts)
         tables = {"mismatch": self.to_dict()["mismatch"], "build": dict(self.build),
-                  "board": dict(self.board)}
+                  "board": dict(self.board), "timing": dict(self.timing), "sine": dict(self.sine)}
         for key, text in settings.items():
             if key.startswith("parts."):
                 parts[key[len("parts."):]] = text
@@ -314,7 +327,8 @@ class Design:
                 changes[key] = text
             else:
                 known = ", ".join(["topology", "output", "name", "series", *FIELDS, "parts.<id>",
-                                   "mismatch.<key>", "build.<key>", "board.<key>"])
+                                   "mismatch.<key>", "build.<key>", "board.<key>", "timing.<key>",
+                                   "sine.<key>"])
                 raise DesignError(key, f"unknown setting; known settings: {known}")
         if parts != dict(self.parts):
             changes["parts"] = parts

@@ -11,6 +11,8 @@ from .design import Design
 from .figure_meaning import reasons
 from .limits import check_evaluation
 from .metrics import linearity
+from .metrics.dynamics import SUMMARY_KEYS as DYNAMIC_SUMMARY_KEYS
+from .metrics.dynamics import Dynamics, Scope, dynamic_figures
 from .metrics.power import WHOLE_CODES
 from .metrics.power_arrays import part_power_arrays
 from .metrics.structure import structure
@@ -53,6 +55,10 @@ class Evaluation:
     no_meaning : dict[str, str]
         Summary keys that mean nothing for the inputs (their value is NaN) → the reason
         (``figure_meaning.py``), e.g. settling with no load capacitance.
+    dynamics : Dynamics
+        Per-transition glitch impulse (V·s), peak (V) and settling (s), shape (n_codes,): element c
+        is transition c − 1 → c, element 0 is 0, NaN where not computed; ``note`` says why they
+        mean nothing for these inputs (``None`` when they do).
     """
 
     design: Design
@@ -69,14 +75,20 @@ class Evaluation:
     solution: Solution = field(repr=False)
     notes: dict[str, str] = field(default_factory=dict)
     no_meaning: dict[str, str] = field(default_factory=dict)
+    dynamics: Dynamics | None = field(default=None, repr=False)
 
     def per_code(self) -> dict[str, np.ndarray]:
-        """Per-code arrays by name; ``dnl`` is padded with NaN at the last code."""
-        return {
+        """Per-code arrays by name; ``dnl`` is padded with NaN at the last code; ``glitch`` (V·s)
+        and ``settling`` (s) hold transition c − 1 → c at element c (0 at element 0)."""
+        out = {
             "code": self.codes, "vout": self.vout, "rout": self.rout, "iref": self.iref,
             "inl_endpoint": self.inl_endpoint, "inl_bestfit": self.inl_bestfit,
             "dnl": np.append(self.dnl, np.nan),
         }
+        if self.dynamics is not None:
+            out["glitch"] = self.dynamics.glitch
+            out["settling"] = self.dynamics.settling
+        return out
 
 
 SUMMARY_KEYS: dict[str, tuple[str, str]] = {
@@ -108,6 +120,7 @@ SUMMARY_KEYS: dict[str, tuple[str, str]] = {
     "n_switches": ("Switches", ""),
     "n_amplifiers": ("Amplifiers", ""),
     **PART_SUMMARY_KEYS,
+    **DYNAMIC_SUMMARY_KEYS,
 }
 """Summary key → (label, unit) in display order."""
 
@@ -166,12 +179,15 @@ def linearity_curves(v: np.ndarray) -> dict[str, np.ndarray]:
             "dnl": linearity.dnl(v)}
 
 
-def evaluate(design: Design) -> Evaluation:
+def evaluate(design: Design, dynamics: Scope = "all") -> Evaluation:
     """Solve ``design`` at every code and compute its figures.
 
     Parameters
     ----------
     design : Design
+    dynamics : {"all", "major"}
+        Transitions whose glitch and settling are solved: every one (a stated sample above
+        12 bits) or only the major carry and the full-scale step (sweeps).
 
     Returns
     -------
@@ -196,7 +212,8 @@ def evaluate(design: Design) -> Evaluation:
     extra, elements = part_figures(design, net, sol)
     guarantee, guarantee_note = worst_case_summary(design)
     power_max, power_code = part_power_arrays(elements, net.parts)
-    summary = {**summarize(design, net, sol, curves, guarantee), **extra}
+    dyn_summary, dyn = dynamic_figures(design, net, v, scope=dynamics)
+    summary = {**summarize(design, net, sol, curves, guarantee), **extra, **dyn_summary}
     void = reasons(design, summary)
     summary.update(dict.fromkeys(void, float("nan")))
     return Evaluation(
@@ -214,4 +231,5 @@ def evaluate(design: Design) -> Evaluation:
         solution=sol,
         notes={"guaranteed_monotonic": guarantee_note},
         no_meaning=void,
+        dynamics=dyn,
     )

@@ -67,10 +67,12 @@ def result_dict(ev: Evaluation, per_code: bool, stats: MonteCarloResult | None =
         "parts": [{k: _plain(v) for k, v in p.items()} for p in ev.parts],
     }
     if per_code:
+        pc = ev.per_code()
         out["per_code"] = {
             "code": ev.codes.tolist(),
             **{k: [_plain(float(x)) for x in getattr(ev, k)]
                for k in ("vout", "rout", "iref", "inl_endpoint", "inl_bestfit", "dnl")},
+            **{k: [_plain(float(x)) for x in pc[k]] for k in ("glitch", "settling")},
         }
     if stats is not None:
         out["statistics"] = stats.to_dict()
@@ -93,7 +95,9 @@ def _cell(key: str, value: Any, reason: str | None = None) -> str:
         return "yes" if value else "no"
     if isinstance(value, int):
         return str(value)
-    if unit in {"V", "Ω", "A", "W", "s", "V/√Hz"}:
+    if isinstance(value, float) and math.isnan(value):
+        return "—"
+    if unit in {"V", "Ω", "A", "W", "s", "V/√Hz", "V·s"}:
         return format_value(value, unit)
     if unit == "fraction":
         return f"{value * 100:.4g} %"
@@ -128,7 +132,7 @@ def render_csv(evs: list[Evaluation], per_code: bool, stats: list[MonteCarloResu
         w.writerow([row[0], *[_plain(x) for x in row[1:]]])
     if per_code:
         w.writerow([])
-        names = ("vout", "rout", "iref", "inl_endpoint", "inl_bestfit", "dnl")
+        names = ("vout", "rout", "iref", "inl_endpoint", "inl_bestfit", "dnl", "glitch", "settling")
         w.writerow(["candidate", "code", *names])
         for e in evs:
             pc = e.per_code()

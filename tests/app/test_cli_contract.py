@@ -20,8 +20,32 @@ CANDIDATES = [
     Design(topology="r2r-current", bits=3, vref=2.5, unit_r=10e3, ron_high=30.0, ron_low=12.0,
            ref_r=15.0, name="Inverted ladder"),
     Design(topology="binary-weighted", output="divider", bits=3, vref=2.5, unit_r=8.2e3,
-           ron_high=30.0, ron_low=12.0, load_r=56e3, parts={"bit0": 33.1e3}, name="Divider"),
+           ron_high=30.0, ron_low=12.0, load_r=56e3, parts={"bit0": 33.1e3}, name="Divider",
+           load_c=20e-12, timing={"rise": 2e-9, "fall": 1e-9, "skew": [0, 1e-9], "node_c": 1e-12}),
 ]
+
+DYNAMIC_KEYS = ("glitch_major", "glitch_peak_major", "settling_major", "glitch_worst",
+                "glitch_worst_code", "settling_worst", "settling_worst_code", "sfdr_db", "thd_db",
+                "sinad_db", "enob")
+"""Summary keys promised to scripts for the dynamic and spectral figures."""
+
+
+def test_json_dynamic_keys(design_file):
+    proc = _run("compute", str(design_file), "--format", "json", "--per-code")
+    assert proc.returncode == 0, proc.stderr
+    res = json.loads(proc.stdout)["results"][1]
+    s, pc = res["summary"], res["per_code"]
+    assert set(DYNAMIC_KEYS) <= set(s)
+    major = 2 ** (res["bits"] - 1)  # transition 2^(N−1) − 1 → 2^(N−1)
+    assert s["glitch_major"] == pc["glitch"][major] != 0.0
+    worst = max(range(1, len(pc["glitch"])), key=lambda c: abs(pc["glitch"][c]))
+    assert (s["glitch_worst_code"], s["glitch_worst"]) == (worst, pc["glitch"][worst])
+    slow = max(range(1, len(pc["settling"])), key=lambda c: pc["settling"][c])
+    assert (s["settling_worst_code"], s["settling_worst"]) == (slow, pc["settling"][slow])
+    assert s["settling_major"] == pc["settling"][major] > 0
+    assert s["thd_db"] < 0
+    assert s["sinad_db"] <= s["sfdr_db"]
+    assert s["enob"] == pytest.approx((s["sinad_db"] - 1.76) / 6.02)  # the issue's definition
 
 
 def _run(*args: str) -> subprocess.CompletedProcess:
@@ -76,7 +100,13 @@ def test_json_contract_and_values(design_file, expected):
             assert set(got) == set(part)
             assert all(_same(got[k], part[k]) for k in part), part["id"]
         pc = res["per_code"]
-        assert set(pc) == {"code", "vout", "rout", "iref", "inl_endpoint", "inl_bestfit", "dnl"}
+        assert set(pc) == {"code", "vout", "rout", "iref", "inl_endpoint", "inl_bestfit", "dnl",
+                           "glitch", "settling"}
+        for name in ("glitch", "settling"):  # element c: transition c − 1 → c; element 0 is 0
+            arr = ev.per_code()[name]
+            assert pc[name][0] == 0.0, name
+            assert len(pc[name]) == arr.size, name
+            assert all(_same(a, float(b)) for a, b in zip(pc[name], arr, strict=True)), name
         assert pc["code"] == ev.codes.tolist()
         for name in ("vout", "rout", "iref", "inl_endpoint", "inl_bestfit", "dnl"):
             arr = getattr(ev, name)
@@ -110,7 +140,8 @@ def test_csv_parses_back(design_file, expected):
         pc = ev.per_code()
         for row in mine:
             c = int(row["code"])
-            for name in ("vout", "rout", "iref", "inl_endpoint", "inl_bestfit", "dnl"):
+            for name in ("vout", "rout", "iref", "inl_endpoint", "inl_bestfit", "dnl", "glitch",
+                         "settling"):
                 x = float(pc[name][c])
                 assert (row[name] == "") if not math.isfinite(x) else float(row[name]) == x
 

@@ -1,0 +1,128 @@
+"""The timing and sine tables, the transition figures' layout and the exact solver's own checks."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+
+from rungwise.core.design import Design
+from rungwise.core.designfile import DesignFile, dumps, loads
+from rungwise.core.errors import DesignError
+from rungwise.core.evaluate import evaluate
+from rungwise.core.metrics.glitch import sample_codes, solve_transitions, waveforms
+from rungwise.core.metrics.spectrum import sine_codes
+from rungwise.core.timing import timing_of
+from rungwise.core.topologies import build
+
+TIMING = {"rise": 3e-9, "fall": 1e-9, "skew": [0, 2e-9, 0, 1e-9], "node_c": 2e-12}
+
+
+@pytest.mark.parametrize(("settings", "key", "words"), [
+    ({"timing.rise": "-1n"}, "timing.rise", "0 … 1 s"),
+    ({"timing.node_c": "2"}, "timing.node_c", "0 … 1 F"),
+    ({"timing.skew": "1n, 2"}, "timing.skew", "0 … 1 s"),
+    ({"timing.width": "1n"}, "timing.width", "known keys: rise, fall, skew, node_c"),
+    ({"sine.cycles": "64"}, "sine.cycles", "coprime"),
+    ({"sine.cycles": "2049"}, "sine.cycles", "below half of sine.samples"),
+    ({"sine.samples": "8"}, "sine.samples", "from 16 to"),
+    ({"sine.amplitude": "1.5"}, "sine.amplitude", "of full scale"),
+])
+def test_refusals_name_the_key_and_range(settings, key, words):
+    with pytest.raises(DesignError) as err:
+        Design().with_settings(settings)
+    assert err.value.field == key
+    assert words in str(err.value)
+
+
+def test_skew_reads_as_list_or_text_and_survives_a_file():
+    a = Design(bits=4).with_settings({"timing.skew": "1n, 0, 2.5n", "timing.rise": "4n"})
+    assert a.timing["skew"] == (1e-9, 0.0, 2.5e-9)
+    assert timing_of(a).skew == (1e-9, 0.0, 2.5e-9, 0.0)  # missing bits 0
+    back = loads(dumps(DesignFile(candidates=[a.replace(sine={"cycles": 65})]))).candidates[0]
+    assert back.timing == a.timing
+    assert back.sine == {"cycles": 65}
+
+
+def test_no_capacitance_and_instant_edges_say_so():
+    ev = evaluate(Design(bits=6))
+    assert "no capacitance" in ev.dynamics.note
+    for key in ("glitch_major", "glitch_peak_major", "settling_major", "glitch_worst",
+                "settling_worst", "settling_full_scale"):
+        assert math.isnan(ev.summary[key]), key
+    assert ev.dynamics.glitch[0] == 0.0
+    assert np.all(np.isnan(ev.dynamics.glitch[1:]))
+    assert np.isfinite(ev.summary["sinad_db"])  # the spectrum needs no timing
+
+
+def test_large_strings_are_refused_by_name():
+    d = Design(topology="string", bits=8, load_c=1e-12)
+    ev = evaluate(d)
+    assert "64 nodes" in ev.dynamics.note
+    assert math.isnan(ev.summary["glitch_major"])
+
+
+def test_per_code_layout_and_summary():
+    d = Design(bits=5, ron_high=40, ron_low=70, load_c=5e-12, timing=TIMING)
+    ev = evaluate(d)
+    g, s = ev.per_code()["glitch"], ev.per_code()["settling"]
+    assert g.shape == s.shape == (32,)
+    assert g[0] == s[0] == 0.0
+    assert ev.summary["glitch_major"] == g[16]  # transition 15 → 16
+    c = int(np.argmax(np.abs(g)))
+    assert ev.summary["glitch_worst_code"] == c
+    assert ev.summary["glitch_worst"] == g[c]
+    assert ev.summary["settling_worst"] == np.max(s)
+    one = solve_transitions(build(d), timing_of(d), np.array([20]), np.array([21]))
+    assert one.impulse[0] == g[21]
+    assert one.settling[0] == s[21]
+
+
+def test_above_twelve_bits_a_stated_sample():
+    codes = sample_codes(14)
+    assert codes.size == 4095
+    assert codes[0] == 4
+    assert 2**13 in codes
+    assert np.array_equal(sample_codes(12), np.arange(1, 4096))
+
+
+@pytest.mark.parametrize("topology", ["r2r-voltage", "binary-weighted", "r2r-current",
+                                      "segmented"])
+def test_peak_and_settling_match_a_dense_look_at_the_exact_waveform(topology):
+    """The grid + refinement finds what 400,001 evenly spaced samples of the waveform show."""
+    d = Design(topology=topology, bits=5, ron_high=40, ron_low=70, load_c=5e-12, timing=TIMING,
+               thermometer_bits=2)
+    net, tm = build(d), timing_of(d)
+    for c in (16, 11):
+        f = solve_transitions(net, tm, np.array([c - 1]), np.array([c]))
+        t = np.linspace(0, 1e-6, 400_001)
+        y, ys = waveforms(net, tm, c - 1, c, t)
+        assert f.peak[0] == pytest.approx(np.max(np.abs(y - ys)), rel=1e-4)
+        outside = np.nonzero(np.abs(y - y[-1]) > abs(f.lsb) / 2)[0]
+        assert f.settling[0] == pytest.approx(t[outside[-1]], abs=2 * (t[1] - t[0]))
+        # the sampled trapezoid errs by up to |jump|·dt/2 at each jump (a current-steering output
+        # jumps when a leg changes over; ≤ 2 legs per bit here)
+        dt = t[1] - t[0]
+        assert f.impulse[0] == pytest.approx(np.trapezoid(y - ys, t), rel=1e-4,
+                                             abs=2 * d.bits * np.max(np.abs(y - ys)) * dt / 2)
+
+
+def test_break_before_make_holds_the_floating_node():
+    """A string whose tap switch opens (fall) before the next closes (rise): the output node
+    floats and holds its charge meanwhile (no NaN, no decay)."""
+    d = Design(topology="string", bits=4, ron_high=100, load_c=1e-12,
+               timing={"rise": 6e-9, "fall": 1e-9})
+    net, tm = build(d), timing_of(d)
+    t = np.array([0.0, 0.6e-9, 1.0e-9, 2.0e-9, 2.9e-9])
+    y, _ = waveforms(net, tm, 7, 8, t)
+    assert np.all(np.isfinite(y))
+    assert y[2] == pytest.approx(y[4], rel=1e-12)
+
+
+def test_sine_codes_follow_the_formula():
+    c = sine_codes(4, 16, 3, 1.0)  # c_mid = 7.5; halves round upwards
+    n = np.arange(16)
+    assert np.array_equal(c, np.floor(7.5 + 7.5 * np.sin(2 * np.pi * 3 * n / 16) + 0.5))
+    assert c.min() == 0
+    assert c.max() == 15
