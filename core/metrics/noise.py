@@ -8,10 +8,14 @@ network is at one temperature, so the noise at a node is that of its Thevenin re
 - virtual-ground output: the network's Norton noise current √(4kT/rout) and the feedback
   resistor's own noise, both through Rf: √(4kT·Rf·(1 + Rf/rout)) (the amplifier taken noiseless).
 
-RMS over a bandwidth B: density·√B (a brick-wall band; an RC output pole is not folded in).
+RMS over a bandwidth B: density·√B for a brick-wall band; with an RC pole at the output
+(τ = R_th·C, f_c = 1/(2πτ)) the band is folded through it: density·√(f_c·atan(B/f_c)), which
+tends to √(kT/C) as B → ∞ (the single-pole noise bandwidth π·f_c/2).
 """
 
 from __future__ import annotations
+
+import math
 
 import numpy as np
 
@@ -64,6 +68,11 @@ def output_density(net: Network, rout: np.ndarray, temperature_c: float,
     return johnson_density(r, temperature_c) * (abs(o.gain) if o.buffered else 1.0)
 
 
-def rms(density: np.ndarray | float, bandwidth: float) -> np.ndarray:
-    """RMS noise over a brick-wall ``bandwidth`` (Hz) from a white density (V/√Hz), volts."""
-    return np.asarray(density, dtype=float) * np.sqrt(bandwidth)
+def rms(density: np.ndarray | float, bandwidth: float, tau: float = 0.0) -> np.ndarray:
+    """RMS noise over ``bandwidth`` (Hz) from a white density (V/√Hz), volts, through an output
+    pole of time constant ``tau`` (s; 0 or NaN: none, a brick-wall band)."""
+    d = np.asarray(density, dtype=float)
+    if not (tau > 0 and math.isfinite(tau)):
+        return d * np.sqrt(bandwidth)
+    fc = 1.0 / (2 * math.pi * tau)
+    return d * np.sqrt(fc * math.atan(bandwidth / fc))

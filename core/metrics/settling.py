@@ -1,8 +1,8 @@
 """Single-pole settling of an unbuffered output loaded by a capacitance.
 
-The network is resistive, so a capacitance C at its output node makes one pole with
-τ = R_th·C, R_th the output's Thevenin resistance (``rout`` in parallel with ``load_r`` when that
-is finite). Convention: the worst code's R_th, and the time to come within ½ LSB of the final
+The network is resistive, so a capacitance C at its output node (``load_c`` plus
+``timing.node_c``) makes one pole with τ = R_th·C, R_th the output's Thevenin resistance
+(``rout`` in parallel with ``load_r`` when that is finite). Convention: the worst code's R_th, and the time to come within ½ LSB of the final
 value after a full-scale step of (2^N − 1) LSB, t = τ·ln(2·(2^N − 1)).
 
 Outputs behind an ideal amplifier (buffer, virtual ground) settle as fast as the amplifier
@@ -19,6 +19,11 @@ from ..network import Network
 
 CONVENTION = "τ·ln(2·(2^N − 1)): ½ LSB after a full-scale step, worst-code output resistance"
 """How the settling figure is defined, shown beside it."""
+
+
+def output_capacitance(design) -> float:
+    """Capacitance at the output node, F: ``load_c`` plus the timing table's ``node_c``."""
+    return float(design.load_c) + float(design.timing.get("node_c", 0.0))
 
 
 def time_constant(net: Network, rout: np.ndarray, load_c: float) -> float:

@@ -25,7 +25,7 @@ SUMMARY_KEYS: dict[str, tuple[str, str]] = {
     "settling_tau": ("Output time constant", "s"),
     "settling_time": ("Settling to ½ LSB", "s"),
     "noise_density": ("Thermal noise density, worst code", "V/√Hz"),
-    "noise_rms": ("Thermal noise over the bandwidth", "V"),
+    "noise_rms": ("Thermal noise over the bandwidth, through the output pole", "V"),
     "noise_rms_lsb": ("  relative to the LSB", "LSB"),
     "drift_low_c": ("Cold end of the temperature range", "°C"),
     "drift_high_c": ("Hot end of the temperature range", "°C"),
@@ -59,10 +59,10 @@ def part_figures(design: Any, net: Network, sol: Solution
     """
     elements, totals = worst_case(net, sol)
     sw_current, sw_source, sw_sink = switch_maxima(elements)
-    tau = settling.time_constant(net, sol.rout, design.load_c)
+    tau = settling.time_constant(net, sol.rout, settling.output_capacitance(design))
     density = noise.output_density(net, sol.rout, design.temperature_c)
     worst = float(np.max(density))
-    noise_rms = float(noise.rms(worst, design.bandwidth))
+    noise_rms = float(noise.rms(worst, design.bandwidth, tau))
     lsb = abs(net.ideal_lsb)
     out = {
         "power_total_max": totals["power_total_max"],

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+import math
 
 import pytest
 
@@ -21,7 +22,10 @@ def test_compute_json_has_part_figures(capsys):
     leg = res["parts"][0]
     assert leg["ohms"] == pytest.approx(66.5e3)
     assert {"power_max", "power_code"} <= set(leg)
-    assert s["noise_rms"] == pytest.approx(s["noise_density"] * 20e3**0.5, rel=1e-12)
+    # folded through the output pole (load_c = 10 pF): density·√(f_c·atan(B/f_c))
+    fc = 1 / (2 * math.pi * s["settling_tau"])
+    assert s["noise_rms"] == pytest.approx(s["noise_density"] * math.sqrt(fc * math.atan(20e3 / fc)),
+                                           rel=1e-12)
 
 
 def test_bad_series_is_a_bad_input(capsys):

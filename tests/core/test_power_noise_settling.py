@@ -189,3 +189,16 @@ def test_buffer_amplifier_and_rails():
         "amp_offset": 1e-3, "amp_open_loop": 1e3, "rail_low": 0, "rail_high": 3.5})).summary
     assert summary["amp_codes_clipped"] == eff.codes_clipped
     assert "amp_offset_error" not in evaluate(Design(bits=6)).summary
+
+
+def test_noise_folds_in_the_output_pole():
+    """A single RC pole passes √(kT/C) of white resistor noise over all frequencies (common
+    practice: kT/C noise; noise bandwidth π·f_c/2), and the brick-wall figure at B ≪ f_c."""
+    wide = evaluate(Design(bits=8, unit_r=10e3, temperature_c=26.85, bandwidth=1e12,
+                           load_c=100e-12))
+    kt_c = math.sqrt(1.380649e-23 * 300.0 / 100e-12)
+    assert wide.summary["noise_rms"] == pytest.approx(kt_c, rel=1e-3)
+    narrow = evaluate(Design(bits=8, unit_r=10e3, temperature_c=26.85, bandwidth=10.0,
+                             load_c=100e-12))
+    assert narrow.summary["noise_rms"] == pytest.approx(narrow.summary["noise_density"]
+                                                        * math.sqrt(10.0), rel=1e-6)
