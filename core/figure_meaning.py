@@ -19,6 +19,11 @@ from .parts.board import board_value
 SETTLING_KEYS = ("settling_tau", "settling_time")
 """Summary keys of the output's settling."""
 
+GLITCH_KEYS = ("glitch_major", "glitch_peak_major", "glitch_peak_major_lsb", "settling_major",
+               "glitch_worst", "glitch_worst_code", "settling_worst", "settling_worst_code",
+               "settling_full_scale")
+"""Summary keys of the exact transient (``metrics/glitch.py``)."""
+
 DRIFT_KEYS = ("drift_gain_error_low", "drift_gain_error_high", "drift_offset_low",
               "drift_offset_high", "drift_inl_low", "drift_inl_high")
 """Summary keys of the figures at the ends of the temperature range."""
@@ -39,9 +44,17 @@ def has_tempco(design: Any) -> bool:
 def _settling_reason(design: Any) -> str | None:
     if design.output in AMPLIFIER_OUTPUTS:
         return "behind an amplifier, whose speed is not modelled"
-    if design.load_c == 0:
+    from .metrics.settling import output_capacitance
+
+    if output_capacitance(design) == 0:
         return "no load capacitance given"
     return None
+
+
+def _glitch_reason(design: Any) -> str | None:
+    from .metrics.glitch import dynamics_reason
+
+    return dynamics_reason(design)
 
 
 def _drift_reason(design: Any) -> str | None:
@@ -60,15 +73,20 @@ def not_meaningful(design: Any, key: str) -> str | None:
         return _settling_reason(design)
     if key in DRIFT_KEYS:
         return _drift_reason(design)
+    if key in GLITCH_KEYS:
+        return _glitch_reason(design)
     return None
 
 
 def reasons(design: Any, keys: Iterable[str]) -> dict[str, str]:
     """``{key: reason}`` for every key of ``keys`` that means nothing for ``design``."""
+    keys = list(keys)
     settling, drift = _settling_reason(design), _drift_reason(design)
+    glitch = _glitch_reason(design) if set(keys) & set(GLITCH_KEYS) else None
     out = {}
     for key in keys:
-        why = settling if key in SETTLING_KEYS else drift if key in DRIFT_KEYS else None
+        why = (settling if key in SETTLING_KEYS else drift if key in DRIFT_KEYS
+               else glitch if key in GLITCH_KEYS else None)
         if why:
             out[key] = why
     return out

@@ -88,6 +88,14 @@ def no_dynamics_reason(net: Network, timing: Timing) -> str | None:
     return None
 
 
+def dynamics_reason(design) -> str | None:
+    """:func:`no_dynamics_reason` of a design (builds its network)."""
+    from ..timing import timing_of
+    from ..topologies import build
+
+    return no_dynamics_reason(build(design), timing_of(design))
+
+
 class _Grid:
     """Shared evaluation points of a batch: (segment, τ) pairs in time order."""
 

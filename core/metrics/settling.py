@@ -2,8 +2,10 @@
 
 The network is resistive, so a capacitance C at its output node (``load_c`` plus
 ``timing.node_c``) makes one pole with τ = R_th·C, R_th the output's Thevenin resistance
-(``rout`` in parallel with ``load_r`` when that is finite). Convention: the worst code's R_th, and the time to come within ½ LSB of the final
-value after a full-scale step of (2^N − 1) LSB, t = τ·ln(2·(2^N − 1)).
+(``rout`` in parallel with ``load_r`` when that is finite). Convention: the worst code's R_th,
+and the time to come within ½ LSB of the final value after a full-scale step of (2^N − 1) LSB,
+t = τ·ln(2·(2^N − 1)). (``metrics/glitch.py`` solves every transition exactly, every node's
+capacitance and the switches' edges included.)
 
 Outputs behind an ideal amplifier (buffer, virtual ground) settle as fast as the amplifier
 allows, which is not modelled: their settling figures are NaN.

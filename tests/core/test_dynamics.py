@@ -126,3 +126,13 @@ def test_sine_codes_follow_the_formula():
     assert np.array_equal(c, np.floor(7.5 + 7.5 * np.sin(2 * np.pi * 3 * n / 16) + 0.5))
     assert c.min() == 0
     assert c.max() == 15
+
+
+def test_figure_meaning_names_the_reason_for_glitch_rows():
+    from rungwise.core.figure_meaning import not_meaningful
+
+    plain = Design(bits=6)
+    assert "no capacitance" in not_meaningful(plain, "glitch_major")
+    assert "no capacitance" in not_meaningful(plain, "settling_worst_code")
+    assert not_meaningful(plain.replace(timing={"skew": [0, 1e-9]}), "glitch_major") is None
+    assert not_meaningful(plain, "sinad_db") is None
