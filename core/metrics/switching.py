@@ -22,6 +22,7 @@ from dataclasses import dataclass
 import numpy as np
 import scipy.sparse as sp
 
+from ..design import MIN_OHMS
 from ..element_arrays import plain_equivalent
 from ..network import Network
 
@@ -98,7 +99,7 @@ def branches(net: Network, node_c: float, load_c: float) -> Branches:
     if net.selector is not None:
         bit_of += [-1] * len(net.selector.nodes)
         shift_of += [0] * len(net.selector.nodes)
-    plain = plain_equivalent(net)
+    plain = plain_equivalent(net, min_ron=MIN_OHMS)  # an ideal tap switch as 1 mΩ
     fixed = plain.fixed
     nodes = plain.unknown_nodes()
     index = {name: i for i, name in enumerate(nodes)}
