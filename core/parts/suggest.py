@@ -105,13 +105,13 @@ def _figures(design: Any, units: np.ndarray, cancel: Any = None) -> list[Suggest
             if base.output.kind == "virtual-ground":
                 rf = float(ohms_kinds[start + i, column["feedback"]])
                 vout = vout * rf / base.output.feedback_ohms
-            tau = settling.time_constant(base, rout, design.load_c)
+            tau = settling.time_constant(base, rout, settling.output_capacitance(design))
             density = float(np.max(noise.output_density(base, rout, design.temperature_c, rf)))
             lsb = abs(float(linearity.endpoint_lsb(vout)))
             out.append(Suggestion(
                 unit_r=float(r), iref_max=float(np.max(np.abs(sol.iref[i]))),
                 rout_max=float(np.max(rout)), settling_time=settling.settling_time(tau, base.n_codes),
-                noise_lsb=float(noise.rms(density, design.bandwidth)) / lsb if lsb else math.nan,
+                noise_lsb=float(noise.rms(density, design.bandwidth, tau)) / lsb if lsb else math.nan,
                 max_abs_inl=float(np.nanmax(np.abs(linearity.inl_endpoint(vout))))))
     return out
 
