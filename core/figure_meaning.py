@@ -19,10 +19,12 @@ from .parts.board import board_value
 SETTLING_KEYS = ("settling_tau", "settling_time")
 """Summary keys of the output's settling."""
 
-GLITCH_KEYS = ("glitch_major", "glitch_peak_major", "glitch_peak_major_lsb", "settling_major",
-               "glitch_worst", "glitch_worst_code", "settling_worst", "settling_worst_code",
-               "settling_full_scale")
-"""Summary keys of the exact transient (``metrics/glitch.py``)."""
+GLITCH_KEYS = ("glitch_major", "glitch_peak_major", "glitch_peak_major_lsb", "glitch_worst",
+               "glitch_worst_code")
+"""Summary keys of the glitch against the simultaneous step (``metrics/glitch.py``)."""
+
+TRANSIENT_KEYS = ("settling_major", "settling_worst", "settling_worst_code", "settling_full_scale")
+"""Summary keys of the exact transient's settling (``metrics/glitch.py``)."""
 
 DRIFT_KEYS = ("drift_gain_error_low", "drift_gain_error_high", "drift_offset_low",
               "drift_offset_high", "drift_inl_low", "drift_inl_high")
@@ -51,10 +53,10 @@ def _settling_reason(design: Any) -> str | None:
     return None
 
 
-def _glitch_reason(design: Any) -> str | None:
+def _glitch_reason(design: Any, glitch: bool) -> str | None:
     from .metrics.glitch import dynamics_reason
 
-    return dynamics_reason(design)
+    return dynamics_reason(design, glitch=glitch)
 
 
 def _drift_reason(design: Any) -> str | None:
@@ -73,8 +75,8 @@ def not_meaningful(design: Any, key: str) -> str | None:
         return _settling_reason(design)
     if key in DRIFT_KEYS:
         return _drift_reason(design)
-    if key in GLITCH_KEYS:
-        return _glitch_reason(design)
+    if key in GLITCH_KEYS or key in TRANSIENT_KEYS:
+        return _glitch_reason(design, key in GLITCH_KEYS)
     return None
 
 
@@ -82,11 +84,12 @@ def reasons(design: Any, keys: Iterable[str]) -> dict[str, str]:
     """``{key: reason}`` for every key of ``keys`` that means nothing for ``design``."""
     keys = list(keys)
     settling, drift = _settling_reason(design), _drift_reason(design)
-    glitch = _glitch_reason(design) if set(keys) & set(GLITCH_KEYS) else None
+    glitch = _glitch_reason(design, True) if set(keys) & set(GLITCH_KEYS) else None
+    transient = _glitch_reason(design, False) if set(keys) & set(TRANSIENT_KEYS) else None
     out = {}
     for key in keys:
         why = (settling if key in SETTLING_KEYS else drift if key in DRIFT_KEYS
-               else glitch if key in GLITCH_KEYS else None)
+               else glitch if key in GLITCH_KEYS else transient if key in TRANSIENT_KEYS else None)
         if why:
             out[key] = why
     return out

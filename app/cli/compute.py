@@ -16,6 +16,7 @@ from rungwise.core import SUMMARY_KEYS, Evaluation, MonteCarloResult, evaluate, 
 from rungwise.core.errors import RungwiseError
 from rungwise.core.figure_meaning import shown
 from rungwise.core.grades import CRITERIA
+from rungwise.core.metrics.spectrum import percentiles, spectrum_trials
 from rungwise.core.montecarlo import check_run, plan_run
 from rungwise.core.review import DEFER, voltage_cautions
 from rungwise.core.skew import add_skew_figures
@@ -56,7 +57,8 @@ def _plain(x: Any) -> Any:
 
 
 def result_dict(ev: Evaluation, per_code: bool, stats: MonteCarloResult | None = None,
-                grades: dict[str, Any] | None = None) -> dict[str, Any]:
+                grades: dict[str, Any] | None = None, spectrum: dict[str, Any] | None = None
+                ) -> dict[str, Any]:
     """One candidate's JSON object (keys fixed by the command-line contract)."""
     d = ev.design
     out: dict[str, Any] = {
@@ -78,7 +80,25 @@ def result_dict(ev: Evaluation, per_code: bool, stats: MonteCarloResult | None =
         out["statistics"] = stats.to_dict()
         if grades is not None:
             out["statistics"]["grades"] = grades
+        if spectrum is not None:
+            out["statistics"]["spectrum"] = spectrum
     return out
+
+
+def spectrum_statistics(designs: list, trials: int, seed: int) -> list[dict[str, Any]]:
+    """The test sine's SFDR, THD, SINAD and ENOB over the same Monte Carlo boards, as
+    percentiles per candidate: ``{metric: {"p5", "p50", "p95"}}``."""
+    return [percentiles(spectrum_trials(d, trials, seed)) for d in designs]
+
+
+def _spectrum_lines(labels: list[str], spectra: list[dict[str, Any]]) -> list[str]:
+    """Text lines of :func:`spectrum_statistics` for the table output."""
+    lines = ["Test sine over the Monte Carlo boards (5th / 50th / 95th percentile)"]
+    for label, spec in zip(labels, spectra, strict=True):
+        for key, q in spec.items():
+            name, unit = _label_unit(key)
+            lines.append(f"  {label}: {name}: " + " / ".join(f"{q[p]:.4g}" for p in q) + f" {unit}")
+    return lines
 
 
 def _label_unit(key: str) -> tuple[str, str]:
@@ -120,7 +140,8 @@ def render_table(evs: list[Evaluation]) -> str:
 
 
 def render_csv(evs: list[Evaluation], per_code: bool, stats: list[MonteCarloResult] | None = None,
-               grades: list[dict[str, Any] | None] | None = None) -> str:
+               grades: list[dict[str, Any] | None] | None = None,
+               spectra: list[dict[str, Any]] | None = None) -> str:
     """CSV: the summary (metric, one column per candidate), the statistics' ``stat.*`` rows when
     given, then per-code rows if asked."""
     buf = io.StringIO()
@@ -130,6 +151,9 @@ def render_csv(evs: list[Evaluation], per_code: bool, stats: list[MonteCarloResu
         w.writerow([key, *[_plain(e.summary.get(key)) for e in evs]])
     for row in stats_csv_rows(stats, grades) if stats else []:
         w.writerow([row[0], *[_plain(x) for x in row[1:]]])
+    for key in spectra[0] if spectra else []:
+        for q in spectra[0][key]:
+            w.writerow([f"stat.spectrum.{key}.{q}", *[_plain(s[key][q]) for s in spectra]])
     if per_code:
         w.writerow([])
         names = ("vout", "rout", "iref", "inl_endpoint", "inl_bestfit", "dnl", "glitch", "settling")
@@ -181,17 +205,20 @@ def run(args: argparse.Namespace) -> int:
     for line in [*warned, DEFER] if warned else []:  # on stderr: the figures stay machine-readable
         print(f"rungwise: caution: {line}", file=sys.stderr)
     stats, grades = _statistics(args, designs)
+    spectra = spectrum_statistics(designs, stats[0].trials, stats[0].seed) if stats else None
     if args.format == "json":
         none = [None] * len(evs)
-        text = json.dumps({"results": [result_dict(e, args.per_code, s, g) for e, s, g in
-                                       zip(evs, stats or none, grades or none, strict=True)]},
-                          indent=1)
+        text = json.dumps({"results": [result_dict(e, args.per_code, s, g, p) for e, s, g, p in
+                                       zip(evs, stats or none, grades or none, spectra or none,
+                                           strict=True)]}, indent=1)
     elif args.format == "csv":
-        text = render_csv(evs, args.per_code, stats, grades)
+        text = render_csv(evs, args.per_code, stats, grades, spectra)
     else:
         text = render_table(evs)
         if stats:
-            text += "\n\n" + render_stats_table([e.design.label for e in evs], stats, grades)
+            labels = [e.design.label for e in evs]
+            text += "\n\n" + render_stats_table(labels, stats, grades)
+            text += "\n\n" + "\n".join(_spectrum_lines(labels, spectra))
         if args.per_code:
             text += "\n\n" + render_csv(evs, True).split("\n\n", 1)[1]
     sys.stdout.write(text.rstrip("\n") + "\n")

@@ -10,7 +10,7 @@ import numpy as np
 
 from ..network import Network
 from ..timing import timing_of
-from .glitch import TransitionFigures, sample_codes, solve_transitions
+from .glitch import TransitionFigures, no_glitch_reason, sample_codes, solve_transitions
 from .spectrum import design_sine, spectrum_figures
 
 Scope = Literal["all", "major"]
@@ -44,6 +44,7 @@ class Dynamics:
     peak: np.ndarray
     note: str | None
     sample: str
+    glitch_note: str | None = None
 
 
 def major_code(n_codes: int) -> int:
@@ -64,6 +65,10 @@ def dynamic_figures(design: Any, net: Network, vout: np.ndarray, scope: Scope = 
     from_codes = np.concatenate([codes - 1, [0]])
     to_codes = np.concatenate([codes, [n - 1]])
     figs: TransitionFigures = solve_transitions(net, timing, from_codes, to_codes, cancel=cancel)
+    glitch_note = no_glitch_reason(net, timing)
+    if glitch_note is not None:  # no edge timing: the glitch figures mean nothing (never 0)
+        figs.impulse[:] = np.nan
+        figs.peak[:] = np.nan
     per = {name: np.full(n, np.nan) for name in ("glitch", "settling", "peak")}
     for name, arr in (("glitch", figs.impulse), ("settling", figs.settling), ("peak", figs.peak)):
         per[name][codes] = arr[:-1]
@@ -76,18 +81,18 @@ def dynamic_figures(design: Any, net: Network, vout: np.ndarray, scope: Scope = 
         "glitch_peak_major_lsb": float(figs.peak[at_major] / abs(figs.lsb)) if figs.lsb else np.nan,
         "settling_major": float(sett[at_major]),
     }
+    out.update({"glitch_worst": np.nan, "glitch_worst_code": np.nan, "settling_worst": np.nan,
+                "settling_worst_code": np.nan})
     if scope == "all" and figs.reason is None:
-        w = int(np.nanargmax(np.abs(imp)))
         s = int(np.nanargmax(sett))
-        out.update({"glitch_worst": float(imp[w]), "glitch_worst_code": int(codes[w]),
-                    "settling_worst": float(sett[s]), "settling_worst_code": int(codes[s])})
-    else:
-        out.update({"glitch_worst": np.nan, "glitch_worst_code": np.nan, "settling_worst": np.nan,
-                    "settling_worst_code": np.nan})
+        out.update({"settling_worst": float(sett[s]), "settling_worst_code": int(codes[s])})
+    if scope == "all" and glitch_note is None:
+        w = int(np.nanargmax(np.abs(imp)))
+        out.update({"glitch_worst": float(imp[w]), "glitch_worst_code": int(codes[w])})
     out["settling_full_scale"] = float(figs.settling[-1])
     sine, cycles = design_sine(design)
     out.update({k: float(v) for k, v in spectrum_figures(np.asarray(vout)[sine], cycles).items()})
     from .glitch import sample_text
 
     return out, Dynamics(glitch=per["glitch"], settling=per["settling"], peak=per["peak"],
-                         note=figs.reason, sample=sample_text(design.bits))
+                         note=figs.reason, sample=sample_text(design.bits), glitch_note=glitch_note)

@@ -88,12 +88,28 @@ def no_dynamics_reason(net: Network, timing: Timing) -> str | None:
     return None
 
 
-def dynamics_reason(design) -> str | None:
-    """:func:`no_dynamics_reason` of a design (builds its network)."""
+NO_EDGES = ("no switch edge timing given (timing.rise, fall, skew): every switch moves at once, "
+            "so nothing differs from the simultaneous step")
+"""Why the glitch figures mean nothing when every edge is instant and on time."""
+
+
+def no_glitch_reason(net: Network, timing: Timing) -> str | None:
+    """Why the glitch figures (impulse, peak) mean nothing for these inputs, or ``None``."""
+    return no_dynamics_reason(net, timing) or (None if timing.has_edges else NO_EDGES)
+
+
+def dynamics_reason(design, glitch: bool = False) -> str | None:
+    """:func:`no_dynamics_reason` (or with ``glitch`` :func:`no_glitch_reason`) of a design."""
     from ..timing import timing_of
     from ..topologies import build
 
-    return no_dynamics_reason(build(design), timing_of(design))
+    tm = timing_of(design)
+    if glitch and not tm.has_edges:
+        return NO_EDGES
+    if design.topology != "string" and (tm.has_edges or tm.node_c > 0):
+        return None  # only strings outgrow the solver; no need to build
+    net = build(design)
+    return no_glitch_reason(net, tm) if glitch else no_dynamics_reason(net, tm)
 
 
 class _Grid:

@@ -51,9 +51,23 @@ def test_no_capacitance_and_instant_edges_say_so():
     for key in ("glitch_major", "glitch_peak_major", "settling_major", "glitch_worst",
                 "settling_worst", "settling_full_scale"):
         assert math.isnan(ev.summary[key]), key
+        assert ev.no_meaning[key]
     assert ev.dynamics.glitch[0] == 0.0
     assert np.all(np.isnan(ev.dynamics.glitch[1:]))
     assert np.isfinite(ev.summary["sinad_db"])  # the spectrum needs no timing
+
+
+def test_capacitance_without_edges_settles_but_has_no_glitch_figure():
+    ev = evaluate(Design(bits=6, load_c=10e-12))
+    assert ev.dynamics.note is None
+    assert "no switch edge timing" in ev.dynamics.glitch_note
+    assert ev.summary["settling_major"] > 0
+    assert "settling_major" not in ev.no_meaning
+    for key in ("glitch_major", "glitch_peak_major", "glitch_worst"):
+        assert math.isnan(ev.summary[key]), key  # never 0 as if it were a result
+        assert "no switch edge timing" in ev.no_meaning[key]
+    assert np.all(np.isnan(ev.dynamics.glitch[1:]))
+    assert np.all(ev.dynamics.settling[1:] > 0)
 
 
 def test_large_strings_are_refused_by_name():
@@ -132,7 +146,10 @@ def test_figure_meaning_names_the_reason_for_glitch_rows():
     from rungwise.core.figure_meaning import not_meaningful
 
     plain = Design(bits=6)
-    assert "no capacitance" in not_meaningful(plain, "glitch_major")
+    assert "no switch edge timing" in not_meaningful(plain, "glitch_major")
     assert "no capacitance" in not_meaningful(plain, "settling_worst_code")
     assert not_meaningful(plain.replace(timing={"skew": [0, 1e-9]}), "glitch_major") is None
+    assert not_meaningful(plain.replace(load_c=1e-12), "settling_major") is None
+    assert "64 nodes" in not_meaningful(Design(topology="string", bits=7, load_c=1e-12),
+                                        "settling_major")
     assert not_meaningful(plain, "sinad_db") is None

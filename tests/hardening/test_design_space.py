@@ -18,7 +18,7 @@ from rungwise.core import designfile as dfile
 from rungwise.core.build_style import BUILD_OPTIONS
 from rungwise.core.design import MAX_OHMS, MIN_OHMS
 from rungwise.core.errors import RungwiseError
-from rungwise.core.figure_meaning import GLITCH_KEYS
+from rungwise.core.figure_meaning import GLITCH_KEYS, TRANSIENT_KEYS
 from rungwise.core.metrics.amplifier import has_amplifier
 from rungwise.core.mismatch import CHOICE_SETTINGS, NUMERIC_SETTINGS
 from rungwise.core.parts.board import BOARD_KEYS
@@ -42,8 +42,9 @@ def _allowed_non_finite(ev, key: str) -> bool:
         return (s["amp_codes_clipped"] > 0 or s["amp_gain_error"] == -1.0) and math.isnan(s[key])
     if key.startswith("drift_"):  # metrics/drift.py: NaN where 1 + α·ΔT takes a part to ≤ 0 Ω
         return math.isnan(s[key]) and _coefficient_breaks_down(ev.design)
-    if key in GLITCH_KEYS:  # metrics/glitch.py: NaN when the inputs give no dynamics (its note)
-        return math.isnan(s[key]) and ev.dynamics.note is not None
+    if key in GLITCH_KEYS + TRANSIENT_KEYS:  # metrics/glitch.py: NaN when the inputs give no
+        # dynamics, with the reason beside it
+        return math.isnan(s[key]) and key in ev.no_meaning
     if key in {"rout_max", "rout_min"}:  # an output fed by a current with no resistive path
         return math.isinf(s[key]) and s[key] > 0
     if key in {"worst_case_min_step", "worst_case_transition"}:  # worst_case.py: NaN where no
