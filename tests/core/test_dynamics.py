@@ -153,3 +153,18 @@ def test_figure_meaning_names_the_reason_for_glitch_rows():
     assert "64 nodes" in not_meaningful(Design(topology="string", bits=7, load_c=1e-12),
                                         "settling_major")
     assert not_meaningful(plain, "sinad_db") is None
+
+
+def test_segmented_sweep_major_carry_glitch_falls_with_m():
+    """At the major carry one segment (2^L LSB, L = N − M) rises while the L binary bits
+    (2^L − 1 LSB) fall, so the impulse is −LSB·(2^L·rise − (2^L − 1)·fall)/2 (first-moment
+    identity, from memory): it halves with every thermometer bit added."""
+    from rungwise.core.sweep import sweep
+
+    d = Design(topology="segmented", bits=10, load_c=10e-12,
+               timing={"rise": 4e-9, "fall": 1e-9, "node_c": 1e-12})
+    m, g = sweep([d], "thermometer_bits", list(range(1, 11))).series(0, "glitch_major")
+    lsb = d.vref / 2**10
+    span = 2.0 ** (10 - m)
+    np.testing.assert_allclose(g, -lsb * (span * 4e-9 - (span - 1) * 1e-9) / 2, rtol=1e-9)
+    assert np.all(np.diff(np.abs(g)) < 0)
