@@ -35,5 +35,7 @@ VIEWS: list[ViewEntry] = [
     ViewEntry("parts_pane", "Parts", "rungwise.app.views.parts", "PartsPane"),
     ViewEntry("explorer_pane", "Trade-offs", "rungwise.app.views.explorer", "ExplorerPane"),
     ViewEntry("schematic_pane", "Schematic", "rungwise.app.views.schematic", "SchematicPane"),
+    ViewEntry("dynamics_pane", "Switching and spectrum", "rungwise.app.views.dynamics",
+              "DynamicsPane"),
 ]
 """Registered views, in tab order."""

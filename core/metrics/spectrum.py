@@ -67,11 +67,11 @@ def spectrum_figures(values: np.ndarray, cycles: int) -> dict[str, np.ndarray]:
 
 
 def spectrum_db(values: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Bin numbers 0 … S/2 and power relative to the largest bin other than DC, dB (for plots)."""
-    p = bin_powers(np.asarray(values, float))
-    ref = np.max(p[1:]) if p.size > 1 else 1.0
-    with np.errstate(divide="ignore"):
-        return np.arange(p.size), 10 * np.log10(np.maximum(p, 1e-300) / ref)
+    """Bins 1 … S/2 (DC left out, as in the figures) and their power relative to the largest
+    of them, dB (for plots)."""
+    p = bin_powers(np.asarray(values, float))[1:]
+    ref = np.max(p) if p.size else 1.0
+    return np.arange(1, p.size + 1), 10 * np.log10(np.maximum(p, 1e-300) / ref)
 
 
 def design_sine(design) -> tuple[np.ndarray, int]:
