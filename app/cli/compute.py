@@ -192,7 +192,7 @@ def _statistics(args: argparse.Namespace, designs: list
     if not args.grades:
         return results, None
     curves = grade_curves(designs, trials, seed, targets, args.criterion)
-    return results, [None if c is None else grades_dict(c, targets.min_yield) for c in curves]
+    return results, [None if c is None else grades_dict(c, targets.min_yield, targets) for c in curves]
 
 
 def run(args: argparse.Namespace) -> int:

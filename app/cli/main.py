@@ -14,10 +14,10 @@ from types import ModuleType
 
 from rungwise.core.errors import RungwiseError
 
-from . import bom, compute, diagnose, export, netlist, new, report, sweep
+from . import bom, compute, diagnose, export, netlist, new, report, search, sweep
 
 COMMANDS: dict[str, ModuleType] = {
-    m.NAME: m for m in (compute, new, export, report, bom, diagnose, sweep, netlist)}
+    m.NAME: m for m in (compute, new, export, report, bom, diagnose, sweep, netlist, search)}
 """Command name → module implementing it."""
 
 EXIT_OK, EXIT_INTERNAL, EXIT_BAD_INPUT = 0, 1, 2

@@ -7,6 +7,7 @@ from typing import Any
 from rungwise.core.design import Design
 from rungwise.core.grades import STANDARD_GRADES, YieldCurve, yield_vs_tolerance
 from rungwise.core.mismatch import MismatchModel
+from rungwise.core.nominal_reason import loosest_grade_words
 from rungwise.core.stats_result import PERCENTILES, STAT_UNITS, YIELDS, MonteCarloResult
 from rungwise.core.units import format_value
 
@@ -63,12 +64,17 @@ def grade_curves(designs: list[Design], trials: int, seed: int, targets: Any, cr
             yield_vs_tolerance(d, STANDARD_GRADES, trials, seed, targets, criterion) for d in designs]
 
 
-def grades_dict(curve: YieldCurve, target: float) -> dict[str, Any]:
-    """A curve as plain values: criterion, target, yield per grade, loosest passing grade."""
+def grades_dict(curve: YieldCurve, target: float, targets: Any = None) -> dict[str, Any]:
+    """A curve as plain values: criterion, target, yield per grade, loosest passing grade, and
+    ``reason``: when none passes, why in words (the nominal design's real reason when it already
+    fails)."""
+    loosest = curve.loosest(target)
+    reason = "" if loosest is not None else loosest_grade_words(
+        curve.design, None, float(min(curve.steps)), targets, curve.criterion)
     return {"criterion": curve.criterion, "target_yield": target,
             "curve": [{"tolerance": float(g), "yield": y.value, "stderr": y.stderr}
                       for g, y in zip(curve.steps, curve.yields, strict=True)],
-            "loosest": curve.loosest(target)}
+            "loosest": loosest, "reason": reason}
 
 
 def _grade_rows(grades: list[dict[str, Any] | None]) -> list[list[str]]:
@@ -78,8 +84,8 @@ def _grade_rows(grades: list[dict[str, Any] | None]) -> list[list[str]]:
         label = f"Yield ({first['criterion']}) at ±{point['tolerance'] * 100:g} %"
         rows.append([label, *["—" if g is None else f"{g['curve'][i]['yield'] * 100:.2f} %"
                               for g in grades]])
-    loosest = ["—" if g is None else "none" if g["loosest"] is None else f"±{g['loosest'] * 100:g} %"
-               for g in grades]
+    loosest = ["—" if g is None else f"±{g['loosest'] * 100:g} %" if g["loosest"] is not None
+               else "none (see below)" for g in grades]
     rows.append([f"Loosest grade for {first['target_yield'] * 100:g} %", *loosest])
     return rows
 
@@ -91,11 +97,14 @@ def render_stats_table(labels: list[str], results: list[MonteCarloResult],
     rows = [["Statistics", *labels]]
     for i, (label, _) in enumerate(per[0]):
         rows.append([label, *[p[i][1] for p in per]])
+    notes = []
     if grades and any(g is not None for g in grades):
         rows += _grade_rows(grades)
+        notes = [f"{label}: loosest grade: {g['reason']}" for label, g in zip(labels, grades, strict=True)
+                 if g is not None and g["loosest"] is None and g.get("reason")]
     widths = [max(len(row[i]) for row in rows) for i in range(len(rows[0]))]
-    return "\n".join("  ".join(c.ljust(w) for c, w in zip(row, widths, strict=True)).rstrip()
-                     for row in rows)
+    return "\n".join(["  ".join(c.ljust(w) for c, w in zip(row, widths, strict=True)).rstrip()
+                      for row in rows] + notes)
 
 
 def stats_csv_rows(results: list[MonteCarloResult], grades: list[dict[str, Any] | None] | None = None

@@ -272,6 +272,8 @@ class StatisticsPane(QWidget):
             y = getattr(r, f"yield_{req.criterion}") if r is not None else None
             ok = y is not None and y.value >= req.target_yield
             need = grade_text(outcome.loosest(i)) if outcome.curves[i] is not None else "—"
+            if outcome.loosest(i) is None and i < len(outcome.reasons) and outcome.reasons[i]:
+                need = outcome.reasons[i]
             lines.append(f"{d.label}: {'meets' if ok else 'misses'} {req.target_yield * 100:g} % "
                          f"({rule}); loosest grade that meets it: {need}"
                          + (f" ({outcome.notes[i]})" if outcome.notes[i] else ""))
@@ -287,7 +289,10 @@ class StatisticsPane(QWidget):
                 cells.append(getattr(r, key).text() if r is not None and r.done else "…")
             curve = outcome.curves[i]
             full = curve is not None and len(curve.yields) == len(curve.steps)
-            cells.append(grade_text(outcome.loosest(i)) if full else (outcome.notes[i] or "…"))
+            cell = grade_text(outcome.loosest(i)) if full else (outcome.notes[i] or "…")
+            if full and i < len(outcome.reasons) and outcome.reasons[i].startswith("none"):
+                cell = "none: the nominal design already fails"
+            cells.append(cell)
             for j, text in enumerate(cells):
                 item = QTableWidgetItem(text)
                 item.setTextAlignment(Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignVCenter)

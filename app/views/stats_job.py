@@ -13,6 +13,7 @@ from rungwise.core import Design, iter_monte_carlo
 from rungwise.core.errors import DesignError
 from rungwise.core.grades import STANDARD_GRADES, YieldCurve, iter_yield_vs_tolerance, with_tolerance
 from rungwise.core.mismatch import MismatchModel
+from rungwise.core.nominal_reason import loosest_grade_words
 from rungwise.core.stats_result import MonteCarloResult
 from rungwise.core.targets import Targets
 
@@ -38,6 +39,9 @@ class StatsOutcome:
     results: list[MonteCarloResult | None]
     curves: list[YieldCurve | None]
     notes: list[str]
+    reasons: list[str] = field(default_factory=list)
+    """Per candidate: the loosest-grade answer in words when no grade passes (the nominal design's
+    real reason, ``nominal_reason.loosest_grade_words``), else ""."""
 
     def loosest(self, i: int) -> float | None:
         """Loosest standard grade meeting the target yield for candidate ``i``."""
@@ -62,7 +66,7 @@ def statistics_job(request: StatsRequest) -> Any:
         n = len(request.designs)
         steps = 1 + len(STANDARD_GRADES)
         total = n * steps * request.trials
-        outcome = StatsOutcome(request, [None] * n, [None] * n, [""] * n)
+        outcome = StatsOutcome(request, [None] * n, [None] * n, [""] * n, [""] * n)
         for i, base in enumerate(request.designs):
             design, note = _at_grade(base, request.grade)
             outcome.notes[i] = note
@@ -81,6 +85,9 @@ def statistics_job(request: StatsRequest) -> Any:
                 yield Progress((i * steps + 1 + len(curve.yields)) * request.trials, total, outcome)
             if cancel.is_set():
                 return
+            if outcome.loosest(i) is None:
+                outcome.reasons[i] = loosest_grade_words(base, None, STANDARD_GRADES[0],
+                                                         request.targets, request.criterion)
         yield outcome
 
     return job

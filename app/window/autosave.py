@@ -11,6 +11,7 @@ to look at, never offered again) and listed in :attr:`Autosave.set_aside` with t
 from __future__ import annotations
 
 import contextlib
+import dataclasses
 import os
 import re
 from dataclasses import dataclass
@@ -69,7 +70,7 @@ class Autosave:
         settings = dict(doc.settings)
         if source is not None:
             settings[SOURCE_KEY] = str(source)
-        copy = DesignFile(doc.candidates, settings, doc.analysis, doc.targets)
+        copy = dataclasses.replace(doc, settings=settings)
         try:
             self.folder.mkdir(parents=True, exist_ok=True)
             designfile.save(self.path, copy)

@@ -92,6 +92,9 @@ class FileFeatures(QObject):
         the statistics view takes the file's trial count and seed."""
         self.analysis_targets = doc
         self.history.reset()
+        pane = self.window.findChild(QWidget, "search_pane")
+        if pane is not None:
+            pane.load_file_tables(doc)
         trials, seed = self._stats_controls()
         if doc is not None and trials is not None and seed is not None:
             trials.setValue(doc.analysis.trials)
@@ -124,15 +127,19 @@ class FileFeatures(QObject):
             return base
 
     def document(self) -> DesignFile:
-        """The comparison as a design file (the open file's targets and other settings kept)."""
+        """The comparison as a design file (the open file's targets, search question and other
+        settings kept; the prices as the design-search view holds them)."""
         state = self.window.model.state
         opened = self.analysis_targets
         settings = dict(opened.settings) if opened is not None else {}
         settings["colours"] = [c.colour for c in state.candidates]
+        pane = self.window.findChild(QWidget, "search_pane")
+        cost = opened.cost if opened is not None else None
+        if pane is not None and pane.cost.to_dict():
+            cost = pane.cost
         return DesignFile(candidates=state.designs, settings=settings, analysis=self.analysis(),
                           targets=opened.targets if opened is not None else Targets(),
-                          search=opened.search if opened is not None else None,
-                          cost=opened.cost if opened is not None else None)
+                          search=opened.search if opened is not None else None, cost=cost)
 
     def saved(self, path: Path) -> None:
         """The comparison was written to ``path``."""

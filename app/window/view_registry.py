@@ -37,5 +37,6 @@ VIEWS: list[ViewEntry] = [
     ViewEntry("schematic_pane", "Schematic", "rungwise.app.views.schematic", "SchematicPane"),
     ViewEntry("dynamics_pane", "Switching and spectrum", "rungwise.app.views.dynamics",
               "DynamicsPane"),
+    ViewEntry("search_pane", "Cheapest design", "rungwise.app.views.search", "SearchPane"),
 ]
 """Registered views, in tab order."""
