@@ -116,3 +116,23 @@ def file_search(doc: DesignFile, executor: Executor | None = None, cancel: Any =
         if progress is not None:
             progress(step.fraction)
     return None if last is None else last.result
+
+
+def answer_lines(doc: DesignFile, cancel: Any = None, executor: Executor | None = None,
+                 rows: int = 5) -> list[str]:
+    """The search's question and answer as plain lines for a report (empty when ``doc`` holds no
+    ``[search]`` or the run was cancelled). Runs the search here (points in a process pool
+    unless ``executor`` is given); ``cancel.is_set()`` stops it between points."""
+    result = file_search(doc, executor, cancel)
+    if result is None or result.cancelled:
+        return []
+    s = search_summary(result, cost=doc.cost, rows=rows)
+    out = [f"Question: {line}" for line in s.question]
+    out.append(f"Answer: {s.answer}")
+    if s.cost_lines:
+        out.append("Cost of the answer: " + "; ".join(s.cost_lines))
+    out += [f"Cheapest judged: {r[0]} — cost {r[1]} ({s.prices}), {r[2]}, yield {r[3]} over "
+            f"{r[4]} boards" for r in s.rows]
+    out += [f"Why it lost: {line}" for line in s.why_lost]
+    out.append(f"Method: {s.method}.")
+    return out

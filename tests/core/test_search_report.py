@@ -37,3 +37,19 @@ def test_file_search_and_summary() -> None:
 def test_no_search_table_no_result() -> None:
     assert file_search(DesignFile([Design()])) is None
     assert CostTable().source in search_summary(file_search(_doc(), InlineExecutor())).prices
+
+
+def test_answer_lines_for_the_report():
+    import threading
+
+    from rungwise.core.search_report import answer_lines
+
+    lines = answer_lines(_doc(), executor=InlineExecutor())
+    assert lines[0].startswith("Question: Which is the cheapest 6-bit design")
+    assert any(line.startswith("Answer: Cheapest design that meets every target") for line in lines)
+    assert any("invented example prices" in line for line in lines)
+    assert lines[-1].startswith("Method: nominal figures prune first")
+    assert answer_lines(DesignFile([Design()])) == []
+    stop = threading.Event()
+    stop.set()
+    assert answer_lines(_doc(), cancel=stop, executor=InlineExecutor()) == []
