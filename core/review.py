@@ -123,7 +123,8 @@ def recommend(evs: Sequence[Evaluation], targets: Targets,
     passing = [i for i, v in enumerate(verdicts) if v.passes]
     if not passing:
         misses = "; ".join(f"{v.label}: {', '.join(v.failures)}" for v in verdicts)
-        return Recommendation(None, f"No candidate meets the targets ({wanted}). {misses}.", verdicts)
+        return Recommendation(None, f"No candidate meets the targets ({wanted}). {misses}."
+                              + _nominal_reasons(evs, targets), verdicts)
     best = min(passing, key=lambda i: (verdicts[i].parts, verdicts[i].inl, i))
     v = verdicts[best]
     figures = f"max |INL| {v.inl:.3g} LSB, max |DNL| {v.dnl:.3g} LSB"
@@ -139,6 +140,19 @@ def recommend(evs: Sequence[Evaluation], targets: Targets,
         fewer = f"{v.parts} parts; it is the only candidate that meets them"
     return Recommendation(best, f"Recommended: {v.label} — meets the targets ({wanted}) with "
                           f"{figures}, using {fewer}.", verdicts)
+
+
+def _nominal_reasons(evs: Sequence[Evaluation], targets: Targets) -> str:
+    """`` Label: The nominal design already fails …`` for each candidate whose nominal figures
+    miss a target (no tolerance grade can help it; the reason names the cause and a change)."""
+    from .nominal_reason import nominal_failure  # local: it evaluates variants of the design
+
+    out = []
+    for ev in evs:
+        failure = nominal_failure(ev.design, targets, summary=ev.summary)
+        if failure is not None:
+            out.append(f" {ev.design.label}: {failure.text()}")
+    return "".join(out)
 
 
 # --- cautions ------------------------------------------------------------------------------

@@ -7,6 +7,7 @@ targets (limits), and how yields are decided. Saved as a design file's ``[search
     unit_r = "4.7k-47k"             # R from unit_series over this range (default: the base's R)
     unit_series = "E6"
     series = ["E24", "E96"]         # part series tried
+    builds = ["as-designed", "binary=unit-array"]   # build styles tried (default: the base's)
     grades = ["1%", "0.5%", "0.25%", "0.1%", "0.05%"]
     criterion = "all"               # all | monotonic | dnl | inl
     target_yield = 0.99             # default: [targets] min_yield
@@ -28,6 +29,7 @@ from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass, field, fields, replace
 from typing import Any
 
+from .build_style import check_build, unused_build_keys
 from .design import Design
 from .errors import DesignError
 from .grades import CRITERIA
@@ -148,6 +150,39 @@ def parse_grades(text: Any) -> tuple[float, ...]:
     return tuple(sorted(out, reverse=True))
 
 
+AS_DESIGNED = "as-designed"
+"""The build-style entry meaning the base design's own build table."""
+
+
+def parse_builds(text: Any) -> tuple[str, ...]:
+    """``"as-designed, binary=unit-array"`` or a list → checked entries (``key=value`` or
+    ``as-designed``; several keys joined with ``+``)."""
+    items = text if isinstance(text, Sequence) and not isinstance(text, str) else str(text).split(",")
+    out = []
+    for item in items:
+        entry = str(item).strip()
+        if entry and entry not in out:
+            build_of(entry, {})  # refuses a bad key or value
+            out.append(entry)
+    if not out:
+        raise DesignError("builds", f"give at least one build style, e.g. {AS_DESIGNED}")
+    return tuple(out)
+
+
+def build_of(entry: str, base: Mapping[str, str]) -> dict[str, str]:
+    """The build table of one entry applied to ``base``'s."""
+    if entry == AS_DESIGNED:
+        return dict(base)
+    table = dict(base)
+    for part in entry.split("+"):
+        key, sep, value = part.strip().partition("=")
+        if not sep:
+            raise DesignError("builds", f"{entry!r} is not {AS_DESIGNED} or key=value, e.g. "
+                              "binary=unit-array")
+        table[key.strip()] = value.strip()
+    return check_build(table)
+
+
 def parse_series(text: Any) -> tuple[str, ...]:
     """``"exact,E96"`` or a list → series names."""
     items = text if isinstance(text, Sequence) and not isinstance(text, str) else str(text).split(",")
@@ -176,6 +211,7 @@ class SearchQuestion:
     unit_r: tuple[float, ...] = ()
     series: tuple[str, ...] = DEFAULT_SERIES
     grades: tuple[float, ...] = DEFAULT_GRADES
+    builds: tuple[str, ...] = ()
     criterion: str = "all"
     target_yield: float | None = None
     trials: int = 4000
@@ -222,16 +258,29 @@ class SearchQuestion:
 
     def networks_of(self, base: Design) -> list[Design]:
         """Every network (grade not yet chosen) of the space around ``base``."""
-        out = []
+        out, seen = [], set()
         for topo, output in self.network_choices(base):
             if topo == "string" and base.bits > MAX_ARRAY_BITS:
                 continue
+            shaped = base.replace(topology=topo, output=output, name="", parts={})
+            unused = unused_build_keys(shaped)
+            builds = []
+            for entry in self.builds or (AS_DESIGNED,):
+                table = build_of(entry, base.build)
+                table = {k: v for k, v in table.items() if k not in unused}
+                if table not in builds:
+                    builds.append(table)
             for m in self.m_choices(base) if topo == "segmented" else (None,):
                 for r in self.unit_r or (base.unit_r,):
                     for s in self.series:
-                        out.append(base.replace(topology=topo, output=output, thermometer_bits=m
-                                                if m is not None else base.thermometer_bits,
-                                                unit_r=r, series=s, name="", parts={}))
+                        for b in builds:
+                            d = shaped.replace(thermometer_bits=m if m is not None
+                                               else base.thermometer_bits, unit_r=r, series=s,
+                                               build=b, parts={})
+                            key = repr(sorted(d.to_dict().items()))
+                            if key not in seen:
+                                seen.add(key)
+                                out.append(d)
         return out
 
     def size(self, base: Design) -> int:
@@ -265,6 +314,8 @@ class SearchQuestion:
                 kw["series"] = parse_series(data["series"])
             if "grades" in data:
                 kw["grades"] = parse_grades(data["grades"])
+            if "builds" in data:
+                kw["builds"] = parse_builds(data["builds"])
             for key in ("criterion", "method"):
                 if key in data:
                     kw[key] = str(data[key])
@@ -296,6 +347,8 @@ class SearchQuestion:
             out["unit_r"] = list(self.unit_r)
         out["series"] = list(self.series)
         out["grades"] = [f"{g * 100:g}%" for g in self.grades]
+        if self.builds:
+            out["builds"] = list(self.builds)
         out.update(criterion=self.criterion, trials=int(self.trials), seed=int(self.seed),
                    confidence=self.confidence, method=self.method, ratings=self.ratings)
         if self.target_yield is not None:

@@ -98,7 +98,9 @@ class SearchPoint:
         """Short words: network, M, R, series and grade."""
         d = self.design
         m = f", M = {d.thermometer_bits}" if d.topology == "segmented" else ""
-        return f"{self.network}{m}, R = {format_value(d.unit_r, 'Ω')}, {d.series}, ±{self.grade * 100:g} %"
+        build = "".join(f", {k} {v}" for k, v in sorted(d.build.items()))
+        return (f"{self.network}{m}{build}, R = {format_value(d.unit_r, 'Ω')}, {d.series}, "
+                f"±{self.grade * 100:g} %")
 
     def to_dict(self) -> dict[str, Any]:
         """The JSON entry of the command-line contract (plus the breakdown and decision)."""

@@ -44,6 +44,9 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--grades", metavar="LIST", help="tolerance grades, e.g. 1%%,0.5%%,0.1%%")
     p.add_argument("--series", metavar="LIST", help="part series, e.g. exact,E24,E96")
     p.add_argument("--thermometer-bits", metavar="RANGE", help="segmented M, e.g. 0-6 or 2,4")
+    p.add_argument("--build", action="append", metavar="STYLE",
+                   help="build styles to try (repeatable): as-designed, binary=unit-array, "
+                        "two_r=two-units, lsb_section=unit-array (default: the base's)")
     p.add_argument("--unit-r", metavar="RANGE", help="unit R range (values of --unit-series) or "
                    "list, e.g. 1k-100k or 4k7,10k")
     p.add_argument("--unit-series", default=None, metavar="E6",
@@ -71,6 +74,7 @@ def question_from(args: argparse.Namespace, base_question: SearchQuestion | None
     """The file's question (or the default) with every given option applied."""
     texts = {"topologies": args.topology, "grades": args.grades, "series": args.series,
              "thermometer_bits": args.thermometer_bits, "unit_r": args.unit_r,
+             "builds": args.build,
              "unit_series": args.unit_series, "target_yield": args.target_yield,
              "confidence": args.confidence, "criterion": args.criterion, "trials": args.trials,
              "seed": args.seed, "method": args.method, "max_iref": args.max_iref,

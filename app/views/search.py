@@ -59,6 +59,8 @@ FIELDS = {
     "series": ("Series", ", ".join(DEFAULT_SERIES), "part series to try: exact, E24 … E192"),
     "grades": ("Tolerance grades", ", ".join(f"{g * 100:g}%" for g in DEFAULT_GRADES),
                "grades to try"),
+    "builds": ("Build styles", "as-designed", "as-designed, binary=unit-array, two_r=two-units, "
+               "lsb_section=unit-array"),
     "max_iref": ("Largest reference current", "", "optional, e.g. 1m (A)"),
     "max_rout": ("Largest output resistance", "", "optional, e.g. 20k (Ω)"),
     "max_settling": ("Longest settling to ½ LSB", "", "optional, e.g. 2u (s); needs a load "
@@ -192,6 +194,7 @@ class SearchPane(QWidget):
                      "thermometer_bits"][1],
                  "unit_r": ", ".join(f"{r:g}" for r in q.unit_r),
                  "series": ", ".join(q.series), "grades": ", ".join(f"{g * 100:g}%" for g in q.grades),
+                 "builds": ", ".join(q.builds) or FIELDS["builds"][1],
                  **{k: (f"{getattr(q, k):g}" if math.isfinite(getattr(q, k)) else "")
                     for k in ("max_iref", "max_rout", "max_settling")}}
         for key, text in texts.items():

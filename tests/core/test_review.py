@@ -126,3 +126,15 @@ def test_failing_bill_of_materials_is_reported_not_raised(monkeypatch):
     assert notes[0] == (f"{DEMO_BASE.label}: part ratings not checked — the bill of materials could not be "
                         "made (KeyError: 'leg9').")
     assert notes[-1] == DEFER
+
+
+def test_no_candidate_meets_because_the_nominal_design_fails_says_why():
+    from rungwise.core import Design, evaluate
+    from rungwise.core.review import recommend
+    from rungwise.core.targets import Targets
+
+    switched = Design(topology="r2r-voltage", bits=12, ron_high=40, ron_low=25, name="Switched")
+    rec = recommend([evaluate(switched)], Targets())
+    assert rec.chosen is None
+    assert "Switched: The nominal design already fails before any part mismatch" in rec.text
+    assert "switch resistance" in rec.text

@@ -234,3 +234,19 @@ def test_on_chip_model_is_refused() -> None:
     base = Design(topology="r2r-voltage", bits=6, mismatch={"model": "on-chip"})
     with pytest.raises(DesignError, match="on-chip"):
         search(base, _r2r_question(), executor=InlineExecutor())
+
+
+def test_build_styles_are_part_of_the_space() -> None:
+    """A binary-weighted divider built one part per bit has N resistors, as a unit-element array
+    2^N − 1 (bit k = 2^k units; hand count, common practice)."""
+    base = Design(topology="binary-weighted", output="divider", bits=4)
+    q = SearchQuestion.from_dict({"topologies": ["binary-weighted:divider", "r2r-voltage"],
+                                  "builds": ["as-designed", "binary=unit-array"],
+                                  "series": ["exact"], "grades": ["0.1%"], "trials": 400})
+    result = search(base, q, executor=InlineExecutor())
+    counts = sorted((dict(p.design.build).get("binary", "per-bit"), p.counts()[0])
+                    for p in result.points if p.design.topology == "binary-weighted")
+    assert counts == [("per-bit", 4), ("unit-array", 15)]
+    ladders = [p for p in result.points if p.design.topology == "r2r-voltage"]
+    assert len(ladders) == 1  # the binary build key does not apply to a ladder: no duplicate
+    assert any("binary unit-array" in p.describe() for p in result.points)
