@@ -13,9 +13,9 @@ from dataclasses import dataclass, field
 from typing import Any
 
 from .evaluate import Evaluation
+from .formatting import format_percent, format_quantity
 from .parts.bom import bill_of_materials
 from .targets import Targets
-from .units import format_value
 
 SAFE_DC_VOLTS = 60.0
 """Volts DC above which the review adds a shock-hazard caution (from memory: the usual ripple-free
@@ -74,25 +74,26 @@ def judge(ev: Evaluation, targets: Targets, yield_all: float | None = None) -> V
     fails = []
     line = "endpoint" if targets.inl_line == "endpoint" else "best-fit"
     if not inl <= targets.max_inl_lsb:
-        fails.append(f"max |INL| ({line}) {inl:.3g} LSB > {targets.max_inl_lsb:g}")
+        fails.append(f"max |INL| ({line}) {format_quantity(inl, 'LSB')} > "
+                     f"{format_quantity(targets.max_inl_lsb)}")
     if not dnl <= targets.max_dnl_lsb:
-        fails.append(f"max |DNL| {dnl:.3g} LSB > {targets.max_dnl_lsb:g}")
+        fails.append(f"max |DNL| {format_quantity(dnl, 'LSB')} > {format_quantity(targets.max_dnl_lsb)}")
     if targets.monotonic and not mono:
         fails.append("not monotonic")
     if yield_all is not None and not yield_all >= targets.min_yield:
-        fails.append(f"yield {yield_all * 100:.3g} % < {targets.min_yield * 100:g} %")
+        fails.append(f"yield {format_percent(yield_all)} < {format_percent(targets.min_yield)}")
     return Verdict(ev.design.label, part_count(s), inl, dnl, mono, yield_all, fails)
 
 
 def describe_targets(targets: Targets, with_yield: bool = False) -> str:
     """The targets in words, e.g. ``max |INL| ≤ 0.5 LSB (endpoint), max |DNL| ≤ 0.5 LSB, monotonic``."""
     line = "endpoint" if targets.inl_line == "endpoint" else "best fit"
-    words = [f"max |INL| ≤ {targets.max_inl_lsb:g} LSB ({line})",
-             f"max |DNL| ≤ {targets.max_dnl_lsb:g} LSB"]
+    words = [f"max |INL| ≤ {format_quantity(targets.max_inl_lsb, 'LSB')} ({line})",
+             f"max |DNL| ≤ {format_quantity(targets.max_dnl_lsb, 'LSB')}"]
     if targets.monotonic:
         words.append("monotonic")
     if with_yield:
-        words.append(f"yield ≥ {targets.min_yield * 100:g} %")
+        words.append(f"yield ≥ {format_percent(targets.min_yield)}")
     return ", ".join(words)
 
 
@@ -127,9 +128,9 @@ def recommend(evs: Sequence[Evaluation], targets: Targets,
                               + _nominal_reasons(evs, targets), verdicts)
     best = min(passing, key=lambda i: (verdicts[i].parts, verdicts[i].inl, i))
     v = verdicts[best]
-    figures = f"max |INL| {v.inl:.3g} LSB, max |DNL| {v.dnl:.3g} LSB"
+    figures = f"max |INL| {format_quantity(v.inl, 'LSB')}, max |DNL| {format_quantity(v.dnl, 'LSB')}"
     if v.yield_all is not None:
-        figures += f", yield {v.yield_all * 100:.3g} %"
+        figures += f", yield {format_percent(v.yield_all)}"
     others = len(passing) - 1
     if others:
         fewer = (f"the fewest parts ({v.parts}) of the {len(passing)} candidates that meet them"
@@ -172,7 +173,7 @@ def voltage_cautions(evs: Sequence[Evaluation]) -> list[str]:
     for ev in evs:
         volts = max(abs(ev.design.vref), float(abs(ev.vout).max()))
         if volts > SAFE_DC_VOLTS:
-            out.append(f"{ev.design.label}: voltages up to {format_value(volts, 'V')} exceed "
+            out.append(f"{ev.design.label}: voltages up to {format_quantity(volts, 'V')} exceed "
                        f"{SAFE_DC_VOLTS:g} V DC, above the usual safety extra-low-voltage limit; "
                        "the circuit needs insulation, spacing and protection by a qualified person.")
     return out
@@ -194,6 +195,6 @@ def cautions(evs: Sequence[Evaluation]) -> list[str]:
                 out.append(f"{label}: {line.designators} ({line.kind}): {line.note}.")
         iref = float(ev.summary.get("iref_max", math.nan))
         if math.isfinite(iref) and abs(iref) > 0.1:
-            out.append(f"{label}: the reference must deliver up to {format_value(iref, 'A')}.")
+            out.append(f"{label}: the reference must deliver up to {format_quantity(iref, 'A')}.")
     out.append(DEFER)
     return out

@@ -1,4 +1,4 @@
-"""Engineering-notation parsing and formatting for values typed by a person.
+"""Engineering-notation parsing of values typed by a person (formatting: :mod:`.formatting`).
 
 Accepts ``10k``, ``4k7``, ``10 kΩ``, ``2.5V``, ``100m`` (milli), ``1M`` (mega), ``0.1 %``, ``1e-3``.
 """
@@ -7,6 +7,8 @@ from __future__ import annotations
 
 import math
 import re
+
+from .formatting import format_si as format_value  # noqa: F401  (kept under its old name)
 
 PREFIXES: dict[str, float] = {
     "f": 1e-15, "p": 1e-12, "n": 1e-9, "u": 1e-6, "µ": 1e-6, "μ": 1e-6, "m": 1e-3,
@@ -69,25 +71,3 @@ def parse_value(text: str | float | int, field: str = "value") -> float:
     raise DesignError(
         field, f"cannot read {text!r} as a number (examples: 10k, 4k7, 10 kΩ, 2.5V, 100m, 0.1 %)"
     )
-
-
-_FORMAT_PREFIXES = [(1e12, "T"), (1e9, "G"), (1e6, "M"), (1e3, "k"), (1.0, ""), (1e-3, "m"),
-                    (1e-6, "µ"), (1e-9, "n"), (1e-12, "p"), (1e-15, "f")]
-
-
-def format_value(value: float, unit: str = "", digits: int = 4) -> str:
-    """Format an SI value with an engineering prefix, e.g. ``format_value(4700, "Ω")`` → ``4.7 kΩ``."""
-    if value is None:
-        return "—"
-    v = float(value)
-    if math.isnan(v):
-        return "—"
-    if math.isinf(v):
-        return ("−∞" if v < 0 else "∞") + (f" {unit}" if unit else "")
-    if v == 0:
-        return f"0 {unit}".strip()
-    mag = abs(v)
-    scale, prefix = next(((s, p) for s, p in _FORMAT_PREFIXES if mag >= s * 0.9999995),
-                         _FORMAT_PREFIXES[-1])
-    text = f"{v / scale:.{digits}g}"
-    return f"{text} {prefix}{unit}".strip()

@@ -15,13 +15,13 @@ import numpy as np
 from rungwise.core import SUMMARY_KEYS, Evaluation, MonteCarloResult, evaluate, monte_carlo
 from rungwise.core.errors import RungwiseError
 from rungwise.core.figure_meaning import shown
+from rungwise.core.formatting import format_quantity
 from rungwise.core.grades import CRITERIA
 from rungwise.core.metrics.spectrum import percentiles, spectrum_trials
 from rungwise.core.montecarlo import check_run, plan_run
 from rungwise.core.review import DEFER, voltage_cautions
 from rungwise.core.skew import add_skew_figures
 from rungwise.core.targets import Targets
-from rungwise.core.units import format_value
 
 from .candidates import add_choice_arguments, chosen_candidates, load_document
 from .stats_text import grade_curves, grades_dict, render_stats_table, stats_csv_rows
@@ -109,19 +109,7 @@ def _cell(key: str, value: Any, reason: str | None = None) -> str:
     unit = _label_unit(key)[1]
     if reason:
         return shown(reason)
-    if isinstance(value, float) and math.isnan(value):
-        return "—"
-    if isinstance(value, bool):
-        return "yes" if value else "no"
-    if isinstance(value, int):
-        return str(value)
-    if isinstance(value, float) and math.isnan(value):
-        return "—"
-    if unit in {"V", "Ω", "A", "W", "s", "V/√Hz", "V·s"}:
-        return format_value(value, unit)
-    if unit == "fraction":
-        return f"{value * 100:.4g} %"
-    return f"{value:.5g}" + (f" {unit}" if unit and unit not in {"×"} else "")
+    return format_quantity(value, unit)
 
 
 def render_table(evs: list[Evaluation]) -> str:

@@ -13,7 +13,7 @@ import numpy as np
 
 from rungwise.core.diagnose import Diagnosis, diagnose, read_measurement, to_c_header, to_csv
 from rungwise.core.errors import RungwiseError
-from rungwise.core.units import format_value
+from rungwise.core.formatting import format_percent, format_quantity, yes_no
 
 from .candidates import apply_choices, load_candidates, parse_settings, pick_candidate
 
@@ -62,7 +62,7 @@ def _write(path: str, text: str) -> None:
 
 def _signed(x: float | None) -> str:
     """``+0.123``, or ``n/a`` for a figure that could not be found (``None`` in the JSON)."""
-    return "n/a" if x is None else f"{x:+.3f}"
+    return "n/a" if x is None else format_quantity(x, signed=True)
 
 
 def render_table(d: Diagnosis) -> str:
@@ -72,7 +72,7 @@ def render_table(d: Diagnosis) -> str:
     meas = out["measurement"]
 
     def lsb(x: Any) -> str:
-        return "—" if x is None else f"{x:.3f} LSB"
+        return format_quantity(x, "LSB")
 
     lines = [
         f"Measurement  {meas['source']}: {meas['n_readings']} readings of "
@@ -80,15 +80,15 @@ def render_table(d: Diagnosis) -> str:
         f"{meas['n_codes_repeated']} repeated)",
         f"Design       {out['design']['name']}, {out['design']['bits']} bits",
         "",
-        f"Endpoint LSB                {format_value(s['lsb'], 'V')}",
-        f"Offset error                {format_value(s['offset_error'], 'V')}",
-        f"Gain error                  {s['gain_error'] * 100:.4g} % ({s['gain_error_lsb']:.3g} LSB"
-        " at full scale)",
+        f"Endpoint LSB                {format_quantity(s['lsb'], 'V')}",
+        f"Offset error                {format_quantity(s['offset_error'], 'V')}",
+        f"Gain error                  {format_percent(s['gain_error'])} "
+        f"({format_quantity(s['gain_error_lsb'], 'LSB')} at full scale)",
         f"Max |INL|, endpoint         {lsb(s['max_abs_inl_endpoint'])}   (design predicts "
         f"{lsb(s['predicted_max_abs_inl_endpoint'])})",
         f"Max |INL|, best fit         {lsb(s['max_abs_inl_bestfit'])}",
         f"Max |DNL|                   {lsb(s['max_abs_dnl'])}",
-        f"Monotonic                   {'yes' if out['monotonic'] else 'NO'}",
+        f"Monotonic                   {yes_no(out['monotonic'])}",
         f"Meter noise (repeats)       {lsb(s['noise_rms_lsb'])} rms",
         f"Not linear in the bits      {lsb(out['superposition_residual_rms_lsb'])} rms "
         f"(design alone {lsb(out['design_superposition_residual_rms_lsb'])})",
@@ -100,7 +100,7 @@ def render_table(d: Diagnosis) -> str:
         if w is None:
             lines.append(f"  bit{i:<3} not identifiable from the measured codes")
         else:
-            lines.append(f"  bit{i:<3} {format_value(w, 'V'):>12}  error {_signed(e)}  "
+            lines.append(f"  bit{i:<3} {format_quantity(w, 'V'):>12}  error {_signed(e)}  "
                          f"vs design {_signed(ed)}")
     lines += ["", "Suspects (each part alone fitted to the curve; best first)",
               f"  {'part':<10}{'deviation':>12}{'±':>10}{'left, rms':>14}{'explained':>11}"]
@@ -109,9 +109,10 @@ def render_table(d: Diagnosis) -> str:
             lines.append(f"  {row['id']:<10}  only changes the gain: cannot be told from a "
                          "reference error")
             continue
-        lines.append(f"  {row['id']:<10}{row['deviation'] * 100:>+11.3f}%"
-                     f"{(row['deviation_stderr'] or 0) * 100:>9.3f}%"
-                     f"{row['residual_rms_lsb']:>10.4f} LSB{row['explained'] * 100:>10.1f}%")
+        lines.append(f"  {row['id']:<10}{format_percent(row['deviation'], signed=True):>12}"
+                     f"{format_percent(row['deviation_stderr'] or 0):>10}"
+                     f"{format_quantity(row['residual_rms_lsb'], 'LSB'):>14}"
+                     f"{format_percent(row['explained']):>11}")
     corr = out["correction"]
     if out["suspects_note"]:
         lines.append(f"  {out['suspects_note']}")
@@ -122,9 +123,9 @@ def render_table(d: Diagnosis) -> str:
         f"  (with no part changed: {lsb(out['nominal_residual_rms_lsb'])} rms; noise floor "
         f"{lsb(s['noise_floor_rms_lsb'])} rms)",
         "",
-        f"Correction   {corr['n_levels']} levels; max |INL| {corr['max_abs_inl_before']:.3f} LSB "
-        f"as built, {corr['max_abs_inl_after']:.3f} LSB after correction (bound "
-        f"{corr['bound_lsb']:.3f} LSB); {len(corr['skip_codes'])} measured codes never used; "
+        f"Correction   {corr['n_levels']} levels; max |INL| {lsb(corr['max_abs_inl_before'])} "
+        f"as built, {lsb(corr['max_abs_inl_after'])} after correction (bound "
+        f"{lsb(corr['bound_lsb'])}); {len(corr['skip_codes'])} measured codes never used; "
         f"{corr['n_estimated_used']} entries use an estimated unmeasured code",
     ]
     return "\n".join(lines)

@@ -5,11 +5,11 @@ from __future__ import annotations
 from typing import Any
 
 from rungwise.core.design import Design
+from rungwise.core.formatting import format_percent, format_quantity
 from rungwise.core.grades import STANDARD_GRADES, YieldCurve, yield_vs_tolerance
 from rungwise.core.mismatch import MismatchModel
 from rungwise.core.nominal_reason import loosest_grade_words
 from rungwise.core.stats_result import PERCENTILES, STAT_UNITS, YIELDS, MonteCarloResult
-from rungwise.core.units import format_value
 
 STAT_LABELS: dict[str, str] = {
     "max_abs_inl_endpoint": "Max |INL|, endpoint",
@@ -28,12 +28,7 @@ SHOWN_PERCENTILES: dict[str, tuple[float, ...]] = {
 
 
 def _figure(key: str, value: float) -> str:
-    unit = STAT_UNITS[key]
-    if unit == "V":
-        return format_value(value, "V")
-    if unit == "fraction":
-        return f"{value * 100:.4g} %"
-    return f"{value:.4g} {unit}"
+    return format_quantity(value, STAT_UNITS[key])
 
 
 def _ordinal(p: float) -> str:
@@ -81,12 +76,12 @@ def _grade_rows(grades: list[dict[str, Any] | None]) -> list[list[str]]:
     first = next(g for g in grades if g is not None)
     rows = []
     for i, point in enumerate(first["curve"]):
-        label = f"Yield ({first['criterion']}) at ±{point['tolerance'] * 100:g} %"
-        rows.append([label, *["—" if g is None else f"{g['curve'][i]['yield'] * 100:.2f} %"
+        label = f"Yield ({first['criterion']}) at ±{format_percent(point['tolerance'])}"
+        rows.append([label, *["—" if g is None else format_percent(g['curve'][i]['yield'])
                               for g in grades]])
-    loosest = ["—" if g is None else f"±{g['loosest'] * 100:g} %" if g["loosest"] is not None
+    loosest = ["—" if g is None else f"±{format_percent(g['loosest'])}" if g["loosest"] is not None
                else "none (see below)" for g in grades]
-    rows.append([f"Loosest grade for {first['target_yield'] * 100:g} %", *loosest])
+    rows.append([f"Loosest grade for {format_percent(first['target_yield'])}", *loosest])
     return rows
 
 

@@ -4,8 +4,8 @@
 count and seed (unless asked not to), finds the loosest tolerance grade that meets the targets
 and derives the recommendation. :func:`report_blocks` turns that into headings, paragraphs,
 tables and figures (``report_blocks``) that ``report_pdf`` lays out on pages. Every number comes
-from the gathered results and is written by :func:`figure_text` (engineering notation, SI
-prefixes, per cent for fractions — never scientific notation).
+from the gathered results and is written by the one formatter
+(:func:`rungwise.core.formatting.format_quantity`).
 """
 
 from __future__ import annotations
@@ -19,6 +19,7 @@ from typing import Any
 
 from rungwise.core import FIELDS, SUMMARY_KEYS, Evaluation, evaluate
 from rungwise.core.designfile import DesignFile, dumps
+from rungwise.core.formatting import EDIT_DIGITS, format_percent, format_quantity, yes_no
 from rungwise.core.review import (
     Recommendation,
     bom_lines,
@@ -27,7 +28,6 @@ from rungwise.core.review import (
     recommend,
 )
 from rungwise.core.stats_result import STAT_UNITS
-from rungwise.core.units import format_value
 from rungwise.core.version import program_version
 
 from ..plots.specs import PlotSpec, comparison_plots, spread_plot
@@ -45,45 +45,6 @@ def checksum(text: str | bytes) -> str:
     """A short content checksum: the first 8 hex digits of SHA-256."""
     data = text.encode("utf-8") if isinstance(text, str) else text
     return hashlib.sha256(data).hexdigest()[:8]
-
-
-# --- numbers -----------------------------------------------------------------------------------
-def figure_text(value: Any, unit: str = "") -> str:
-    """A figure for people: engineering notation with an SI prefix (``342.9 µA``), fractions as
-    per cent, LSB with up to four significant digits, yes/no, whole numbers as they are."""
-    if value is None:
-        return "—"
-    if isinstance(value, bool):
-        return "yes" if value else "no"
-    if isinstance(value, int):
-        return f"{value:,}".replace(",", " ") + (f" {unit}" if unit else "")
-    x = float(value)
-    if math.isnan(x):
-        return "—"
-    if unit == "fraction":
-        return _decimal(x * 100, 4) + " %"
-    if unit in {"LSB", "×", "R", "bits", "%"} or not unit:
-        return _decimal(x, 4) + (f" {unit}" if unit else "")
-    if x != 0 and abs(x) < 1e-15:
-        return f"{_decimal(x / 1e-15, 4)} f{unit}"
-    return format_value(x, unit).replace("-", "−")  # the minus sign, as in every other figure
-
-
-def _decimal(x: float, digits: int) -> str:
-    """``x`` to ``digits`` significant digits in plain decimal (no exponent)."""
-    if math.isinf(x):
-        return "∞" if x > 0 else "−∞"
-    if x == 0:
-        return "0"
-    places = max(0, digits - 1 - math.floor(math.log10(abs(x))))
-    text = f"{x:.{min(places, 12)}f}"
-    if "." in text:
-        text = text.rstrip("0").rstrip(".")
-    return text.replace("-", "−")
-
-
-def _percent(x: float) -> str:
-    return _decimal(x * 100, 3) + " %"
 
 
 # --- gathering ---------------------------------------------------------------------------------
@@ -214,7 +175,7 @@ def _cell(ev: Evaluation, key: str) -> str:
     value = ev.summary.get(key)
     if isinstance(value, float) and label.strip() == "at code" and math.isfinite(value):
         value = int(value)
-    return figure_text(value, unit)
+    return format_quantity(value, unit)
 
 
 KEY_FIGURES = ("lsb", "max_abs_inl_endpoint", "max_abs_inl_bestfit", "max_abs_dnl", "monotonic",
@@ -250,7 +211,7 @@ def _page_one(data: ReviewData) -> list[Block]:
                   "small"),
         Heading("The question", 2),
         Paragraph(f"Which candidate meets the targets — {describe_targets(t)} — with at least "
-                  f"{_percent(t.min_yield)} of boards passing when the parts vary as each "
+                  f"{format_percent(t.min_yield)} of boards passing when the parts vary as each "
                   f"candidate's tolerance says {boards}? Among those that do, the one with the "
                   "fewest parts."),
         Heading("The answer", 2),
@@ -259,10 +220,10 @@ def _page_one(data: ReviewData) -> list[Block]:
     ]
     rows = []
     for i, (ev, v) in enumerate(zip(evs, data.recommendation.verdicts, strict=True)):
-        rows.append([ev.design.label, "yes" if v.passes else "no — " + "; ".join(v.failures),
+        rows.append([ev.design.label, yes_no(v.passes) if v.passes else "no — " + "; ".join(v.failures),
                      *_grade_cells(data, i)])
     out.append(Table(["Candidate", "Meets the targets now",
-                      f"Loosest grade for {_percent(t.min_yield)} yield", "Yield at that grade"],
+                      f"Loosest grade for {format_percent(t.min_yield)} yield", "Yield at that grade"],
                      rows, "llrr", row_swatches=dict(enumerate(data.colours))))
     for i, ev in enumerate(evs):
         reason = _nominal_reason(data, i)
@@ -291,11 +252,11 @@ def _grade_cells(data: ReviewData, i: int) -> list[str]:
     if grade is None:
         tightest = float(curve.steps.min())
         best = curve.yields[int(curve.steps.argmin())]
-        return [f"none down to ±{_decimal(tightest * 100, 3)} %",
+        return [f"none down to ±{format_percent(tightest)}",
                 _decision(best.passed, best.trials, data.doc.targets.min_yield).yield_text()]
     k = [float(s) for s in curve.steps].index(grade)
     y = curve.yields[k]
-    return [f"±{_decimal(grade * 100, 3)} %",
+    return [f"±{format_percent(grade)}",
             _decision(y.passed, y.trials, data.doc.targets.min_yield).yield_text()]
 
 
@@ -324,7 +285,7 @@ def _input_text(key: str, value: Any) -> str:
             return str(value)
         if isinstance(value, float) and math.isinf(value):
             return "open"
-        return figure_text(value, spec.unit if spec.unit != "bits" else "")
+        return format_quantity(value, spec.unit)
     if isinstance(value, dict):
         return ", ".join(f"{k} = {_setting(v, k)}" for k, v in value.items()) or "defaults"
     return str(value)
@@ -332,11 +293,11 @@ def _input_text(key: str, value: Any) -> str:
 
 def _setting(v: Any, key: str = "") -> str:
     if isinstance(v, float) and "tempco" in key:
-        return _decimal(v * 1e6, 4) + " ppm/K"
+        return format_quantity(v, "ppm/K")
     if isinstance(v, float) and "tolerance" in key:
-        return "±" + _decimal(v * 100, 4) + " %"
+        return "±" + format_percent(v)
     if isinstance(v, float):
-        return _decimal(v, 6)
+        return format_quantity(v, digits=EDIT_DIGITS)
     if isinstance(v, dict):
         return "{" + ", ".join(f"{k} = {_setting(x, key)}" for k, x in v.items()) + "}"
     return str(v)
@@ -441,7 +402,7 @@ def _stats_section(data: ReviewData) -> list[Block]:
                          "lrr", row_swatches={k: data.colours[i] for k in range(len(rows))}))
         pct = s.percentiles
         head = ["Figure", *[f"{p:g} % of boards" for p in next(iter(pct.values()))]]
-        rows = [[_label(k), *[figure_text(v, STAT_UNITS.get(k, "")) for v in d.values()]]
+        rows = [[_label(k), *[format_quantity(v, STAT_UNITS.get(k, "")) for v in d.values()]]
                 for k, d in pct.items()]
         out.append(Table(head, rows))
     out += [Paragraph(n, "small") for n in data.notes]
@@ -452,8 +413,8 @@ def _parts_section(data: ReviewData) -> list[Block]:
     out: list[Block] = [Heading("6. Parts and ratings", 1)]
     for ev in data.evs:
         out.append(Heading(ev.design.label, 3))
-        rows = [[p["id"], p["role"], figure_text(p["ohms"], "Ω"),
-                 figure_text(p.get("power_max", math.nan), "W"),
+        rows = [[p["id"], p["role"], format_quantity(p["ohms"], "Ω"),
+                 format_quantity(p.get("power_max", math.nan), "W"),
                  str(p.get("power_code", ""))] for p in ev.parts[:MAX_PART_ROWS]]
         out.append(Table(["Part", "Role", "Value", "Worst power", "At code"], rows, "llrrr"))
         if len(ev.parts) > MAX_PART_ROWS:
@@ -474,12 +435,12 @@ def _parts_section(data: ReviewData) -> list[Block]:
 
 def _bom_row(ln) -> list[str]:
     nan = math.isnan
-    power = "" if ln.kind == "switch" or nan(ln.power_needed) else figure_text(ln.power_needed,
+    power = "" if ln.kind == "switch" or nan(ln.power_needed) else format_quantity(ln.power_needed,
                                                                                "W")
-    current = (figure_text(ln.power_needed, "A") if ln.kind == "switch"
+    current = (format_quantity(ln.power_needed, "A") if ln.kind == "switch"
                and not nan(ln.power_needed) else "")
-    return [ln.designators, ln.kind, "" if nan(ln.ohms) else figure_text(ln.ohms, "Ω"),
-            "" if nan(ln.tolerance) else f"±{_decimal(ln.tolerance * 100, 3)} %", power, current,
+    return [ln.designators, ln.kind, "" if nan(ln.ohms) else format_quantity(ln.ohms, "Ω"),
+            "" if nan(ln.tolerance) else f"±{format_percent(ln.tolerance)}", power, current,
             str(ln.quantity), ln.note if ln.flagged else ""]
 
 

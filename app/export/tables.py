@@ -2,8 +2,8 @@
 the per-code values as CSV.
 
 The table has one row per summary figure with its key, label and SI unit, and one column per
-candidate. CSV and XLSX hold the engine's numbers at full precision; Markdown and HTML show six
-significant digits in the row's unit (no prefixes, so a reader can parse them back).
+candidate. CSV and XLSX hold the engine's numbers at full precision; Markdown and HTML are for people and
+show each figure as the window does (:func:`rungwise.core.formatting.format_quantity`).
 """
 
 from __future__ import annotations
@@ -22,6 +22,7 @@ import numpy as np
 
 from rungwise.core import SUMMARY_KEYS, Evaluation
 from rungwise.core.atomic import write_atomically
+from rungwise.core.formatting import display_unit, format_quantity, yes_no
 
 TableFormat = Literal["csv", "md", "html", "xlsx"]
 """Table export formats, named by file extension."""
@@ -64,12 +65,12 @@ def _plain(x: Any) -> Any:
     return x
 
 
-def _text(x: Any) -> str:
-    """A cell for a text format: six significant digits, yes/no, empty for no value."""
+def _data_text(x: Any) -> str:
+    """A non-float cell of a data format (CSV, XLSX): yes/no, whole numbers, inf; empty for none."""
     if x is None:
         return ""
     if isinstance(x, bool):
-        return "yes" if x else "no"
+        return yes_no(x)
     if isinstance(x, int):
         return str(x)
     if isinstance(x, float):
@@ -77,14 +78,14 @@ def _text(x: Any) -> str:
             return ""
         if math.isinf(x):
             return "inf" if x > 0 else "-inf"
-        return f"{x:.6g}"
+        return repr(x)
     return str(x)
 
 
 def _csv_value(x: Any) -> str:
     if isinstance(x, float):
-        return repr(x) if math.isfinite(x) else ("" if math.isnan(x) else _text(x))
-    return _text(x)
+        return repr(x) if math.isfinite(x) else ("" if math.isnan(x) else _data_text(x))
+    return _data_text(x)
 
 
 def table_csv(evs: Sequence[Evaluation]) -> str:
@@ -107,7 +108,7 @@ def table_markdown(evs: Sequence[Evaluation]) -> str:
     lines = ["| " + " | ".join(_md_cell(h) for h in head) + " |",
              "| " + " | ".join(["---", "---"] + ["---:"] * len(evs)) + " |"]
     for r in comparison_rows(evs):
-        cells = [r.label, r.unit, *[_text(v) for v in r.values]]
+        cells = [r.label, display_unit(r.unit), *[format_quantity(v, r.unit) for v in r.values]]
         lines.append("| " + " | ".join(_md_cell(c) for c in cells) + " |")
     return "\n".join(lines) + "\n"
 
@@ -119,8 +120,9 @@ def table_html_fragment(evs: Sequence[Evaluation]) -> str:
            "<thead><tr><th>Figure</th><th>Unit</th>"
            + "".join(f"<th>{esc(e.design.label)}</th>" for e in evs) + "</tr></thead>", "<tbody>"]
     for r in comparison_rows(evs):
-        out.append(f'<tr data-key="{esc(r.key)}"><td>{esc(r.label)}</td><td>{esc(r.unit)}</td>'
-                   + "".join(f'<td align="right">{esc(_text(v))}</td>' for v in r.values) + "</tr>")
+        out.append(f'<tr data-key="{esc(r.key)}"><td>{esc(r.label)}</td><td>{esc(display_unit(r.unit))}</td>'
+                   + "".join(f'<td align="right">{esc(format_quantity(v, r.unit))}</td>'
+                             for v in r.values) + "</tr>")
     out.append("</tbody></table>")
     return "\n".join(out)
 
@@ -166,7 +168,7 @@ def _sheet_title(label: str, used: set[str]) -> str:
 
 def _xlsx_value(x: Any) -> Any:
     if isinstance(x, float) and not math.isfinite(x):
-        return None if math.isnan(x) else _text(x)
+        return None if math.isnan(x) else _data_text(x)
     return x
 
 

@@ -23,7 +23,7 @@ from PySide6.QtGui import QPainter
 from PySide6.QtSvg import QSvgGenerator
 from PySide6.QtWidgets import QGridLayout, QLabel, QSizePolicy, QVBoxLayout, QWidget
 
-from rungwise.core.units import format_value
+from rungwise.core.formatting import format_quantity
 
 from ..jobs.live_results import CandidateResult
 from ..window.comparison_state import Candidate
@@ -395,7 +395,7 @@ def readout_html(code: int, candidates: Sequence[Candidate], results: Sequence[C
         cells = []
         for spec in PLOTS:
             v = float(spec.values(res, inl_line)[code])
-            text = format_value(v, spec.unit) if spec.si_prefix else f"{v:+.3f} {spec.unit}"
+            text = format_quantity(v, spec.unit, signed=not spec.si_prefix)
             if np.isnan(v):
                 text = "—"
             cells.append(f"<td align='right'>&nbsp;{text}&nbsp;</td>")

@@ -14,7 +14,7 @@ import numpy as np
 from PySide6.QtCore import QPointF, QRectF, QSize, Qt
 from PySide6.QtGui import QColor, QFont, QImage, QPainter, QPen, QPolygonF
 
-from rungwise.core.units import format_value
+from rungwise.core.formatting import format_si
 
 from .specs import PlotSpec, axis_range, nice_ticks
 
@@ -26,7 +26,7 @@ def _fmt(v: float, step: float) -> str:
     if v == 0:
         return "0"
     if abs(v) >= 1e5 or abs(v) < 1e-3:  # an SI prefix, never an exponent
-        return format_value(v, "", 3)
+        return format_si(v, "", 3)
     decimals = max(0, -int(np.floor(np.log10(step)))) if step < 1 else 0
     return f"{v:.{decimals}f}"
 

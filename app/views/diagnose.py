@@ -43,7 +43,7 @@ from rungwise.core.diagnose import (
     to_csv,
 )
 from rungwise.core.errors import RungwiseError
-from rungwise.core.units import format_value
+from rungwise.core.formatting import format_percent, format_quantity, yes_no
 
 from ..jobs.workers import JobRunner
 from ..plots.theme import follow_palette
@@ -86,21 +86,21 @@ def findings(d: Diagnosis) -> list[tuple[str, str]]:
     s = out["summary"]
 
     def lsb(x) -> str:
-        return "—" if x is None else f"{x:.3f} LSB"
+        return format_quantity(x, "LSB")
 
     corr = out["correction"]
     meas = out["measurement"]
     return [
         ("Readings", f"{meas['n_readings']} readings of {meas['n_codes_measured']} codes "
                      f"({meas['n_codes_missing']} missing)"),
-        ("Endpoint LSB", format_value(s["lsb"], "V")),
-        ("Offset error", format_value(s["offset_error"], "V")),
-        ("Gain error", f"{s['gain_error'] * 100:.4g} %"),
+        ("Endpoint LSB", format_quantity(s["lsb"], "V")),
+        ("Offset error", format_quantity(s["offset_error"], "V")),
+        ("Gain error", format_percent(s['gain_error'])),
         ("Max |INL|, endpoint", f"{lsb(s['max_abs_inl_endpoint'])} (design "
                                 f"{lsb(s['predicted_max_abs_inl_endpoint'])})"),
         ("Max |INL|, best fit", lsb(s["max_abs_inl_bestfit"])),
         ("Max |DNL|", lsb(s["max_abs_dnl"])),
-        ("Monotonic", "yes" if out["monotonic"] else "NO"),
+        ("Monotonic", yes_no(out["monotonic"])),
         ("Meter noise", lsb(s["noise_rms_lsb"])),
         ("Not linear in the bits", lsb(out["superposition_residual_rms_lsb"])),
         ("Worst bit weight error", lsb(_max_abs(out["bit_weight_error_lsb"]))),
@@ -375,8 +375,9 @@ class DiagnosePane(QWidget):
         if best is None:
             self.label_status.setText(d.suspects.note)
         elif best.identifiable:
-            self.label_status.setText(f"Best explanation: {best.id} {best.deviation * 100:+.2f} % "
-                                      f"({best.explained * 100:.1f} % of the deviation from the "
+            self.label_status.setText(f"Best explanation: {best.id} "
+                                      f"{format_percent(best.deviation, signed=True)} "
+                                      f"({format_percent(best.explained)} of the deviation from the "
                                       "design explained)")
         else:
             self.label_status.setText("No single part explains the curve.")
@@ -391,8 +392,9 @@ class DiagnosePane(QWidget):
         self.table_suspects.setRowCount(len(suspects))
         for r, s in enumerate(suspects):
             if s.identifiable:
-                cells = (s.id, f"{s.deviation * 100:+.3f} %", f"{s.deviation_stderr * 100:.3f} %",
-                         f"{s.residual_rms_lsb:.4f} LSB", f"{s.explained * 100:.1f} %")
+                cells = (s.id, format_percent(s.deviation, signed=True),
+                         format_percent(s.deviation_stderr), format_quantity(s.residual_rms_lsb, "LSB"),
+                         format_percent(s.explained))
             else:
                 cells = (s.id, "gain only", "—", "—", "—")
             for c, text in enumerate(cells):

@@ -8,8 +8,6 @@ running the same sweep again, is instant. Runs only when asked (Run).
 
 from __future__ import annotations
 
-import math
-
 import numpy as np
 import pyqtgraph as pg
 from PySide6.QtCore import Signal
@@ -28,6 +26,7 @@ from PySide6.QtWidgets import (
 )
 
 from rungwise.core import Design
+from rungwise.core.formatting import format_quantity
 from rungwise.core.grades import STANDARD_GRADES
 from rungwise.core.sweep import (
     BITS_RANGE,
@@ -91,11 +90,7 @@ def sweep_job(designs: list[Design], over: str, values: list[int],
 def value_text(key: str, value: float) -> str:
     """A figure for the hover line, with its unit (fractions as %)."""
     unit = SWEEP_KEYS.get(key, ("", ""))[1]
-    if value is None or (isinstance(value, float) and math.isnan(value)):
-        return "—"
-    if unit == "fraction":
-        return f"{value * 100:.4g} %"
-    return f"{value:.5g} {unit}".rstrip()
+    return format_quantity(value, unit)
 
 
 class ExplorerPane(QWidget):

@@ -9,11 +9,11 @@ from dataclasses import dataclass
 from typing import Any
 
 from rungwise.core import Design, Evaluation, evaluate
+from rungwise.core.formatting import format_percent, format_quantity, yes_no
 from rungwise.core.metrics.settling import CONVENTION
 from rungwise.core.parts.board import board_value
 from rungwise.core.parts.bom import BomLine, bill_of_materials
 from rungwise.core.parts.suggest import Limits, Suggestion, suggest
-from rungwise.core.units import format_value
 
 
 @dataclass
@@ -53,12 +53,7 @@ def suggest_job(design: Design, limits: Limits, series: str | None, top: int = 1
     return job
 
 
-def _v(x: float, unit: str) -> str:
-    return "—" if x is None or (isinstance(x, float) and math.isnan(x)) else format_value(x, unit)
-
-
-def _pct(x: float) -> str:
-    return "—" if math.isnan(x) else f"{x * 100:.4g} %"
+_v, _pct = format_quantity, format_percent  # short names for the many rows below
 
 
 def summary_lines(out: PartsOutcome) -> list[tuple[str, str]]:
@@ -66,9 +61,10 @@ def summary_lines(out: PartsOutcome) -> list[tuple[str, str]]:
     s, e, d = out.built.summary, out.exact.summary, out.design
     rows = [
         ("Values", f"{d.series} preferred values" if d.series != "exact" else "exact (no snapping)"),
-        ("Max |INL| built / exact", f"{s['max_abs_inl_endpoint']:.3g} / {e['max_abs_inl_endpoint']:.3g} LSB"),
-        ("Max |DNL| built / exact", f"{s['max_abs_dnl']:.3g} / {e['max_abs_dnl']:.3g} LSB"),
-        ("Monotonic as built", "yes" if s["monotonic"] else "NO"),
+        ("Max |INL| built / exact", f"{_v(s['max_abs_inl_endpoint'])} / "
+                                    f"{_v(e['max_abs_inl_endpoint'], 'LSB')}"),
+        ("Max |DNL| built / exact", f"{_v(s['max_abs_dnl'])} / {_v(e['max_abs_dnl'], 'LSB')}"),
+        ("Monotonic as built", yes_no(s["monotonic"])),
         ("Reference current, max", _v(s["iref_max"], "A")),
         ("Reference power, max", _v(s["ref_power_max"], "W")),
         ("Power in the network, max", f"{_v(s['power_total_max'], 'W')} at code "
@@ -85,27 +81,28 @@ def summary_lines(out: PartsOutcome) -> list[tuple[str, str]]:
     rows += [
         ("Thermal noise", f"{_v(s['noise_density'], 'V/√Hz')} worst code at {d.temperature_c:g} °C; "
                           f"{_v(s['noise_rms'], 'V')} rms over {_v(d.bandwidth, 'Hz')} = "
-                          f"{s['noise_rms_lsb']:.3g} LSB"),
+                          f"{_v(s['noise_rms_lsb'], 'LSB')}"),
     ]
     for end, key in (("cold", "temp_low_c"), ("hot", "temp_high_c")):
         tag = "low" if end == "cold" else "high"
         rows.append((f"Drift at {board_value(d, key):g} °C",
                      f"gain error {_pct(s[f'drift_gain_error_{tag}'])}, offset "
-                     f"{_v(s[f'drift_offset_{tag}'], 'V')}, max |INL| {s[f'drift_inl_{tag}']:.3g} LSB"))
+                     f"{_v(s[f'drift_offset_{tag}'], 'V')}, max |INL| {_v(s[f'drift_inl_{tag}'], 'LSB')}"))
     if "amp_offset_error" in s:
         rows.append(("Amplifier", f"offset {_v(s['amp_offset_error'], 'V')}, gain error "
-                                  f"{_pct(s['amp_gain_error'])}, INL added {s['amp_inl_added']:.3g} "
-                                  f"LSB, {s['amp_codes_clipped']} codes beyond the rails"))
+                                  f"{_pct(s['amp_gain_error'])}, INL added "
+                                  f"{_v(s['amp_inl_added'], 'LSB')}, {s['amp_codes_clipped']} codes beyond "
+                                  "the rails"))
     return rows
 
 
 def bom_cells(line: BomLine) -> list[str]:
     """Text of one BOM line for the table's columns (:data:`BOM_COLUMNS`)."""
-    value = "—" if math.isnan(line.ohms) else format_value(line.ohms, "Ω")
-    tol = "" if math.isnan(line.tolerance) else f"±{line.tolerance * 100:g} %"
-    tc = "" if math.isnan(line.tempco) else f"{line.tempco * 1e6:g} ppm/K"
+    value = _v(line.ohms, "Ω")
+    tol = "" if math.isnan(line.tolerance) else f"±{_pct(line.tolerance)}"
+    tc = "" if math.isnan(line.tempco) else _v(line.tempco, "ppm/K")
     need = ("" if math.isnan(line.power_needed) else
-            format_value(line.power_needed, "A" if line.kind == "switch" else "W"))
+            _v(line.power_needed, "A" if line.kind == "switch" else "W"))
     qty = str(line.quantity) + (f" (+{line.leftover} spare)" if line.leftover else "")
     return [line.designators, line.kind, value, line.series, tol, tc, need, qty,
             " ".join(line.part_ids), line.note]
@@ -118,8 +115,8 @@ BOM_COLUMNS = ("Designators", "Kind", "Value", "Series", "Tolerance", "Temp. coe
 
 def suggestion_cells(s: Suggestion) -> list[str]:
     """Text of one suggestion for the table's columns (:data:`SUGGEST_COLUMNS`)."""
-    return [format_value(s.unit_r, "Ω"), _v(s.iref_max, "A"), _v(s.rout_max, "Ω"),
-            _v(s.settling_time, "s"), f"{s.noise_lsb:.3g}", f"{s.max_abs_inl:.3g}", s.reason]
+    return [_v(s.unit_r, "Ω"), _v(s.iref_max, "A"), _v(s.rout_max, "Ω"),
+            _v(s.settling_time, "s"), _v(s.noise_lsb), _v(s.max_abs_inl), s.reason]
 
 
 SUGGEST_COLUMNS = ("Unit R", "Ref. current", "Output R", "Settling", "Noise (LSB)",

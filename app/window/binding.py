@@ -23,7 +23,8 @@ from PySide6.QtWidgets import QComboBox, QLabel, QLineEdit, QSpinBox, QWidget
 from rungwise.core.build_style import build_choice
 from rungwise.core.design import FIELDS, Design
 from rungwise.core.errors import DesignError
-from rungwise.core.units import format_value, parse_value
+from rungwise.core.formatting import EDIT_DIGITS, format_quantity, format_si
+from rungwise.core.units import parse_value
 
 INPUT_PREFIXES = ("spin_", "edit_", "combo_")
 """Object-name prefixes of bound input widgets."""
@@ -36,7 +37,7 @@ def unit_in_text(unit: str) -> bool:
     if unit in {"", "bits"}:
         return False
     try:
-        return parse_value(format_value(4700.0, unit, digits=6)) == 4700.0
+        return parse_value(format_si(4700.0, unit, digits=EDIT_DIGITS)) == 4700.0
     except DesignError:
         return False
 
@@ -60,8 +61,8 @@ def display_text(design: Design, key: str) -> str:
     if isinstance(value, float) and math.isinf(value):
         return "open"
     if not unit_in_text(unit):
-        return f"{value:.6g}"
-    return format_value(value, unit, digits=6)
+        return format_quantity(value, digits=EDIT_DIGITS)
+    return format_si(value, unit, digits=EDIT_DIGITS)
 
 
 def bound_inputs(root: QWidget) -> dict[str, QWidget]:

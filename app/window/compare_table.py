@@ -13,7 +13,7 @@ from PySide6.QtWidgets import QAbstractItemView, QHeaderView, QTableWidget, QTab
 from rungwise.core.display_names import network_name
 from rungwise.core.evaluate import SUMMARY_KEYS
 from rungwise.core.figure_meaning import NO_MEANING_TEXT, shown
-from rungwise.core.units import format_value
+from rungwise.core.formatting import format_quantity
 
 from ..jobs.live_results import CandidateResult
 from .comparison_state import Candidate
@@ -60,18 +60,7 @@ REL_TIE = 1e-9
 
 def cell_text(key: str, value: Any) -> str:
     """A summary value as shown in the table (engineering notation with the key's unit)."""
-    unit = SUMMARY_KEYS[key][1]
-    if isinstance(value, bool):
-        return "yes" if value else "NO"
-    if value is None:
-        return "—"
-    if key.endswith("_code") or (unit == "" and isinstance(value, int)):
-        return f"{value}"
-    if unit == "fraction":
-        return f"{value * 100:.4g} %"
-    if unit in {"LSB", "×", "R"}:
-        return f"{value:.4g} {unit}" if unit != "×" else f"{value:.4g}×"
-    return format_value(value, unit)
+    return format_quantity(value, SUMMARY_KEYS[key][1])
 
 
 def comparable(key: str, values: Sequence[Any], bits: Sequence[int] | None

@@ -31,6 +31,7 @@ from rungwise.core import designfile
 from rungwise.core.demo import demo_candidates
 from rungwise.core.design import Design
 from rungwise.core.errors import RungwiseError
+from rungwise.core.formatting import format_quantity
 
 from ..jobs.live_results import LiveResults, ResultSet
 from ..plots.curves import PLOTS, CodePlotsView
@@ -345,7 +346,7 @@ class MainWindow(QMainWindow):
             bits = sorted({d.design.bits for d in shown})
             self.status_text.setText(
                 f"{len(shown)} candidates, {'/'.join(map(str, bits))} bits, solved in "
-                f"{result.seconds * 1e3:.0f} ms ({result.computed} recomputed)")
+                f"{format_quantity(result.seconds, 's')} ({result.computed} recomputed)")
 
     def _on_busy(self, busy: bool) -> None:
         if busy:

@@ -91,7 +91,7 @@ def test_best_value_per_row(key, values, best):
 def test_cell_text_units():
     assert cell_text("lsb", 0.01289) == "12.89 mV"
     assert cell_text("gain_error", -0.09104) == "-9.104 %"
-    assert cell_text("monotonic", False) == "NO"
+    assert cell_text("monotonic", False) == "no"
     assert cell_text("rout_max_code", 255) == "255"
 
 

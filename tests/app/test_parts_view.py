@@ -10,6 +10,7 @@ from PySide6.QtCore import QCoreApplication
 
 from rungwise.app.window.view_registry import VIEWS
 from rungwise.core import Design, evaluate
+from rungwise.core.formatting import format_quantity
 from rungwise.core.parts.bom import CAUTION
 
 LADDER = Design(bits=8, unit_r=33e3, load_c=10e-12, name="Ladder")
@@ -52,14 +53,14 @@ def test_snapping_to_e12_shows_a_non_monotonic_ladder_and_e96_fixes_it(qtbot, pa
     _shown(qtbot, pane, lambda: pane.set_candidates([LADDER]))
     assert _figure(pane, "Values") == "exact (no snapping)"
     out = _shown(qtbot, pane, lambda: pane.combo_series.setCurrentText("E12"))
-    assert _figure(pane, "Monotonic as built") == "NO"
+    assert _figure(pane, "Monotonic as built") == "no"
     assert {ln.ohms for ln in out.bom if ln.kind == "resistor"} == {68e3, 33e3}
     _shown(qtbot, pane, lambda: pane.combo_series.setCurrentText("E96"))
     assert _figure(pane, "Monotonic as built") == "yes"
     ev = evaluate(LADDER.replace(series="E96"))
     assert pane.table_bom.item(0, 2).text() == "66.5 kΩ"
     assert "ln(2·(2^N − 1))" in _figure(pane, "Settling to ½ LSB")
-    assert f"{ev.summary['noise_rms_lsb']:.3g} LSB" in _figure(pane, "Thermal noise")
+    assert format_quantity(ev.summary["noise_rms_lsb"], "LSB") in _figure(pane, "Thermal noise")
     assert not pane.label_caution.isVisibleTo(pane)
 
 

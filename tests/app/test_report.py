@@ -14,9 +14,9 @@ from pathlib import Path
 import pytest
 
 from rungwise.app.cli.main import run_cli
-from rungwise.app.export.report_content import figure_text
 from rungwise.core import SUMMARY_KEYS, Design, designfile, evaluate
 from rungwise.core.designfile import DesignFile
+from rungwise.core.formatting import format_percent, format_quantity
 from rungwise.core.grades import loosest_grade
 from rungwise.core.parts.bom import bill_of_materials
 from rungwise.core.review import DEFER, recommend
@@ -88,7 +88,7 @@ def test_report_text_matches_the_engine(report):
     evs = [evaluate(d) for d in doc.candidates]
     for ev in evs:
         for key in ("max_abs_inl_endpoint", "max_abs_dnl", "lsb", "iref_max"):
-            assert _n(figure_text(ev.summary[key], SUMMARY_KEYS[key][1])) in text, key
+            assert _n(format_quantity(ev.summary[key], SUMMARY_KEYS[key][1])) in text, key
         for line in bill_of_materials(ev):
             assert line.designators in text
     from rungwise.core.montecarlo import monte_carlo
@@ -125,7 +125,7 @@ def test_page_one_states_the_question_the_verdict_and_what_would_pass(report):
     # (source: common practice — a standard grade series read against a target yield)
     for d in doc.candidates:
         grade, _ = loosest_grade(d, trials=300, seed=4242, targets=doc.targets)
-        expected = f"±{figure_text(grade * 100, '')} %" if grade is not None else "none down to"
+        expected = f"±{format_percent(grade)}" if grade is not None else "none down to"
         assert expected in first.split(d.label, 1)[1], d.label
     assert all(e.design.label in first for e in evs)
 
@@ -164,7 +164,7 @@ def test_bill_of_materials_keeps_power_and_switch_current_apart(report):
     layout = _pdf_text(pdf, layout=True)
     row = re.search(re.escape(sw.designators) + r"\s+switch\s+(\S+ \S+)\s+\d+\s*$", layout, re.M)
     assert row is not None
-    assert row.group(1) == _n(figure_text(sw.power_needed, "A"))
+    assert row.group(1) == _n(format_quantity(sw.power_needed, "A"))
 
 
 def test_schematic_names_match_the_bill_of_materials(report):

@@ -6,6 +6,7 @@ import pytest
 
 from rungwise.core import evaluate
 from rungwise.core.demo import DEMO_BASE, demo_candidates
+from rungwise.core.formatting import format_quantity
 from rungwise.core.montecarlo import monte_carlo
 from rungwise.core.parts.bom import bill_of_materials
 from rungwise.core.review import (
@@ -59,7 +60,7 @@ def test_fewest_parts_among_passing_is_recommended(evs):
     assert rec.chosen == best
     v = rec.verdicts[best]
     assert rec.text.startswith(f"Recommended: {evs[best].design.label}")
-    assert f"{v.inl:.3g} LSB" in rec.text
+    assert format_quantity(v.inl, "LSB") in rec.text
     assert f"({counts[best]})" in rec.text
 
 
@@ -71,7 +72,8 @@ def test_tighter_inl_target_changes_the_choice(evs):
     assert rec.chosen == winner
     assert "only candidate" in rec.text
     loser = rec.verdicts[1 - winner]
-    assert loser.failures == [f"max |INL| (endpoint) {max(inls):.3g} LSB > {limit:g}"]
+    assert loser.failures == [f"max |INL| (endpoint) {format_quantity(max(inls), 'LSB')} > "
+                              f"{format_quantity(limit)}"]
 
 
 def test_none_meets_says_so_with_each_miss(evs):
@@ -79,8 +81,9 @@ def test_none_meets_says_so_with_each_miss(evs):
     assert rec.chosen is None
     assert rec.text.startswith("No candidate meets the targets (max |INL| ≤ 1e-06 LSB")
     for e in evs:
-        assert f"{e.design.label}: max |INL| (endpoint) {e.summary['max_abs_inl_endpoint']:.3g}" in rec.text
-        assert f"max |DNL| {e.summary['max_abs_dnl']:.3g} LSB" in rec.text
+        inl, dnl = e.summary["max_abs_inl_endpoint"], e.summary["max_abs_dnl"]
+        assert f"{e.design.label}: max |INL| (endpoint) {format_quantity(inl, 'LSB')}" in rec.text
+        assert f"max |DNL| {format_quantity(dnl, 'LSB')}" in rec.text
 
 
 def test_non_monotonic_candidate_fails_only_when_monotonic_required():
