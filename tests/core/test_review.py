@@ -79,7 +79,7 @@ def test_tighter_inl_target_changes_the_choice(evs):
 def test_none_meets_says_so_with_each_miss(evs):
     rec = recommend(evs, Targets(max_inl_lsb=1e-6, max_dnl_lsb=1e-6))
     assert rec.chosen is None
-    assert rec.text.startswith("No candidate meets the targets (max |INL| ≤ 0.000001 LSB")  # never an exponent
+    assert rec.text.startswith("No candidate meets the targets (max |INL| ≤ 0.000001 LSB")
     for e in evs:
         inl, dnl = e.summary["max_abs_inl_endpoint"], e.summary["max_abs_dnl"]
         assert f"{e.design.label}: max |INL| (endpoint) {format_quantity(inl, 'LSB')}" in rec.text
