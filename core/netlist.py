@@ -227,6 +227,7 @@ def spice_netlist(design: Design, code: int | None = None, all_codes: bool = Fal
 
 def _header(design: Design, net: Network, code: int | None, version: str, source: str
             ) -> list[str]:
+    from .display_names import network_name
     from .units import format_value
 
     out = net.output
@@ -235,7 +236,8 @@ def _header(design: Design, net: Network, code: int | None, version: str, source
     head = [
         f"* Rungwise netlist of candidate '{design.label}'",
         f"* made by Rungwise {version}".rstrip() + (f" from {source}" if source else ""),
-        f"* network: {design.topology}, output {design.output} ({what}), {design.bits} bits",
+        f"* network: {network_name(design.topology, design.output)} [{design.topology}, "
+        f"{design.output}]: {what}, {design.bits} bits",
         f"* reference {format_value(design.vref, 'V')} behind "
         f"{format_value(design.ref_r, 'Ω')}; unit R {format_value(design.unit_r, 'Ω')}; "
         f"series {design.series}",

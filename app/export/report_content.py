@@ -277,6 +277,12 @@ def _label(key: str) -> str:
 
 
 def _input_text(key: str, value: Any) -> str:
+    from rungwise.core.display_names import output_name, topology_name
+
+    if key == "topology":
+        return topology_name(str(value))
+    if key == "output":
+        return output_name(value)
     if key in FIELDS:
         if value is None:
             return "default"

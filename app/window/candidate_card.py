@@ -45,8 +45,10 @@ class CandidateCard(QWidget):
 
     def show_for(self, design: Design, colour: str, at: QPoint) -> None:
         """Fill the card for ``design`` and show it with its top-left corner at ``at`` (global)."""
-        self.title.setText(f"<b>{design.label}</b> — {design.topology}, {design.output}, "
-                           f"{design.bits} bits")
+        from rungwise.core.display_names import network_name
+
+        self.title.setText(f"<b>{design.label}</b> — "
+                           f"{network_name(design.topology, design.output)}, {design.bits} bits")
         key = (repr(design), colour)  # a design holds dicts: its repr is the key
         if key not in self._cache:
             try:
