@@ -19,6 +19,8 @@ targets (limits), and how yields are decided. Saved as a design file's ``[search
     max_rout = 20e3                 # Ω, largest output resistance
     max_settling = 2e-6             # s, settling to ½ LSB (needs load_c)
     max_noise_lsb = 0.1             # thermal noise RMS over the bandwidth, LSB
+    max_glitch = 1e-12              # V·s, largest glitch impulse (switching figures)
+    max_transition_settling = 1e-6  # s, slowest code transition's settling to ½ LSB
     ratings = true                  # every part within its rating and switch limit
 """
 
@@ -50,7 +52,10 @@ AMPLIFIED = {"buffer", "summing-amp", "transimpedance"}
 LIMIT_KEYS = {"max_iref": ("largest reference current", "A", "iref_max"),
               "max_rout": ("largest output resistance", "Ω", "rout_max"),
               "max_settling": ("settling to ½ LSB", "s", "settling_time"),
-              "max_noise_lsb": ("thermal noise against the LSB", "LSB", "noise_rms_lsb")}
+              "max_noise_lsb": ("thermal noise against the LSB", "LSB", "noise_rms_lsb"),
+              "max_glitch": ("largest glitch impulse", "V·s", "glitch_worst"),
+              "max_transition_settling": ("slowest transition's settling to ½ LSB", "s",
+                                          "settling_worst")}
 """Optional limit → (words, unit, summary key it bounds)."""
 
 MAX_POINTS = 20000
@@ -222,6 +227,8 @@ class SearchQuestion:
     max_rout: float = math.inf
     max_settling: float = math.inf
     max_noise_lsb: float = math.inf
+    max_glitch: float = math.inf
+    max_transition_settling: float = math.inf
     ratings: bool = True
     given: tuple[str, ...] = field(default=(), compare=False)
 

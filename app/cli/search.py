@@ -65,6 +65,9 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--max-rout", metavar="OHMS", help="largest output resistance")
     p.add_argument("--max-settling", metavar="S", help="longest settling to ½ LSB (needs load_c)")
     p.add_argument("--max-noise-lsb", metavar="LSB", help="largest thermal noise RMS, LSB")
+    p.add_argument("--max-glitch", metavar="VS", help="largest glitch impulse, V·s (e.g. 1p)")
+    p.add_argument("--max-transition-settling", metavar="S",
+                   help="longest settling of any code transition to ½ LSB")
     p.add_argument("--workers", type=int, default=None, help="processes (default: up to 4)")
     p.add_argument("--format", choices=("table", "json", "csv"), default="table")
     p.add_argument("-o", "--output", metavar="FILE", help="write to FILE instead of the screen")
@@ -79,7 +82,8 @@ def question_from(args: argparse.Namespace, base_question: SearchQuestion | None
              "confidence": args.confidence, "criterion": args.criterion, "trials": args.trials,
              "seed": args.seed, "method": args.method, "max_iref": args.max_iref,
              "max_rout": args.max_rout, "max_settling": args.max_settling,
-             "max_noise_lsb": args.max_noise_lsb}
+             "max_noise_lsb": args.max_noise_lsb, "max_glitch": args.max_glitch,
+             "max_transition_settling": args.max_transition_settling}
     return (base_question or SearchQuestion()).updated(texts)
 
 

@@ -63,6 +63,7 @@ FIELDS = {
                "lsb_section=unit-array"),
     "max_iref": ("Largest reference current", "", "optional, e.g. 1m (A)"),
     "max_rout": ("Largest output resistance", "", "optional, e.g. 20k (Ω)"),
+    "max_glitch": ("Largest glitch impulse", "", "optional, e.g. 1p (V·s); needs switching figures"),
     "max_settling": ("Longest settling to ½ LSB", "", "optional, e.g. 2u (s); needs a load "
                      "capacitance"),
 }
@@ -196,7 +197,7 @@ class SearchPane(QWidget):
                  "series": ", ".join(q.series), "grades": ", ".join(f"{g * 100:g}%" for g in q.grades),
                  "builds": ", ".join(q.builds) or FIELDS["builds"][1],
                  **{k: (f"{getattr(q, k):g}" if math.isfinite(getattr(q, k)) else "")
-                    for k in ("max_iref", "max_rout", "max_settling")}}
+                    for k in ("max_iref", "max_rout", "max_settling", "max_glitch")}}
         for key, text in texts.items():
             self.edits[key].setText(text)
         self.combo_criterion.setCurrentIndex(self.combo_criterion.findData(q.criterion))

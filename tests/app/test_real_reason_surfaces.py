@@ -45,3 +45,28 @@ def test_compute_grades_says_why_none(capsys):
     grades = doc["results"][0]["statistics"]["grades"]
     assert grades["loosest"] is None
     assert "switch resistance" in grades["reason"]
+
+
+def test_bit_count_answer_on_the_command_line_and_in_the_trade_offs_view(qtbot, capsys):
+    """Over the bit count the answer is the largest N still meeting the target (decided at a stated
+    confidence), on stderr of ``rungwise sweep`` and under the Trade-offs view's plot."""
+    from rungwise.app.views.explorer import ExplorerPane
+
+    args = ["sweep", "--topology", "r2r-voltage", "--set", "ron_high=0", "--set", "ron_low=0",
+            "--set", "load_r=open", "--over", "bits", "--from", "4", "--to", "12",
+            "--tolerance", "0.1%", "--trials", "1000", "--target-yield", "99%"]
+    assert run_cli(args) == 0
+    err = capsys.readouterr().err
+    assert "largest N still meeting 99 % monotonic: N = " in err
+    assert "Clopper–Pearson" in err
+    pane = ExplorerPane()
+    qtbot.addWidget(pane)
+    pane.set_candidates([CLEAN])
+    pane.spin_from.setValue(4)
+    pane.spin_to.setValue(12)
+    pane.check_stats.setChecked(True)
+    pane.spin_trials.setValue(1000)
+    with qtbot.waitSignal(pane.result_changed, timeout=120000):
+        pane.button_run.click()
+    assert "largest N still meeting 99 % monotonic: N = " in pane.label_answer.text()
+    pane.shutdown()

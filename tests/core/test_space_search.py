@@ -250,3 +250,19 @@ def test_build_styles_are_part_of_the_space() -> None:
     ladders = [p for p in result.points if p.design.topology == "r2r-voltage"]
     assert len(ladders) == 1  # the binary build key does not apply to a ladder: no duplicate
     assert any("binary unit-array" in p.describe() for p in result.points)
+
+
+def test_limits_prune_with_their_figures() -> None:
+    """Reference current of an unloaded R-2R ladder: Vref/(2R) per driven leg at most, all legs
+    driven at full scale → Vref/R (common practice); a limit below it prunes the ladder, naming
+    the figure; a settling limit with no load capacitance says the figure is not defined."""
+    base = Design(topology="r2r-voltage", bits=6, vref=1.0, unit_r=10e3)
+    q = _r2r_question(grades=(0.01,), trials=200, max_iref=50e-6)
+    (point,) = search(base, q, executor=InlineExecutor()).points
+    assert point.verdict == "pruned"
+    assert "largest reference current" in point.reason
+    assert "> 50 µA" in point.reason
+    q = _r2r_question(grades=(0.01,), trials=200, max_iref=1e-3, max_transition_settling=1e-6)
+    (point,) = search(base, q, executor=InlineExecutor()).points
+    assert point.verdict == "pruned"
+    assert "not defined here" in point.reason
