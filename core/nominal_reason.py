@@ -16,8 +16,8 @@ from typing import Any
 from .design import Design
 from .errors import RungwiseError
 from .evaluate import evaluate
+from .formatting import format_percent, format_quantity
 from .targets import Targets
-from .units import format_value
 
 R_STEPS = (2.0, 5.0, 10.0, 20.0, 50.0, 100.0)
 """Multiples of the unit resistor tried when the switches are the cause."""
@@ -29,10 +29,11 @@ def misses(summary: dict[str, Any], targets: Targets, criterion: str = "all") ->
     if criterion in ("all", "monotonic") and targets.monotonic and not summary["monotonic"]:
         out.append("non-monotonic")
     if criterion in ("all", "dnl") and not summary["max_abs_dnl"] <= targets.max_dnl_lsb:
-        out.append(f"max |DNL| {summary['max_abs_dnl']:.3g} LSB > {targets.max_dnl_lsb:g}")
+        out.append(f"max |DNL| {format_quantity(summary['max_abs_dnl'], 'LSB')} > "
+                   f"{format_quantity(targets.max_dnl_lsb, 'LSB')}")
     inl = summary[f"max_abs_inl_{targets.inl_line}"]
     if criterion in ("all", "inl") and not inl <= targets.max_inl_lsb:
-        out.append(f"max |INL| {inl:.3g} LSB > {targets.max_inl_lsb:g}")
+        out.append(f"max |INL| {format_quantity(inl, 'LSB')} > {format_quantity(targets.max_inl_lsb, 'LSB')}")
     return out
 
 
@@ -79,7 +80,7 @@ def _meets(design: Design, targets: Targets, criterion: str) -> bool:
 
 
 def _ohms(x: float) -> str:
-    return format_value(x, "Ω")
+    return format_quantity(x, "Ω")
 
 
 def nominal_failure(design: Design, targets: Targets | None = None, criterion: str = "all",
@@ -99,7 +100,7 @@ def nominal_failure(design: Design, targets: Targets | None = None, criterion: s
     ev = ev or evaluate(design)
     mono = "non-monotonic" in missed
     k = (int(ev.dnl.argmin()) if mono else int(abs(ev.dnl).argmax())) if ev.dnl.size else 0
-    step = f"{ev.dnl[k]:+.3g}".replace("-", "−") if ev.dnl.size else ""
+    step = format_quantity(float(ev.dnl[k]), signed=True) if ev.dnl.size else ""
     worst = f"DNL {step} LSB at transition {k + 1}" if ev.dnl.size else "one code"
     causes, changes = [], []
     d = design
@@ -113,8 +114,8 @@ def nominal_failure(design: Design, targets: Targets | None = None, criterion: s
             except RungwiseError:
                 break
             if _meets(bigger, targets, criterion):
-                changes.append(f"raise R to {_ohms(bigger.unit_r)} (×{m:g}) so the switches are a "
-                               "smaller share")
+                changes.append(f"raise R to {_ohms(bigger.unit_r)} (×{format_quantity(m)}) so the "
+                               "switches are a smaller share")
                 break
         if d.ron_high != d.ron_low and _meets(d.replace(ron_low=d.ron_high), targets, criterion):
             changes.append("switches with equal resistance in both states")
@@ -139,8 +140,8 @@ def loosest_grade_words(design: Design, grade: float | None, tightest: float,
     (the nominal design already fails: ``"none — The nominal design already fails …"``) or
     ``"tighter than ±0.01 %"`` when the nominal design meets the targets."""
     if grade is not None:
-        return f"±{grade * 100:g} %"
+        return f"±{format_percent(grade)}"
     failure = nominal_failure(design, targets, criterion)
     if failure is not None:
         return "none — " + failure.text()
-    return f"tighter than ±{tightest * 100:g} %"
+    return f"tighter than ±{format_percent(tightest)}"

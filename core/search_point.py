@@ -21,6 +21,7 @@ from .cost import CostTable, design_cost
 from .design import Design
 from .errors import RungwiseError
 from .evaluate import evaluate
+from .formatting import format_quantity
 from .grades import with_tolerance
 from .montecarlo import iter_monte_carlo
 from .nominal_reason import misses, nominal_failure
@@ -29,7 +30,6 @@ from .parts.bom import bill_of_materials
 from .search_question import LIMIT_KEYS
 from .stats_result import MonteCarloResult
 from .targets import Targets
-from .units import format_value
 from .yield_decision import SequentialYield
 
 FIRST_LOOK = 100
@@ -53,7 +53,7 @@ def limit_misses(summary: dict[str, Any], context: dict[str, Any]) -> list[str]:
             if isinstance(got, float) and math.isnan(got):
                 out.append(f"{words} not defined here (e.g. settling needs load_c and no amplifier)")
             elif got > limit:
-                out.append(f"{words} {format_value(got, unit)} > {format_value(limit, unit)}")
+                out.append(f"{words} {format_quantity(got, unit)} > {format_quantity(limit, unit)}")
     return out
 
 

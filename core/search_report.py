@@ -16,11 +16,11 @@ from typing import Any
 from .cost import CostTable
 from .design import Design
 from .designfile import DesignFile
+from .formatting import format_percent, format_quantity
 from .review import describe_targets
 from .search_question import LIMIT_KEYS, SearchQuestion
 from .space_search import SearchPoint, SearchResult, iter_search
 from .targets import Targets
-from .units import format_value
 
 TABLE_HEAD = ("Design", "Cost", "Verdict", "Yield", "Boards", "Resistors", "Switches", "Amplifiers")
 """Columns of :attr:`SearchSummary.rows`."""
@@ -30,23 +30,23 @@ def question_lines(base: Design, question: SearchQuestion, targets: Targets,
                    cost: CostTable) -> list[str]:
     """The question in words: the space, the targets and limits, how yields are decided, prices."""
     nets = ", ".join(f"{t} ({o})" for t, o in question.network_choices(base))
-    r = (", ".join(format_value(x, "Ω") for x in question.unit_r) if question.unit_r
-         else format_value(base.unit_r, "Ω"))
+    r = (", ".join(format_quantity(x, "Ω") for x in question.unit_r) if question.unit_r
+         else format_quantity(base.unit_r, "Ω"))
     target = question.target_yield if question.target_yield is not None else targets.min_yield
-    limits = [f"{words} ≤ {format_value(getattr(question, k), unit)}"
+    limits = [f"{words} ≤ {format_quantity(getattr(question, k), unit)}"
               for k, (words, unit, _) in LIMIT_KEYS.items() if math.isfinite(getattr(question, k))]
     if question.ratings:
         limits.append("every part within its rating")
     lines = [
         f"Which is the cheapest {base.bits}-bit design that meets {describe_targets(targets)} on at "
-        f"least {target * 100:g} % of boards (criterion: {question.criterion})?",
+        f"least {format_percent(target)} of boards (criterion: {question.criterion})?",
         f"Networks: {nets}; thermometer bits M: "
         f"{', '.join(map(str, question.m_choices(base)))} (segmented only); unit R: {r}; series: "
         f"{', '.join(question.series)}; grades: "
-        f"{', '.join(f'±{g * 100:g} %' for g in question.grades)}.",
-        f"Fixed by the design: reference {format_value(base.vref, 'V')}, switches "
-        f"{format_value(base.ron_high, 'Ω')} / {format_value(base.ron_low, 'Ω')}, load "
-        f"{format_value(base.load_r, 'Ω')}, mismatch model {base.mismatch.get('model', 'parts')}.",
+        f"{', '.join(f'±{format_percent(g)}' for g in question.grades)}.",
+        f"Fixed by the design: reference {format_quantity(base.vref, 'V')}, switches "
+        f"{format_quantity(base.ron_high, 'Ω')} / {format_quantity(base.ron_low, 'Ω')}, load "
+        f"{format_quantity(base.load_r, 'Ω')}, mismatch model {base.mismatch.get('model', 'parts')}.",
     ]
     if limits:
         lines.append("Limits: " + "; ".join(limits) + ".")
@@ -58,14 +58,14 @@ def _yield_cell(p: SearchPoint) -> str:
     if p.verdict == "pruned":
         return "—"
     if p.yield_ == 1.0:
-        return f"≥ {p.yield_lower * 100:.2f} %"
-    return f"{p.yield_ * 100:.2f} % ± {p.yield_stderr * 100:.2f} %"
+        return f"≥ {format_percent(p.yield_lower)}"
+    return f"{format_percent(p.yield_)} ± {format_percent(p.yield_stderr)}"
 
 
 def point_row(p: SearchPoint) -> list[str]:
     """One table row (``TABLE_HEAD`` order)."""
     r, s, a = p.counts()
-    return [p.describe(), f"{p.cost:.4g}", p.verdict, _yield_cell(p), str(p.trials or "—"),
+    return [p.describe(), format_quantity(p.cost), p.verdict, _yield_cell(p), str(p.trials or "—"),
             str(r), str(s), str(a)]
 
 
@@ -91,8 +91,8 @@ def search_summary(result: SearchResult, base: Design | None = None, cost: CostT
     best = result.answer
     breakdown = []
     if best is not None:
-        breakdown = [f"{k}: {v:.4g}" for k, v in best.breakdown.get("lines", {}).items()]
-        breakdown.append(f"total {best.cost:.4g} ({result.prices})")
+        breakdown = [f"{k}: {format_quantity(v)}" for k, v in best.breakdown.get("lines", {}).items()]
+        breakdown.append(f"total {format_quantity(best.cost)} ({result.prices})")
     return SearchSummary(
         question=question_lines(base, result.question, result.targets, cost or CostTable()),
         answer=result.answer_text(), method=result.method, prices=result.prices,

@@ -28,10 +28,10 @@ from typing import Any
 from .cost import CostTable
 from .design import Design
 from .errors import DesignError
+from .formatting import format_percent, format_quantity
 from .search_point import FIRST_LOOK, check_network, decide_point
 from .search_question import LIMIT_KEYS, MAX_POINTS, SearchQuestion
 from .targets import Targets
-from .units import format_value
 from .yield_decision import decide_yield, look_schedule
 
 WAIT_STEP = 0.1
@@ -99,8 +99,8 @@ class SearchPoint:
         d = self.design
         m = f", M = {d.thermometer_bits}" if d.topology == "segmented" else ""
         build = "".join(f", {k} {v}" for k, v in sorted(d.build.items()))
-        return (f"{self.network}{m}{build}, R = {format_value(d.unit_r, 'Ω')}, {d.series}, "
-                f"±{self.grade * 100:g} %")
+        return (f"{self.network}{m}{build}, R = {format_quantity(d.unit_r, 'Ω')}, {d.series}, "
+                f"±{format_percent(self.grade)}")
 
     def to_dict(self) -> dict[str, Any]:
         """The JSON entry of the command-line contract (plus the breakdown and decision)."""
@@ -198,9 +198,9 @@ class SearchResult:
                 f"{k}: {v}." for k, v in self.why_lost().items()))
         r, s, a = best.counts()
         return (f"Cheapest design that meets every target{partial}: {best.describe()} — cost "
-                f"{best.cost:.4g} ({self.prices}); {r} resistors, {s} switches, {a} amplifiers; "
+                f"{format_quantity(best.cost)} ({self.prices}); {r} resistors, {s} switches, {a} amplifiers; "
                 f"yield {_yield_words(best)} over {best.trials} boards (target "
-                f"{self.target_yield * 100:g} %).")
+                f"{format_percent(self.target_yield)}).")
 
     def to_dict(self) -> dict[str, Any]:
         """``{"seed", "method", "designs": [...]}`` plus the answer's index, front, why others lost."""
@@ -223,18 +223,19 @@ def _or(x: float, default: float = 0.0) -> float:
 
 def _yield_words(p: SearchPoint) -> str:
     if p.trials and p.yield_ == 1.0:
-        return f"≥ {p.yield_lower * 100:.2f} % (no failures)"
-    return f"{p.yield_ * 100:.2f} % (lower bound {p.yield_lower * 100:.2f} %)"
+        return f"≥ {format_percent(p.yield_lower)} (no failures)"
+    return f"{format_percent(p.yield_)} (lower bound {format_percent(p.yield_lower)})"
 
 
 def _why(pts: list[SearchPoint], best: SearchPoint | None, budget: int) -> str:
     ok = sorted((p for p in pts if p.meets), key=lambda p: p.cost)
     spread = max((float(p.summary.get("spread", 1.0)) for p in pts), default=1.0)
-    spread_words = f"1:{spread:.4g} spread, " if spread >= 8 else ""
+    spread_words = f"1:{format_quantity(spread)} spread, " if spread >= 8 else ""
     if ok:
         p = ok[0]
-        ratio = f", cost {p.cost / best.cost:.2g}× the answer" if best and best.cost > 0 else ""
-        tighter = (f"needs ±{p.grade * 100:g} % parts" if best is None or p.grade < best.grade
+        ratio = (f", cost {format_quantity(p.cost / best.cost, '×', digits=2)} the answer"
+                 if best and best.cost > 0 else "")
+        tighter = (f"needs ±{format_percent(p.grade)} parts" if best is None or p.grade < best.grade
                    else f"{sum(p.counts())} parts")
         return f"{spread_words}{tighter}{ratio} ({p.describe()})"
     judged = [p for p in pts if p.verdict != "pruned"]
@@ -244,9 +245,9 @@ def _why(pts: list[SearchPoint], best: SearchPoint | None, budget: int) -> str:
     top = max(judged, key=lambda p: _or(p.yield_))
     if undecided:
         return (f"{spread_words}undecided within {budget} boards (best yield "
-                f"{top.yield_ * 100:.3g} % at ±{top.grade * 100:g} %); not counted as meeting")
-    return (f"{spread_words}misses the yield at every grade tried (best {top.yield_ * 100:.3g} % at "
-            f"±{top.grade * 100:g} %)")
+                f"{format_percent(top.yield_)} at ±{format_percent(top.grade)}); not counted as meeting")
+    return (f"{spread_words}misses the yield at every grade tried (best {format_percent(top.yield_)} at "
+            f"±{format_percent(top.grade)})")
 
 
 @dataclass(frozen=True)

@@ -13,6 +13,7 @@ from __future__ import annotations
 
 import math
 
+from .formatting import format_percent
 from .nominal_reason import misses, nominal_failure
 from .sweep import SWEEP_KEYS, SweepPoint, SweepResult
 from .targets import Targets
@@ -57,8 +58,8 @@ def answer_lines(result: SweepResult, target: float, metric: str = "yield_monoto
         p = first_reaching(result, ci, metric, target)
         if p is not None:
             f = p.figures
-            lines.append(f"{design.label}: {target * 100:g} % {what} first reached at {sym} = "
-                         f"{p.value} ({f[metric] * 100:.4g} %) — {f.get('n_resistors', '?')} "
+            lines.append(f"{design.label}: {format_percent(target)} {what} first reached at {sym} = "
+                         f"{p.value} ({format_percent(f[metric])}) — {f.get('n_resistors', '?')} "
                          f"resistors, {f.get('n_switches', '?')} switches")
             continue
         best = _best(result, ci, metric)
@@ -68,8 +69,8 @@ def answer_lines(result: SweepResult, target: float, metric: str = "yield_monoto
         elif best is None:
             lines.append(f"{design.label}: no {what} figure{partial} in this sweep")
         else:
-            lines.append(f"{design.label}: never {target * 100:g} % {what}{partial} (best "
-                         f"{best.figures[metric] * 100:.4g} % at {sym} = {best.value})"
+            lines.append(f"{design.label}: never {format_percent(target)} {what}{partial} (best "
+                         f"{format_percent(best.figures[metric])} at {sym} = {best.value})"
                          + nominal_note(best, metric))
     if result.over == "bits":
         lines += largest_lines(result, target, metric)
@@ -127,7 +128,7 @@ def largest_lines(result: SweepResult, target: float, metric: str = "yield_monot
         found = largest_meeting(result, ci, metric, target)
         if found is None:
             if any(q.design is not None for q in result.points if q.candidate == ci):
-                out.append(f"{design.label}: no N decided to meet {target * 100:g} % {what} at 95 % "
+                out.append(f"{design.label}: no N decided to meet {format_percent(target)} {what} at 95 % "
                            f"confidence over {trials} boards (more boards may decide it)")
             continue
         p, d = found
@@ -137,6 +138,6 @@ def largest_lines(result: SweepResult, target: float, metric: str = "yield_monot
         if nd is not None and not nd.meets:
             word = "is undecided" if nd.verdict == "undecided" else "misses"
             after = f"; N = {p.value + 1} {word} ({nd.yield_text()})"
-        out.append(f"{design.label}: largest N still meeting {target * 100:g} % {what}: N = {p.value} "
+        out.append(f"{design.label}: largest N still meeting {format_percent(target)} {what}: N = {p.value} "
                    f"({d.yield_text()} over {trials} boards, {d.method}){after}")
     return out

@@ -31,6 +31,8 @@ from typing import Literal, get_args
 import numpy as np
 from scipy import stats
 
+from .formatting import format_percent, format_quantity
+
 Verdict = Literal["meets", "fails", "undecided"]
 Method = Literal["clopper-pearson", "wilson", "wald-sprt"]
 METHODS: tuple[str, ...] = get_args(Method)
@@ -93,13 +95,14 @@ class YieldDecision:
         if not self.trials:
             return "no boards"
         if self.no_failures:
-            return f"≥ {self.lower * 100:.2f} %"
-        return f"{self.estimate * 100:.2f} % ({self.lower * 100:.2f} … {self.upper * 100:.2f} %)"
+            return f"≥ {format_percent(self.lower)}"
+        return (f"{format_percent(self.estimate)} ({format_quantity(self.lower * 100)} … "
+                f"{format_percent(self.upper)})")
 
     def text(self) -> str:
         """One line: verdict, yield, boards and method."""
         word = {"meets": "meets", "fails": "misses", "undecided": "undecided against"}[self.verdict]
-        return (f"{word} {self.target * 100:g} %: {self.yield_text()} over {self.trials} boards "
+        return (f"{word} {format_percent(self.target)}: {self.yield_text()} over {self.trials} boards "
                 f"[{self.method}]")
 
     def to_dict(self) -> dict[str, object]:
@@ -155,7 +158,7 @@ def _bounds(method: str, passed: int, trials: int, alpha: float) -> tuple[float,
 
 
 def _percent(x: float) -> str:
-    return f"{x * 100:.4g} %"
+    return format_percent(x)
 
 
 def decide_yield(passed: int, trials: int, target: float, confidence: float = DEFAULT_CONFIDENCE,
@@ -234,7 +237,7 @@ def wald_sprt(passed: int, trials: int, target: float, confidence: float = DEFAU
     verdict: Verdict = "meets" if llr >= high else "fails" if llr <= low else "undecided"
     lower, upper = clopper_pearson_bounds(passed, trials, 1 - confidence)
     text = (f"{METHOD_NAMES['wald-sprt']}, {_percent(target - margin)} against "
-            f"{_percent(target + margin)}, α = β = {1 - confidence:.3g}")
+            f"{_percent(target + margin)}, α = β = {format_quantity(1 - confidence)}")
     return YieldDecision(verdict, int(passed), int(trials), float(target), float(confidence),
                          lower, upper, text)
 

@@ -34,6 +34,7 @@ from rungwise.core import Design
 from rungwise.core.cost import CostTable
 from rungwise.core.designfile import DesignFile
 from rungwise.core.errors import RungwiseError
+from rungwise.core.formatting import format_quantity
 from rungwise.core.grades import CRITERIA
 from rungwise.core.search_question import DEFAULT_GRADES, DEFAULT_SERIES
 from rungwise.core.search_report import TABLE_HEAD, point_row, search_summary
@@ -282,7 +283,7 @@ class SearchPane(QWidget):
         self.table.setRowCount(len(decided))
         for i, p in enumerate(decided):
             row = point_row(p)
-            tip = "; ".join(f"{k}: {v:.4g}" for k, v in p.breakdown.get("lines", {}).items())
+            tip = "; ".join(f"{k}: {format_quantity(v)}" for k, v in p.breakdown.get("lines", {}).items())
             for j, text in enumerate(row):
                 item = QTableWidgetItem(text)
                 item.setToolTip(f"{tip} ({result.prices})" if j == 1 else p.reason)

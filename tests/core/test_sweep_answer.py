@@ -67,10 +67,10 @@ def test_bit_count_answer_is_the_largest_n_decided_to_meet():
     # Pearson 1934; scipy.stats.binomtest "exact" at 90 % two-sided); 1940 of 2000: 0.9629 … 0.9760.
     r = _bits_result([1.0, 1.0, 0.999, 0.97, 0.5], 2000)
     (line,) = largest_lines(r, 0.99)
-    assert line.startswith("Lad: largest N still meeting 99 % monotonic: N = 6 (99.90 %")
+    assert line.startswith("Lad: largest N still meeting 99 % monotonic: N = 6 (99.9 %")
     assert "Clopper–Pearson" in line
-    assert "N = 6 (99.90 % (99.69 … 99.98 %) over 2000 boards" in line
-    assert line.endswith("; N = 7 misses (97.00 % (96.29 … 97.60 %))")
+    assert "N = 6 (99.9 % (99.69 … 99.98 %) over 2000 boards" in line
+    assert line.endswith("; N = 7 misses (97 % (96.29 … 97.6 %))")
     assert line in answer_lines(r, 0.99)
     # 99.5 % of 100 boards cannot be decided at 95 %: never called "meets"
     (undecided,) = largest_lines(_bits_result([0.995, 0.99], 100), 0.99)

@@ -54,7 +54,7 @@ def test_no_failures_shows_the_one_sided_lower_bound() -> None:
     assert d.no_failures
     assert d.verdict == "meets"
     assert d.lower == pytest.approx(0.05 ** (1 / 3000))  # one-sided exact bound, Clopper–Pearson
-    assert d.yield_text() == f"≥ {d.lower * 100:.2f} %"
+    assert d.yield_text() == "≥ 99.9 %"  # 0.05^(1/3000) = 0.99900
     assert "±" not in d.text()
     assert "Clopper–Pearson" in d.method
     assert "95 %" in d.method
