@@ -266,3 +266,16 @@ def test_limits_prune_with_their_figures() -> None:
     (point,) = search(base, q, executor=InlineExecutor()).points
     assert point.verdict == "pruned"
     assert "not defined here" in point.reason
+
+
+@pytest.mark.parametrize(("method", "words"), [("wilson", "Wilson score bound"),
+                                               ("wald-sprt", "Wald sequential probability ratio")])
+def test_other_decision_methods_name_themselves(method: str, words: str) -> None:
+    base = Design(topology="r2r-voltage", bits=8)
+    result = search(base, _r2r_question(method=method, grades=(0.01, 0.0025)),
+                    executor=InlineExecutor())
+    assert words in result.method
+    verdicts = {p.grade: p.verdict for p in result.decided}
+    assert verdicts[0.01] == "fails"  # about 96 % monotonic (see the Clopper–Pearson search)
+    assert verdicts[0.0025] == "meets"
+    assert all(words in p.reason for p in result.decided)
