@@ -144,3 +144,16 @@ def test_window_saves_the_files_search_and_the_edited_prices(window, tmp_path):
     back = designfile.load(path)
     assert back.search == q
     assert back.cost.switch == 0.7
+
+
+def test_default_process_pool_from_the_worker_thread(qtbot, pane):
+    """The window's default: points in a process pool started from the job's worker thread; the
+    result equals the inline one (seeds travel as arguments)."""
+    from rungwise.app.views.search_job import question_from_fields
+    from rungwise.core.space_search import search
+
+    pane.make_executor = None
+    pooled = _run(qtbot, pane)
+    q = question_from_fields({k: e.text() for k, e in pane.edits.items()}, "monotonic", 0.99, 800, 1)
+    inline = search(BASE, q, pane.targets(), pane.cost, InlineExecutor())
+    assert [p.to_dict() for p in pooled.decided] == [p.to_dict() for p in inline.decided]
