@@ -154,6 +154,8 @@ class SearchPane(QWidget):
         self.table.setHorizontalHeaderLabels(list(TABLE_HEAD))
         self.table.setSelectionBehavior(QTableWidget.SelectionBehavior.SelectRows)
         self.table.setEditTriggers(QTableWidget.EditTrigger.NoEditTriggers)
+        self.table.itemSelectionChanged.connect(self._show_breakdown)
+        self.label_breakdown = QLabel("", objectName="label_breakdown", wordWrap=True)
         self.button_add = QPushButton("Add as candidate", objectName="button_add")
         self.button_add.clicked.connect(self.add_selected)
         self.label_why = QLabel("", objectName="label_why", wordWrap=True)
@@ -165,6 +167,7 @@ class SearchPane(QWidget):
             top.addWidget(w)
         top.addWidget(self.plot, 1)
         top.addWidget(self.table, 1)
+        top.addWidget(self.label_breakdown)
         top.addWidget(self.button_add)
         top.addWidget(self.label_why)
         top.addWidget(self.label_method)
@@ -264,6 +267,16 @@ class SearchPane(QWidget):
         if rows and rows[0].row() < len(decided):
             return decided[rows[0].row()]
         return self.result.answer
+
+    def _show_breakdown(self) -> None:
+        """The selected design's cost by line and its yield decision, under the table."""
+        p = self.selected_point()
+        if p is None or self.result is None:
+            self.label_breakdown.setText("")
+            return
+        lines = "; ".join(f"{k}: {format_quantity(v)}" for k, v in p.breakdown.get("lines", {}).items())
+        self.label_breakdown.setText(f"{p.describe()} — cost {format_quantity(p.cost)} ({lines}; "
+                                     f"{self.result.prices}). {p.reason}")
 
     def add_selected(self) -> None:
         """Emit ``candidate_requested`` with the selected design (named after its settings)."""

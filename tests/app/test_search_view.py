@@ -58,6 +58,11 @@ def test_run_shows_answer_table_front_and_prices(qtbot, pane):
     assert pane.label_why.text().startswith("Why the other networks lost")
     assert len(pane.plot.getPlotItem().listDataItems()) >= 2
     assert pane.progress.value() == result.done == result.total
+    pane.table.selectRow(1)
+    second = result.decided[1]
+    assert pane.label_breakdown.text().startswith(f"{second.describe()} — cost ")
+    assert "switches: " in pane.label_breakdown.text()
+    assert "invented example prices" in pane.label_breakdown.text()
 
 
 def test_answer_added_as_candidate(qtbot, pane):
