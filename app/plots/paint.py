@@ -52,7 +52,7 @@ def paint_plot(painter: QPainter, rect: QRectF, spec: PlotSpec,
     palette = tuple(palette or ()) + PALETTE[len(palette or ()):]
     painter.save()
     painter.setRenderHint(QPainter.RenderHint.Antialiasing, True)
-    unit = rect.height() / 40.0
+    unit = max(rect.height() / 40.0, rect.width() / 80.0)  # wide, short plots keep legible text
     font = QFont("DejaVu Sans")
     font.setPixelSize(max(6, round(unit * 1.1)))
     painter.setFont(font)
