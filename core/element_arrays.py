@@ -90,25 +90,34 @@ def compile_groups(st, net, ohms: Mapping[str, np.ndarray | float]) -> list[Comp
     return out
 
 
+def _at_levels(cumulative: np.ndarray, level: np.ndarray) -> np.ndarray:
+    """``cumulative`` (shape trials + (m + 1,), singleton axes allowed) read at ``level`` (int,
+    any code shape): shape trials + level's shape, so trials lead and the code axes follow — the
+    flat layout's (n_trials, n_chunk) or the bit-tensor layout's (n_trials, *code axes)."""
+    lead = tuple(d for d in cumulative.shape[:-1] if d != 1)
+    return np.take(cumulative.reshape(lead + cumulative.shape[-1:]), level, axis=-1)
+
+
 def stamp_groups(st, levels: list, entries: dict, b: dict) -> None:
     """Add every group's conductances to the nodal ``entries`` and ``b``.
 
-    ``levels[k]`` is group k's level per code (the decode columns after the legs), shape (n_chunk,).
+    ``levels[k]`` is group k's level per code (the decode columns after the legs), shape
+    (n_chunk,) or the bit-tensor layout's code axes.
     """
     for grp, level in zip(st.groups, levels, strict=True):
         t = np.asarray(level).astype(np.int64)
-        st._stamp(entries, b, grp.node, grp.high, grp.c_hi[..., t])
+        st._stamp(entries, b, grp.node, grp.high, _at_levels(grp.c_hi, t))
         if grp.low is not None:
-            st._stamp(entries, b, grp.node, grp.low, grp.c_lo[..., t])
+            st._stamp(entries, b, grp.node, grp.low, _at_levels(grp.c_lo, t))
 
 
 def group_elements(st, levels: list):
     """Every group as two conducting elements (node a, node b, conductance per code)."""
     for grp, level in zip(st.groups, levels, strict=True):
         t = np.asarray(level).astype(np.int64)
-        yield grp.node, grp.high, grp.c_hi[..., t]
+        yield grp.node, grp.high, _at_levels(grp.c_hi, t)
         if grp.low is not None:
-            yield grp.node, grp.low, grp.c_lo[..., t]
+            yield grp.node, grp.low, _at_levels(grp.c_lo, t)
 
 
 def plain_equivalent(net, min_ron: float = 0.0):

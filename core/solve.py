@@ -264,11 +264,11 @@ class _BitLayout:
                 ) -> _BitLayout | None:
         """The layout for ``codes`` of ``net``, or ``None`` when it does not apply: codes not an
         aligned block, legs not one bit each, a network with no unknown node, too many
-        (trial, code) pairs, or thermometer groups whose levels are no shifted code (or trials)."""
+        (trial, code) pairs, or thermometer groups whose levels are no shifted code."""
         leg_bits = getattr(net.decode, "leg_bits", None)
         shifts = getattr(net.decode, "level_shifts", ())
         per_code = max(1, int(np.prod(trial_shape)))
-        groups_fit = len(shifts) == len(net.groups) and not (net.groups and trial_shape)
+        groups_fit = len(shifts) == len(net.groups)
         if not (_aligned_block(codes) and leg_bits is not None and groups_fit
                 and per_code * codes.size <= TENSOR_ELEMENTS and net.unknown_nodes()):
             return None
@@ -327,7 +327,7 @@ def _solve_bit_tensor(st: _Stamps, probe_node, plan, keep_nodes, use_super=False
     the work is on small arrays and only the last pivots and the back substitution run at full
     size; a leg's drive is small wherever it enters. Exact; the same arithmetic as the flat layout.
     The superposition path forms its node voltages leg by leg on the same layout. A thermometer
-    group's level ``code >> shift`` (nominal only) lies on the axes of the bits above the shift.
+    group's level ``code >> shift`` lies on the axes of the bits above the shift.
     """
     net = st.net
     cols = [layout.bit(b) for b in net.decode.leg_bits]

@@ -101,15 +101,18 @@ def solve_batched(
     from .errors import NetworkError
 
     a = dict(entries)
-    b = list(rhs)
+    # right-hand sides with their columns first, (n_rhs,) + batch, so every update below runs
+    # over the batch's long contiguous axes (columns last would make numpy's inner loops 2 long)
+    depth = max([np.ndim(v) for v in entries.values()] + [np.ndim(r) - 1 for r in rhs] + [0])
+    b = [np.moveaxis(np.reshape(r, (1,) * (depth + 1 - np.ndim(r)) + np.shape(r)), -1, 0).copy()
+         for r in rhs]
     pivots: list[np.ndarray | float] = [0.0] * n
     for k, nb in zip(plan.order, plan.later_neighbours, strict=True):
         shunt = a.get((k, k), 0.0)
         d = shunt
         for i in nb:
             d = d - a.get(_key(i, k), 0.0)
-        bad = ~(np.asarray(d) > 0) | ~np.isfinite(np.asarray(d))
-        if np.any(bad):
+        if not (np.min(d) > 0 and np.max(d) < np.inf):  # NaN fails both
             name = node_names[k] if node_names else str(k)
             raise NetworkError(name, f"node '{name}' has no DC path to ground or a source "
                                "(a floating node): the network cannot be solved")
@@ -117,7 +120,7 @@ def solve_batched(
         factors = {i: a.get(_key(i, k), 0.0) / d for i in nb}
         for idx, i in enumerate(nb):
             li = factors[i]
-            b[i] = b[i] - np.asarray(li)[..., None] * b[k]
+            b[i] = b[i] - li * b[k]
             a[(i, i)] = a.get((i, i), 0.0) - li * shunt  # li ≤ 0: the shunt only grows
             for j in nb[idx + 1:]:
                 a[_key(i, j)] = a.get(_key(i, j), 0.0) - li * a.get(_key(k, j), 0.0)
@@ -128,9 +131,9 @@ def solve_batched(
             continue
         acc = b[k]
         for i in nb:
-            acc = acc - np.asarray(a.get(_key(k, i), 0.0))[..., None] * x[i]
-        x[k] = acc / np.asarray(pivots[k])[..., None]
-    return x
+            acc = acc - a.get(_key(k, i), 0.0) * x[i]
+        x[k] = acc / pivots[k]
+    return [None if v is None else np.moveaxis(v, 0, -1) for v in x]
 
 
 def _needed(plan: EliminationPlan, wanted: set[int] | None) -> set[int] | None:

@@ -153,28 +153,42 @@ class MonteCarloResult:
         """Max |INL| of the line the targets use (``targets.inl_line``), shape (done,), LSB."""
         return self._get(f"max_abs_inl_{self.targets.inl_line}")
 
+    def passes(self, criterion: str) -> np.ndarray:
+        """Per board, shape (done,): whether it meets ``criterion`` — ``"monotonic"``, ``"dnl"``
+        (max |DNL| ≤ ``targets.max_dnl_lsb``), ``"inl"`` (max |INL| ≤ ``targets.max_inl_lsb``) or
+        ``"all"`` (every target at once, judged jointly per board; monotonic only when the targets
+        ask for it)."""
+        if criterion == "monotonic":
+            return self.monotonic
+        dnl_ok = self.max_abs_dnl <= self.targets.max_dnl_lsb
+        if criterion == "dnl":
+            return dnl_ok
+        inl_ok = self.max_abs_inl <= self.targets.max_inl_lsb
+        if criterion == "inl":
+            return inl_ok
+        if criterion != "all":
+            raise ValueError(f"unknown yield criterion {criterion!r}")
+        return dnl_ok & inl_ok & self.monotonic if self.targets.monotonic else dnl_ok & inl_ok
+
     @property
     def yield_monotonic(self) -> YieldFigure:
         """Share of monotonic boards."""
-        return YieldFigure.of(self.monotonic)
+        return YieldFigure.of(self.passes("monotonic"))
 
     @property
     def yield_dnl(self) -> YieldFigure:
         """Share of boards with max |DNL| ≤ ``targets.max_dnl_lsb``."""
-        return YieldFigure.of(self.max_abs_dnl <= self.targets.max_dnl_lsb)
+        return YieldFigure.of(self.passes("dnl"))
 
     @property
     def yield_inl(self) -> YieldFigure:
         """Share of boards with max |INL| ≤ ``targets.max_inl_lsb``."""
-        return YieldFigure.of(self.max_abs_inl <= self.targets.max_inl_lsb)
+        return YieldFigure.of(self.passes("inl"))
 
     @property
     def yield_all(self) -> YieldFigure:
-        """Share of boards that meet every target at once (judged jointly per board; monotonic
-        only when the targets ask for it)."""
-        ok = (self.max_abs_dnl <= self.targets.max_dnl_lsb) & (
-            self.max_abs_inl <= self.targets.max_inl_lsb)
-        return YieldFigure.of(ok & self.monotonic if self.targets.monotonic else ok)
+        """Share of boards that meet every target at once (see :meth:`passes`)."""
+        return YieldFigure.of(self.passes("all"))
 
     def yields(self) -> dict[str, YieldFigure]:
         """Every yield by field name (``YIELDS`` order)."""

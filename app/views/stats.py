@@ -241,8 +241,10 @@ class StatisticsPane(QWidget):
         if channel != CHANNEL:
             return
         self.progress.setValue(int(1000 * p.done / max(p.total, 1)))
-        if isinstance(p.partial, StatsOutcome):
+        if isinstance(p.partial, StatsOutcome):  # partial results while it runs
             self._fill_table(p.partial)
+            self._plot_yield(p.partial)
+            self.label_status.setText(self._verdict(p.partial))
 
     def _on_failed(self, channel: str, message: str) -> None:
         if channel == CHANNEL:
@@ -268,14 +270,19 @@ class StatisticsPane(QWidget):
         rule = CRITERIA[req.criterion].lower()
         lines = []
         for i, d in enumerate(req.designs):
-            r = outcome.results[i]
-            y = getattr(r, f"yield_{req.criterion}") if r is not None else None
-            ok = y is not None and y.value >= req.target_yield
-            need = grade_text(outcome.loosest(i)) if outcome.curves[i] is not None else "—"
-            if outcome.loosest(i) is None and i < len(outcome.reasons) and outcome.reasons[i]:
+            decision = outcome.decisions[i] if i < len(outcome.decisions) else None
+            if decision is not None:  # the shared decision rule, stated with its confidence
+                said = decision.text()
+            elif outcome.results[i] is None:
+                said = "waiting"
+            else:
+                said = f"running ({outcome.results[i].done:,} boards so far)"
+            curve = outcome.curves[i]
+            full = curve is not None and len(curve.yields) == len(curve.steps)
+            need = grade_text(outcome.loosest(i)) if full else ("…" if curve is not None else "—")
+            if full and outcome.loosest(i) is None and i < len(outcome.reasons) and outcome.reasons[i]:
                 need = outcome.reasons[i]
-            lines.append(f"{d.label}: {'meets' if ok else 'misses'} {req.target_yield * 100:g} % "
-                         f"({rule}); loosest grade that meets it: {need}"
+            lines.append(f"{d.label}: {said} ({rule}); loosest grade that meets it: {need}"
                          + (f" ({outcome.notes[i]})" if outcome.notes[i] else ""))
         return "\n".join(lines)
 

@@ -1,5 +1,9 @@
 """The statistics view's background job, without Qt: each candidate's Monte Carlo run at the chosen
 grade, then its yield-against-grade curve, reported chunk by chunk as ``workers.Progress``.
+
+Every run stops as soon as its yield is decided against the target yield at the stated confidence
+(``grades.iter_until_decided``, the rule the design search uses too), so a clear pass or miss
+costs a few hundred boards, not the whole budget.
 """
 
 from __future__ import annotations
@@ -9,13 +13,20 @@ from collections.abc import Iterator
 from dataclasses import dataclass, field
 from typing import Any
 
-from rungwise.core import Design, iter_monte_carlo
+from rungwise.core import Design
 from rungwise.core.errors import DesignError
-from rungwise.core.grades import STANDARD_GRADES, YieldCurve, iter_yield_vs_tolerance, with_tolerance
+from rungwise.core.grades import (
+    STANDARD_GRADES,
+    YieldCurve,
+    iter_until_decided,
+    iter_yield_vs_tolerance,
+    with_tolerance,
+)
 from rungwise.core.mismatch import MismatchModel
 from rungwise.core.nominal_reason import loosest_grade_words
 from rungwise.core.stats_result import MonteCarloResult
 from rungwise.core.targets import Targets
+from rungwise.core.yield_decision import YieldDecision
 
 
 @dataclass(frozen=True)
@@ -33,7 +44,8 @@ class StatsRequest:
 
 @dataclass
 class StatsOutcome:
-    """Per candidate: the run at the chosen grade and the yield curve (``None`` where it has none)."""
+    """Per candidate: the run at the chosen grade, its decision against the target yield and the
+    yield curve (``None`` where it has none)."""
 
     request: StatsRequest
     results: list[MonteCarloResult | None]
@@ -42,6 +54,7 @@ class StatsOutcome:
     reasons: list[str] = field(default_factory=list)
     """Per candidate: the loosest-grade answer in words when no grade passes (the nominal design's
     real reason, ``nominal_reason.loosest_grade_words``), else ""."""
+    decisions: list[YieldDecision | None] = field(default_factory=list)
 
     def loosest(self, i: int) -> float | None:
         """Loosest standard grade meeting the target yield for candidate ``i``."""
@@ -66,21 +79,24 @@ def statistics_job(request: StatsRequest) -> Any:
         n = len(request.designs)
         steps = 1 + len(STANDARD_GRADES)
         total = n * steps * request.trials
-        outcome = StatsOutcome(request, [None] * n, [None] * n, [""] * n, [""] * n)
+        outcome = StatsOutcome(request, [None] * n, [None] * n, [""] * n, [""] * n, [None] * n)
         for i, base in enumerate(request.designs):
             design, note = _at_grade(base, request.grade)
             outcome.notes[i] = note
-            for partial in iter_monte_carlo(design, request.trials, request.seed, cancel=cancel,
-                                            targets=request.targets, reports=20):
-                outcome.results[i] = partial
-                yield Progress((i * steps) * request.trials + partial.done, total, outcome)
+            for partial, decision in iter_until_decided(
+                    design, request.trials, request.seed, request.targets, request.criterion,
+                    request.target_yield, cancel):
+                outcome.results[i], outcome.decisions[i] = partial, decision
+                done = request.trials if decision is not None else partial.done
+                yield Progress((i * steps) * request.trials + done, total, outcome)
             if cancel.is_set():
                 return
             if MismatchModel.of(base).model == "on-chip":
                 outcome.notes[i] = outcome.notes[i] or "on-chip area law: no tolerance grade"
                 continue
             for curve in iter_yield_vs_tolerance(base, STANDARD_GRADES, request.trials, request.seed,
-                                                 request.targets, request.criterion, cancel):
+                                                 request.targets, request.criterion, cancel,
+                                                 request.target_yield):
                 outcome.curves[i] = curve
                 yield Progress((i * steps + 1 + len(curve.yields)) * request.trials, total, outcome)
             if cancel.is_set():

@@ -9,8 +9,8 @@ import pytest
 from rungwise.app.jobs.workers import run_sync
 from rungwise.app.views.stats_job import StatsRequest, statistics_job
 from rungwise.app.window.view_registry import VIEWS
-from rungwise.core import Design, monte_carlo
-from rungwise.core.grades import loosest_grade, with_tolerance
+from rungwise.core import Design
+from rungwise.core.grades import iter_until_decided, loosest_grade, with_tolerance
 
 LADDER = Design(topology="r2r-voltage", bits=8, name="Ladder")
 UNITS = Design(topology="binary-weighted", output="divider", bits=8, build={"binary": "unit-array"},
@@ -52,12 +52,17 @@ def test_review_question_with_one_percent_parts(qtbot, pane):
     pane.combo_criterion.setCurrentIndex(pane.combo_criterion.findData("monotonic"))
     pane.spin_target.setValue(99.0)
     pane.edit_seed.setText("17")
+    pane.spin_trials.setValue(1000)  # enough boards to decide 99 % at 95 % confidence
     outcome = _run(qtbot, pane)
     assert pane.table.rowCount() == 2
     for row, design in enumerate((UNITS, PER_BIT)):
-        api = monte_carlo(with_tolerance(design, 0.01), 400, seed=17)
+        # each run stops once decided against the target, by the same rule as the API's
+        *_, (api, decision) = iter_until_decided(with_tolerance(design, 0.01), 1000, 17, None,
+                                                 "monotonic", 0.99)
         assert pane.table.item(row, 2).text() == api.yield_monotonic.text()
-        grade, _ = loosest_grade(design, 0.99, trials=400, seed=17, criterion="monotonic")
+        assert outcome.decisions[row] == decision
+        grade, _ = loosest_grade(design, 0.99, trials=1000, seed=17, criterion="monotonic",
+                                 early_stop=True)
         assert outcome.loosest(row) == grade
         assert pane.table.item(row, 6).text() == f"±{grade * 100:g} %"
     assert outcome.results[0].yield_monotonic.value >= 0.99  # the unit array passes at 1 %

@@ -87,3 +87,34 @@ def test_a_cancel_stops_the_yield_curve_inside_a_grade_run():
                                           cancel=SetAfterFirstGrade()))
     assert len(curves) == 1
     assert len(curves[-1].yields) == 1
+
+
+def test_a_run_stops_once_its_yield_is_decided_by_the_shared_rule():
+    from rungwise.core.grades import iter_until_decided
+    from rungwise.core.montecarlo import monte_carlo
+    from rungwise.core.yield_decision import SequentialYield
+
+    # ±5 % parts: a clear miss, decided at the first look (100 boards of a 2000 budget)
+    *_, (run, decision) = iter_until_decided(with_tolerance(LADDER, 0.05), 2000, 3, None,
+                                             "monotonic", 0.99)
+    assert decision.verdict == "fails"
+    assert decision.trials == 100 and run.done < 2000
+    # the same boards as a full run, judged by yield_decision's sequential rule
+    full = monte_carlo(with_tolerance(LADDER, 0.05), 2000, seed=3)
+    assert np.array_equal(run.monotonic, full.monotonic[:run.done])
+    assert SequentialYield(0.99, 2000).update(full.monotonic) == decision
+    # ±0.01 % parts: every board passes; "meets" needs enough boards for the one-sided bound
+    *_, (run, decision) = iter_until_decided(with_tolerance(LADDER, 0.0001), 2000, 3, None,
+                                             "monotonic", 0.99)
+    assert decision.verdict == "meets" and decision.lower >= 0.99
+    assert decision.trials < 2000
+
+
+def test_early_stopped_curve_counts_only_grades_decided_to_meet():
+    grade, curve = loosest_grade(LADDER, 0.99, trials=1500, seed=4, criterion="monotonic",
+                                 early_stop=True)
+    assert len(curve.decisions) == len(STANDARD_GRADES)
+    meets = [float(s) for s, d in zip(curve.steps, curve.decisions, strict=True) if d.meets]
+    assert grade == max(meets)
+    plain, _ = loosest_grade(LADDER, 0.99, trials=1500, seed=4, criterion="monotonic")
+    assert grade <= plain  # a decided "meets" is never looser than the plain estimate's pick
