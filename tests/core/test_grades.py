@@ -98,7 +98,8 @@ def test_a_run_stops_once_its_yield_is_decided_by_the_shared_rule():
     *_, (run, decision) = iter_until_decided(with_tolerance(LADDER, 0.05), 2000, 3, None,
                                              "monotonic", 0.99)
     assert decision.verdict == "fails"
-    assert decision.trials == 100 and run.done < 2000
+    assert decision.trials == 100
+    assert run.done < 2000
     # the same boards as a full run, judged by yield_decision's sequential rule
     full = monte_carlo(with_tolerance(LADDER, 0.05), 2000, seed=3)
     assert np.array_equal(run.monotonic, full.monotonic[:run.done])
@@ -106,7 +107,8 @@ def test_a_run_stops_once_its_yield_is_decided_by_the_shared_rule():
     # ±0.01 % parts: every board passes; "meets" needs enough boards for the one-sided bound
     *_, (run, decision) = iter_until_decided(with_tolerance(LADDER, 0.0001), 2000, 3, None,
                                              "monotonic", 0.99)
-    assert decision.verdict == "meets" and decision.lower >= 0.99
+    assert decision.verdict == "meets"
+    assert decision.lower >= 0.99
     assert decision.trials < 2000
 
 
