@@ -320,9 +320,11 @@ class StatisticsPane(QWidget):
         for i, curve in enumerate(outcome.curves):
             if curve is None or not curve.yields:
                 continue
-            steps = curve.steps[:len(curve.yields)]
+            done = list(curve.yields)  # a running job may append while this reads
+            steps = curve.steps[:len(done)]
+            values = np.array([y.value for y in done])
             pen = pg.mkPen(candidate_colour(self._colours, i), width=2)
-            self.plot_yield.plot(steps * 100, curve.values * 100, pen=pen,
+            self.plot_yield.plot(steps * 100, values * 100, pen=pen,
                                  symbol="o", name=outcome.request.designs[i].label)
         target = outcome.request.target_yield * 100
         dashed = pg.mkPen("#888", style=Qt.PenStyle.DashLine)
