@@ -13,7 +13,7 @@ from .limits import check_evaluation
 from .metrics import linearity
 from .metrics.dynamics import SUMMARY_KEYS as DYNAMIC_SUMMARY_KEYS
 from .metrics.dynamics import Dynamics, Scope, dynamic_figures
-from .metrics.power import WHOLE_CODES
+from .metrics.power import WHOLE_CODES, PowerFold
 from .metrics.power_arrays import part_power_arrays
 from .metrics.structure import structure
 from .network import Network
@@ -203,14 +203,17 @@ def evaluate(design: Design, dynamics: Scope = "all") -> Evaluation:
     """
     check_evaluation(design.bits)
     net = build(design)
-    # node voltages kept for the power figures (saves a second solve); a string's come from its
-    # reference and load currents instead
-    sol = solve(net, keep_nodes=net.selector is None and not net.chains
-                and net.n_codes <= WHOLE_CODES)
+    # one nominal solve: its node voltages feed the power figures — kept up to WHOLE_CODES,
+    # streamed piece by piece into the power fold above that (plain networks); a string's come
+    # from its reference and load currents instead
+    array_held = net.selector is not None or bool(net.chains)
+    fold = PowerFold(net) if not (array_held or net.groups) and net.n_codes > WHOLE_CODES else None
+    sol = solve(net, keep_nodes=not array_held and (net.n_codes <= WHOLE_CODES or fold is not None),
+                node_sink=None if fold is None else fold.add)
     v = sol.vout
     curves = linearity_curves(v)
-    extra, elements = part_figures(design, net, sol)
-    guarantee, guarantee_note = worst_case_summary(design)
+    extra, elements = part_figures(design, net, sol, None if fold is None else fold.result())
+    guarantee, guarantee_note = worst_case_summary(design, net=net)
     power_max, power_code = part_power_arrays(elements, net.parts)
     dyn_summary, dyn = dynamic_figures(design, net, v, scope=dynamics)
     summary = {**summarize(design, net, sol, curves, guarantee), **extra, **dyn_summary}

@@ -12,7 +12,8 @@ Both return the same :class:`Solution`; tests check them against each other and 
 
 from __future__ import annotations
 
-from collections.abc import Mapping
+import dataclasses
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass
 from typing import Literal
 
@@ -156,6 +157,7 @@ def solve(
     method: Method = "auto",
     keep_nodes: bool = False,
     vout_only: bool = False,
+    node_sink: Callable[[np.ndarray, Solution], None] | None = None,
 ) -> Solution:
     """Solve ``net`` exactly at every code.
 
@@ -175,6 +177,10 @@ def solve(
     vout_only : bool
         Only ``vout`` is wanted (Monte Carlo): the elimination forms no other node voltage than
         those the output needs, and ``iref`` is NaN (not computed).
+    node_sink : callable (codes, Solution) → None, optional
+        With ``keep_nodes`` (nominal solves): receives each piece of codes solved with its node
+        voltages, which the returned solution then leaves out — one pass over the codes whose
+        node voltages are never all held at once (the power figures at any resolution).
 
     Returns
     -------
@@ -207,7 +213,8 @@ def solve(
     plan = _plan(st.n, st.pairs, probe_node)
     wanted = _output_nodes(st) if vout_only and not keep_nodes else None
     if layout is not None:
-        return _solve_bit_tensor(st, probe_node, plan, keep_nodes, use_super, wanted, layout=layout)
+        sol = _solve_bit_tensor(st, probe_node, plan, keep_nodes, use_super, wanted, layout=layout)
+        return _to_sink(node_sink, codes, sol)
     step = max(1, CHUNK_ELEMENTS // per_code)
     pieces = []
     for start in range(0, len(codes), step):
@@ -220,7 +227,8 @@ def solve(
             volts = _solve_superposition(st, drive, trial_shape, probe_node, plan)
         else:
             volts = _solve_general(st, cols, probe_node, plan, wanted)
-        pieces.append(_finish(st, cols, volts, shape, keep_nodes, use_super, wanted is not None))
+        piece = _finish(st, cols, volts, shape, keep_nodes, use_super, wanted is not None)
+        pieces.append(_to_sink(node_sink, codes[start:start + step], piece))
     if len(pieces) == 1:
         return pieces[0]
     return Solution(
@@ -231,6 +239,15 @@ def solve(
         node_voltages={k: np.concatenate([p.node_voltages[k] for p in pieces], axis=-1)
                        for k in pieces[0].node_voltages},
     )
+
+
+def _to_sink(node_sink, codes: np.ndarray, sol: Solution) -> Solution:
+    """Hand ``sol`` (at ``codes``) to ``node_sink`` and keep it without node voltages; unchanged
+    without a sink."""
+    if node_sink is None:
+        return sol
+    node_sink(codes, sol)
+    return dataclasses.replace(sol, node_voltages={})
 
 
 def _aligned_block(codes: np.ndarray) -> bool:

@@ -155,7 +155,7 @@ def candidate_transitions(design: Design, net: Network, superposition: bool) -> 
 
 
 def worst_steps(design: Design, tolerance: np.ndarray | float | None = None,
-                max_work: int = MAX_WORK) -> WorstSteps:
+                max_work: int = MAX_WORK, net: Network | None = None) -> WorstSteps:
     """The smallest step of every examined transition over the tolerance box.
 
     Parameters
@@ -164,13 +164,14 @@ def worst_steps(design: Design, tolerance: np.ndarray | float | None = None,
     tolerance : float or ndarray (n_parts,), optional — half-widths (fraction); default from
         the design's ``mismatch`` table (:func:`part_tolerances`)
     max_work : int — largest trials × codes of the sensitivity solve
+    net : Network, optional — ``build(design)`` when the caller already has it
 
     Raises
     ------
     Undecided
         The network is too large for the exact search (``MAX_WORK``).
     """
-    net = build(design)
+    net = build(design) if net is None else net
     ids, tol = part_tolerances(design, net)
     if tolerance is not None:
         tol = np.broadcast_to(np.asarray(tolerance, dtype=float), (len(ids),)).copy()
@@ -287,16 +288,17 @@ SUMMARY_KEYS: dict[str, tuple[str, str]] = {
 """Summary keys of the worst-case guarantee → (label, unit)."""
 
 
-def summary(design: Design, max_work: int = SUMMARY_WORK) -> tuple[dict, str]:
+def summary(design: Design, max_work: int = SUMMARY_WORK, net: Network | None = None
+            ) -> tuple[dict, str]:
     """The guarantee's summary entries (see :data:`SUMMARY_KEYS`) and how it was decided, in
     words. ``guaranteed_monotonic`` is True only when decided so: an undecided design reads False
-    (with NaN figures) and the words say why."""
+    (with NaN figures) and the words say why. ``net``: ``build(design)`` when the caller has it."""
     undecided = {"guaranteed_monotonic": False, "worst_case_min_step": float("nan"),
                  "worst_case_transition": float("nan")}
     if design.topology == "string":
         return {**undecided, "guaranteed_monotonic": True}, STRING_NOTE
     try:
-        w = worst_steps(design, max_work=max_work)
+        w = worst_steps(design, max_work=max_work, net=net)
     except Undecided as exc:
         return undecided, str(exc)
     tol = float(np.max(w.tolerance)) if w.tolerance.size else 0.0

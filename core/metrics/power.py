@@ -143,33 +143,53 @@ def worst_case(net: Network, solved: Solution | None = None
                   + [float(np.min(g.ohms)) for g in net.groups if g.size])
         smallest = min(arrays or [r.ohms for r in net.resistors])
         net = plain_equivalent(net, min_ron=1e-6 * smallest)
-    vref = net.fixed[net.source]
-    best: dict[str, list] = {}
-    tot_best = [-1.0, 0]
-    ref_best = [-1.0, 0]
-    balance = 0.0
+    fold = PowerFold(net)
     whole = net.n_codes <= WHOLE_CODES
     step = net.n_codes if whole else CODE_CHUNK
     reuse = (solved is not None and whole and solved.node_voltages
              and solved.vout.shape == (net.n_codes,))
     for start in range(0, net.n_codes, step):
         codes = np.arange(start, min(start + step, net.n_codes))
-        sol = solved if reuse else solve(net, codes=None if whole else codes, keep_nodes=True)
+        fold.add(codes, solved if reuse else solve(net, codes=None if whole else codes,
+                                                   keep_nodes=True))
+    return fold.result()
+
+
+class PowerFold:
+    """Worst-case power of a network of plain resistors and legs, folded over pieces of codes.
+
+    Feed it each piece's ``Solution`` with node voltages (:meth:`add`, in any order; the solver
+    can stream them to it, ``solve(…, node_sink=fold.add)``, so no more than a piece is held),
+    then read :meth:`result` — the same as :func:`worst_case`.
+    """
+
+    def __init__(self, net: Network) -> None:
+        self.net = net
+        self.best: dict[str, list] = {}
+        self.total_best = [-1.0, 0]
+        self.ref_best = [-1.0, 0]
+        self.balance = 0.0
+
+    def add(self, codes: np.ndarray, sol: Solution) -> None:
+        """Fold the solution at ``codes`` (shape (n,)) into the worst cases."""
+        net = self.net
         volts = {k: np.broadcast_to(v, codes.shape) for k, v in sol.node_voltages.items()}
-        total, fed = _track(best, net, codes, _drive_rows(net, codes), volts, sol.vout)
-        p_ref = vref * sol.iref
-        balance = max(balance, float(np.max(np.abs(p_ref - fed))))
+        total, fed = _track(self.best, net, codes, _drive_rows(net, codes), volts, sol.vout)
+        p_ref = net.fixed[net.source] * sol.iref
+        self.balance = max(self.balance, float(np.max(np.abs(p_ref - fed))))
         k = int(np.argmax(total))
-        if total[k] > tot_best[0]:
-            tot_best = [float(total[k]), int(codes[k])]
+        if total[k] > self.total_best[0]:
+            self.total_best = [float(total[k]), int(codes[k])]
         k = int(np.argmax(np.abs(p_ref)))
-        if abs(p_ref[k]) > ref_best[0]:
-            ref_best = [float(abs(p_ref[k])), int(codes[k])]
-    elements = _ordered(best, net)
-    totals = {"power_total_max": tot_best[0], "power_total_max_code": tot_best[1],
-              "ref_power_max": ref_best[0], "ref_power_max_code": ref_best[1],
-              "balance_error_max": balance}
-    return elements, totals
+        if abs(p_ref[k]) > self.ref_best[0]:
+            self.ref_best = [float(abs(p_ref[k])), int(codes[k])]
+
+    def result(self) -> tuple[list[ElementPower], dict[str, float]]:
+        """``(elements, totals)`` as :func:`worst_case` returns them."""
+        totals = {"power_total_max": self.total_best[0], "power_total_max_code": self.total_best[1],
+                  "ref_power_max": self.ref_best[0], "ref_power_max_code": self.ref_best[1],
+                  "balance_error_max": self.balance}
+        return _ordered(self.best, self.net), totals
 
 
 KIND_ORDER = {"part": 0, "switch": 1, "reference": 2, "load": 3}

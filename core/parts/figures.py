@@ -43,7 +43,8 @@ SUMMARY_KEYS: dict[str, tuple[str, str]] = {
 """Summary keys added here → (label, unit), in display order."""
 
 
-def part_figures(design: Any, net: Network, sol: Solution
+def part_figures(design: Any, net: Network, sol: Solution,
+                 powers: tuple[list[ElementPower], dict[str, float]] | None = None
                  ) -> tuple[dict[str, Any], list[ElementPower]]:
     """Summary entries (see :data:`SUMMARY_KEYS`; the ``amp_`` ones only where the output has an
     amplifier) and every element's worst-case power.
@@ -56,8 +57,10 @@ def part_figures(design: Any, net: Network, sol: Solution
         The nominal network (values already snapped).
     sol : Solution
         Its nominal solution, shape (n_codes,).
+    powers : (elements, totals), optional
+        The worst-case powers when already folded while solving (``metrics.power.PowerFold``).
     """
-    elements, totals = worst_case(net, sol)
+    elements, totals = powers if powers is not None else worst_case(net, sol)
     sw_current, sw_source, sw_sink = switch_maxima(elements)
     tau = settling.time_constant(net, sol.rout, settling.output_capacitance(design))
     density = noise.output_density(net, sol.rout, design.temperature_c)
