@@ -12,7 +12,7 @@ from typing import Any
 
 import numpy as np
 
-from rungwise.core import SUMMARY_KEYS, Evaluation, MonteCarloResult, evaluate, monte_carlo
+from rungwise.core import SUMMARY_KEYS, Evaluation, MonteCarloResult, evaluate, iter_monte_carlo
 from rungwise.core.errors import RungwiseError
 from rungwise.core.figure_meaning import shown
 from rungwise.core.formatting import format_quantity
@@ -24,6 +24,7 @@ from rungwise.core.skew import add_skew_figures
 from rungwise.core.targets import Targets
 
 from .candidates import add_choice_arguments, chosen_candidates, load_document
+from .progress import StderrProgress
 from .stats_text import grade_curves, grades_dict, render_stats_table, stats_csv_rows
 
 NAME = "compute"
@@ -176,10 +177,17 @@ def _statistics(args: argparse.Namespace, designs: list
             print(f"rungwise: statistics of {d.label}: {plan.describe()}", file=sys.stderr)
     if args.criterion != "all" and not args.grades:
         raise RungwiseError("--criterion needs --grades")
-    results = [monte_carlo(d, trials, seed, targets=targets) for d in designs]
-    if not args.grades:
-        return results, None
-    curves = grade_curves(designs, trials, seed, targets, args.criterion)
+    with StderrProgress() as progress:
+        results = []
+        for i, d in enumerate(designs):
+            for partial in iter_monte_carlo(d, trials, seed, targets=targets, reports=20):
+                progress(f"statistics of {d.label} ({i + 1} of {len(designs)}): "
+                         f"{partial.done:,} of {trials:,} boards")
+            results.append(partial)
+        if not args.grades:
+            return results, None
+        progress("yield against part grade …")
+        curves = grade_curves(designs, trials, seed, targets, args.criterion)
     return results, [None if c is None else grades_dict(c, targets.min_yield, targets) for c in curves]
 
 

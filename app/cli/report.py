@@ -10,6 +10,7 @@ from pathlib import Path
 from rungwise.core.errors import RungwiseError
 
 from .candidates import add_choice_arguments, chosen_candidates, load_document
+from .progress import StderrProgress
 
 NAME = "report"
 HELP = ("Write the design-review report (PDF): inputs, comparison, plots, statistics, parts, "
@@ -40,10 +41,10 @@ def run(args: argparse.Namespace) -> int:
     from ..plots.report_pdf import write_report  # imports Qt: only this command needs it
 
     source = Path(args.design) if args.design else None
-    data = gather(doc, title=title, with_stats=not args.no_stats,
-                  progress=lambda line: print(f"rungwise: {line}", file=sys.stderr, flush=True),
-                  source=source.name if source else "",
-                  file_bytes=source.read_bytes() if source else None)
+    with StderrProgress() as progress:
+        data = gather(doc, title=title, with_stats=not args.no_stats, progress=progress,
+                      source=source.name if source else "",
+                      file_bytes=source.read_bytes() if source else None)
     try:
         write_report(out, data)
     except OSError as exc:

@@ -10,12 +10,13 @@ import json
 import sys
 from pathlib import Path
 
-from rungwise.core.sweep import SWEEP_KEYS, SweepResult, SweepStatistics, sweep, sweep_values
+from rungwise.core.sweep import SWEEP_KEYS, SweepResult, SweepStatistics, iter_sweep, sweep_values
 from rungwise.core.sweep_answer import answer_lines
 from rungwise.core.units import parse_value
 
 from .candidates import apply_choices, load_candidates, parse_settings
 from .compute import _plain
+from .progress import StderrProgress
 
 NAME = "sweep"
 HELP = ("Sweep the bit count N or a segmented design's thermometer bits M and write every figure "
@@ -92,7 +93,10 @@ def run(args: argparse.Namespace) -> int:
 
             raise DesignError("target-yield", f"{args.target_yield} is out of range; allowed: "
                               "above 0 and at most 100 %")
-    result = sweep(designs, args.over, values, stats)
+    total = len(designs) * len(values)
+    with StderrProgress() as progress:
+        for result in iter_sweep(designs, args.over, values, stats):
+            progress(f"sweep: {len(result.points)} of {total} points")
     text = render_json(result) if args.format == "json" else render_csv(result)
     if args.output:
         Path(args.output).write_text(text.rstrip("\n") + "\n", encoding="utf-8")

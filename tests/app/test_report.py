@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import hashlib
+import io
 import os
 import re
 import shutil
@@ -68,15 +69,19 @@ def _design(tmp_path: Path, targets: Targets = Targets()) -> tuple[Path, DesignF
     return path, doc
 
 
+class _Terminal(io.StringIO):
+    def isatty(self) -> bool:
+        return True
+
+
 @pytest.fixture(scope="module")
 def report(tmp_path_factory, qapp) -> tuple[Path, Path, DesignFile, str]:
     tmp = tmp_path_factory.mktemp("report")
     path, doc = _design(tmp)
     pdf = tmp / "review.pdf"
-    import io
     from contextlib import redirect_stderr
 
-    err = io.StringIO()
+    err = _Terminal()  # progress lines are written to a terminal only
     with redirect_stderr(err):
         assert run_cli(["report", str(path), "-o", str(pdf)]) == 0
     return path, pdf, doc, err.getvalue()
