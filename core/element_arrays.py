@@ -86,7 +86,7 @@ def compile_groups(st, net, ohms: Mapping[str, np.ndarray | float]) -> list[Comp
         out.append(CompiledGroup(grp.node, grp.high, grp.low, c_hi, c_lo))
         for rail in (grp.high, grp.low):
             if rail is not None:
-                st._stamp({}, {}, grp.node, rail, 0.0)  # pattern only
+                st.stamp({}, {}, grp.node, rail, 0.0)  # pattern only
     return out
 
 
@@ -106,9 +106,9 @@ def stamp_groups(st, levels: list, entries: dict, b: dict) -> None:
     """
     for grp, level in zip(st.groups, levels, strict=True):
         t = np.asarray(level).astype(np.int64)
-        st._stamp(entries, b, grp.node, grp.high, _at_levels(grp.c_hi, t))
+        st.stamp(entries, b, grp.node, grp.high, _at_levels(grp.c_hi, t))
         if grp.low is not None:
-            st._stamp(entries, b, grp.node, grp.low, _at_levels(grp.c_lo, t))
+            st.stamp(entries, b, grp.node, grp.low, _at_levels(grp.c_lo, t))
 
 
 def group_elements(st, levels: list):

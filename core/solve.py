@@ -38,11 +38,24 @@ def _conductance(ohms: np.ndarray | float) -> np.ndarray | float:
 
 
 class _Stamps:
-    """Nodal matrix and right-hand side, affine in the leg drives.
+    """The network compiled into nodal stamps, affine in the leg drives.
 
-    ``A(code) = A0 + Σ_l drive_l · dA_l`` and ``b(code) = b0 + Σ_l drive_l · db_l``.
-    Right-hand-side columns: 0 = the sources; 1 = probe (unit current into the output node, or the
-    summing node's coupling conductances for a virtual-ground output).
+    Matrix entries are dicts ``{(i, j): value}`` in ``sparse_elim``'s form (off-diagonal
+    −conductance, diagonal = the shunt to fixed nodes); right-hand sides are dicts
+    ``{i: [sources, probe]}``. Right-hand-side columns: 0 = the sources; 1 = probe (unit current
+    into the output node, or the summing node's coupling conductances for a virtual-ground output).
+
+    Attributes
+    ----------
+    matrix_fixed : the fixed resistors' entries (no leg)
+    matrix_resting, rhs_resting : every leg in its resting state (bit 0)
+    leg_states : per leg, (entries when driven, entries when resting) — the general path stamps
+        each leg in one of its two states, never as a difference
+    leg_matrix_change, leg_rhs_change : per leg, driven minus resting — superposition holds when
+        no leg changes the matrix; its right-hand-side change is the leg's source
+    leg_conductances : per leg, (to ``high``, to ``low`` or None), siemens
+    pattern : off-diagonal pairs (i < j) that are ever non-zero, for the elimination plan
+    groups : thermometer groups (``element_arrays.CompiledGroup``)
     """
 
     def __init__(self, net: Network, ohms: Mapping[str, np.ndarray | float]) -> None:
@@ -51,13 +64,13 @@ class _Stamps:
         self.nodes = net.unknown_nodes()
         self.index = {name: i for i, name in enumerate(self.nodes)}
         n = len(self.nodes)
-        self.n = n
-        self.a0: dict[tuple[int, int], np.ndarray | float] = {}
-        self.b0: dict[int, list] = {}
-        self.leg_da: list[dict[tuple[int, int], np.ndarray | float]] = []
-        self.leg_on: list[tuple[dict, dict]] = []  # per leg: entries when driven, when not
-        self.leg_db: list[dict[int, list]] = []
-        self.pairs: set[tuple[int, int]] = set()
+        self.n_unknown = n
+        self.matrix_resting: dict[tuple[int, int], np.ndarray | float] = {}
+        self.rhs_resting: dict[int, list] = {}
+        self.leg_matrix_change: list[dict[tuple[int, int], np.ndarray | float]] = []
+        self.leg_states: list[tuple[dict, dict]] = []
+        self.leg_rhs_change: list[dict[int, list]] = []
+        self.pattern: set[tuple[int, int]] = set()
         out = net.output
         self.virtual = out.kind == "virtual-ground"
         if self.virtual and out.node not in net.fixed:
@@ -65,31 +78,31 @@ class _Stamps:
         # fixed resistors (the reference's output resistance included)
         for r in net.resistors:
             g = _conductance(ohms.get(r.part_id, r.ohms))
-            self._stamp(self.a0, self.b0, r.a, r.b, g)
-        self.a_fixed = dict(self.a0)
-        # legs: base = state 0, delta = state 1 − state 0
-        self.leg_g: list[tuple[np.ndarray | float, np.ndarray | float | None]] = []
+            self.stamp(self.matrix_resting, self.rhs_resting, r.a, r.b, g)
+        self.matrix_fixed = dict(self.matrix_resting)
+        # legs: resting = state 0, change = state 1 − state 0
+        self.leg_conductances: list[tuple[np.ndarray | float, np.ndarray | float | None]] = []
         for leg in net.legs:
             r_leg = ohms.get(leg.part_id, leg.ohms)
             g_hi = _conductance(r_leg + leg.ron_high)
             g_lo = None if leg.low is None else _conductance(r_leg + leg.ron_low)
-            self.leg_g.append((g_hi, g_lo))
+            self.leg_conductances.append((g_hi, g_lo))
             da: dict[tuple[int, int], np.ndarray | float] = {}
             db: dict[int, list] = {}
-            self._stamp(da, db, leg.node, leg.high, g_hi)
+            self.stamp(da, db, leg.node, leg.high, g_hi)
             on: dict[tuple[int, int], np.ndarray | float] = {}
             off: dict[tuple[int, int], np.ndarray | float] = {}
-            self._stamp(on, {}, leg.node, leg.high, g_hi)
+            self.stamp(on, {}, leg.node, leg.high, g_hi)
             if leg.low is not None:
-                self._stamp(self.a0, self.b0, leg.node, leg.low, g_lo)
-                self._stamp(da, db, leg.node, leg.low, -g_lo)
-                self._stamp(off, {}, leg.node, leg.low, g_lo)
-            self.leg_on.append((on, off))
-            self.leg_da.append(da)
-            self.leg_db.append(db)
+                self.stamp(self.matrix_resting, self.rhs_resting, leg.node, leg.low, g_lo)
+                self.stamp(da, db, leg.node, leg.low, -g_lo)
+                self.stamp(off, {}, leg.node, leg.low, g_lo)
+            self.leg_states.append((on, off))
+            self.leg_matrix_change.append(da)
+            self.leg_rhs_change.append(db)
         self.groups = element_arrays.compile_groups(self, net, ohms)
 
-    def _stamp(self, a, b, na: str, nb: str, g) -> None:
+    def stamp(self, a, b, na: str, nb: str, g) -> None:
         """Add conductance ``g`` between ``na`` and ``nb`` to entries ``a`` and sources/probe ``b``."""
         fixed = self.net.fixed
         out = self.net.output
@@ -100,7 +113,7 @@ class _Stamps:
             if j is not None:
                 if i < j:
                     a[(i, j)] = a.get((i, j), 0.0) - g
-                    self.pairs.add((i, j))
+                    self.pattern.add((i, j))
             else:
                 a[(i, i)] = a.get((i, i), 0.0) + g  # the shunt to fixed nodes (sparse_elim)
                 v = fixed[other]
@@ -114,7 +127,7 @@ class _Stamps:
         """True when no leg changes the nodal matrix (so outputs are affine in the drives)."""
         if self.groups:
             return False
-        for da in self.leg_da:
+        for da in self.leg_matrix_change:
             for value in da.values():
                 if np.any(np.asarray(value) != 0.0):
                     return False
@@ -210,7 +223,7 @@ def solve(
                            "output resistance)")
     use_super = linear and method in ("auto", "superposition")
     probe_node = None if st.virtual else st.index[net.output.node]
-    plan = _plan(st.n, st.pairs, probe_node)
+    plan = _plan(st.n_unknown, st.pattern, probe_node)
     wanted = _output_nodes(st) if vout_only and not keep_nodes else None
     if layout is not None:
         sol = _solve_bit_tensor(st, probe_node, plan, keep_nodes, use_super, wanted, layout=layout)
@@ -221,7 +234,7 @@ def solve(
         drive = net.decode(codes[start:start + step]).astype(float)
         cols = [drive[:, col] for col in range(drive.shape[1])]
         shape = np.broadcast_shapes(trial_shape, (drive.shape[0],))
-        if st.n == 0:
+        if st.n_unknown == 0:
             volts = {}
         elif use_super:
             volts = _solve_superposition(st, drive, trial_shape, probe_node, plan)
@@ -383,14 +396,15 @@ def _output_nodes(st: _Stamps) -> set[int]:
 def _solve_general(st: _Stamps, cols, probe_node, plan, wanted=None):
     """Batched sparse elimination; ``cols[l]`` is leg l's drive (0/1), broadcastable to the batch;
     ``wanted``: the unknowns to form (default all)."""
-    n = st.n
-    entries = dict(st.a_fixed)
-    b = {i: list(v) for i, v in st.b0.items()}
-    cols, levels = cols[:len(st.leg_da)], cols[len(st.leg_da):]  # group levels follow the legs
+    n = st.n_unknown
+    entries = dict(st.matrix_fixed)
+    b = {i: list(v) for i, v in st.rhs_resting.items()}
+    n_legs = len(st.leg_states)
+    cols, levels = cols[:n_legs], cols[n_legs:]  # group levels follow the legs
     element_arrays.stamp_groups(st, levels, entries, b)
     # each leg's entries in its driven or its resting state (not a delta: no round-off when the
     # two conductances differ by many orders of magnitude)
-    for d, (on, off), db in zip(cols, st.leg_on, st.leg_db, strict=True):
+    for d, (on, off), db in zip(cols, st.leg_states, st.leg_rhs_change, strict=True):
         for key, val in on.items():
             entries[key] = entries.get(key, 0.0) + val * d
         rest = 1.0 - np.asarray(d) if off else None
@@ -407,21 +421,21 @@ def _solve_general(st: _Stamps, cols, probe_node, plan, wanted=None):
 
 def _solve_superposition(st: _Stamps, drive, trial_shape, probe_node, plan, tensor_cols=None):
     """One factorisation: columns = sources, probe, and each leg's source and probe deltas."""
-    n, n_legs = st.n, len(st.leg_db)
+    n, n_legs = st.n_unknown, len(st.leg_rhs_change)
     k = 2 + 2 * n_legs
     rhs = []
     for i in range(n):
         cols = [np.zeros(trial_shape) for _ in range(k)]
-        base = st.b0.get(i, [0.0, 0.0])
+        base = st.rhs_resting.get(i, [0.0, 0.0])
         cols[0] = cols[0] + base[0]
         cols[1] = cols[1] + base[1] + (1.0 if probe_node == i else 0.0)
-        for leg, db in enumerate(st.leg_db):
+        for leg, db in enumerate(st.leg_rhs_change):
             v = db.get(i)
             if v is not None:
                 cols[2 + leg] = cols[2 + leg] + v[0]
                 cols[2 + n_legs + leg] = cols[2 + n_legs + leg] + v[1]
         rhs.append(np.stack(np.broadcast_arrays(*cols), axis=-1))
-    x = solve_batched(n, st.a0, rhs, plan, st.nodes)
+    x = solve_batched(n, st.matrix_resting, rhs, plan, st.nodes)
     if tensor_cols is not None:
         return _TensorLegSums(st.nodes, x, tensor_cols)
     return _LegSums(st.nodes, x, drive, n_legs)
@@ -488,15 +502,76 @@ class _TensorLegSums(_LegSums):
         return v
 
 
-def _apply(drive: np.ndarray, per_leg: np.ndarray) -> np.ndarray:
-    """Sum of per-leg contributions at every code.
+class _NodeVoltages:
+    """Solved node voltages by name: the sources column with the output load's current applied
+    (``load_current`` per unit probe, when the output carries a finite load), fixed nodes at
+    their value, absent nodes 0; :meth:`probe` reads the probe column."""
 
-    ``drive`` has shape (n_codes, n_legs); ``per_leg`` has shape (n_legs,) for a nominal solve or
-    (n_trials, 1, n_legs) with trials. Returns shape (n_codes,) or (n_trials, n_codes).
-    """
-    if per_leg.ndim == 1:
-        return drive @ per_leg
-    return per_leg[..., 0, :] @ drive.T
+    def __init__(self, net: Network, volts, load_current=None) -> None:
+        self.net, self.volts, self.load_current = net, volts, load_current
+        self._seen: dict[str, np.ndarray] = {}
+
+    def probe(self, name: str) -> np.ndarray:
+        return self.volts[name][..., 1] if name in self.volts else np.zeros(())
+
+    def __call__(self, name: str) -> np.ndarray:
+        if name in self.net.fixed:
+            return np.asarray(self.net.fixed[name], float)
+        v = self._seen.get(name)
+        if v is None:
+            v = self.volts[name][..., 0] if name in self.volts else np.zeros(())
+            if self.load_current is not None:
+                v = v + self.probe(name) * self.load_current
+            self._seen[name] = v
+        return v
+
+
+def _node_output(net: Network, volts):
+    """``(vout, rout, load current per unit probe or None)`` of an output at a node: Thevenin
+    voltage and resistance from the sources and probe columns, then the load (exact) or the
+    buffer's gain."""
+    out = net.output
+    v_open = volts[out.node][..., 0]
+    r_th = volts[out.node][..., 1]
+    if out.buffered:
+        return v_open * out.gain, r_th, None
+    if not np.isfinite(out.load_ohms):
+        return v_open, r_th, None
+    v_loaded = v_open * out.load_ohms / (out.load_ohms + r_th)
+    return v_loaded, r_th, -v_loaded / out.load_ohms
+
+
+def _virtual_ground_output(st: _Stamps, cols, voltage: _NodeVoltages, shape):
+    """``(vout, rout)`` behind a virtual ground: −feedback × the current into the summing node,
+    and the resistance the summing node sees (Schur complement Y = Y_ss − y_sᵀ G⁻¹ y_s, with
+    G⁻¹ y_s the probe solution)."""
+    out = st.net.output
+    current, y_ss, coupling = np.zeros(()), np.zeros(()), np.zeros(())
+    for na, nb, g in _elements(st, cols):
+        if out.node not in (na, nb):
+            continue
+        other = nb if na == out.node else na
+        i_ab = (voltage(na) - voltage(nb)) * g
+        current = current + (i_ab if nb == out.node else -i_ab)
+        y_ss = y_ss + g
+        if other in voltage.volts:
+            coupling = coupling + g * voltage.probe(other)
+    y = np.broadcast_to(y_ss - coupling, shape)
+    with np.errstate(divide="ignore"):
+        rout = np.where(y > 0, 1.0 / np.where(y > 0, y, 1.0), np.inf)
+    return -out.feedback_ohms * current + 0.0, rout  # + 0.0 turns −0.0 into 0.0
+
+
+def _reference_current(st: _Stamps, cols, voltage: _NodeVoltages) -> np.ndarray:
+    """Current the source node delivers: the sum over every element touching it."""
+    source = st.net.source
+    iref = np.zeros(())
+    for na, nb, g in _elements(st, cols):
+        if source == na:
+            iref = iref + (voltage(na) - voltage(nb)) * g
+        elif source == nb:
+            iref = iref - (voltage(na) - voltage(nb)) * g
+    return iref
 
 
 def _finish(st: _Stamps, cols, volts, shape, keep_nodes, use_super, vout_only=False) -> Solution:
@@ -507,70 +582,20 @@ def _finish(st: _Stamps, cols, volts, shape, keep_nodes, use_super, vout_only=Fa
     ``volts`` holds only what the output needs and ``iref`` is NaN.
     """
     net = st.net
-    out = net.output
-    virtual = out.kind == "virtual-ground"
-
-    def col(name: str, c: int) -> np.ndarray:
-        return volts[name][..., c] if name in volts else np.zeros(())
-
-    inj = None
-    if out.kind == "node":
-        v_oc = col(out.node, 0)
-        r_th = col(out.node, 1)
-        load = out.load_ohms
-        v_net = v_oc
-        if not out.buffered and np.isfinite(load):
-            v_net = v_oc * load / (load + r_th)
-            inj = -v_net / load
-        vout = v_net * (out.gain if out.buffered else 1.0)
-        rout = r_th
-    cache: dict[str, np.ndarray] = {}
-
-    def voltage(name: str) -> np.ndarray:
-        """Node voltage with the load's current applied (fixed nodes: their value)."""
-        if name in net.fixed:
-            return np.asarray(net.fixed[name], float)
-        v = cache.get(name)
-        if v is None:
-            v = col(name, 0) if inj is None else col(name, 0) + col(name, 1) * inj
-            cache[name] = v
-        return v
-
-    terminals = {net.source, out.node} if virtual else {net.source}
-    if vout_only:
-        terminals = {out.node} if virtual else set()
-    iref = np.zeros(())
-    sum_current = np.zeros(())
-    y_ss = np.zeros(())
-    coupling = np.zeros(())
-    for na, nb, g in _elements(st, cols):
-        if na not in terminals and nb not in terminals:
-            continue
-        i_ab = (voltage(na) - voltage(nb)) * g
-        if na == net.source:
-            iref = iref + i_ab
-        if nb == net.source:
-            iref = iref - i_ab
-        if virtual and out.node in (na, nb):
-            other = nb if na == out.node else na
-            sum_current = sum_current + (i_ab if nb == out.node else -i_ab)
-            y_ss = y_ss + g
-            if other in volts:
-                coupling = coupling + g * col(other, 1)
-    if virtual:
-        vout = -out.feedback_ohms * sum_current + 0.0  # + 0.0 turns −0.0 into 0.0
-        # Schur complement: Y = Y_ss − y_sᵀ G⁻¹ y_s, with G⁻¹ y_s the probe solution
-        y = np.broadcast_to(y_ss - coupling, shape)
-        with np.errstate(divide="ignore"):
-            rout = np.where(y > 0, 1.0 / np.where(y > 0, y, 1.0), np.inf)
+    if st.virtual:
+        voltage = _NodeVoltages(net, volts)
+        vout, rout = _virtual_ground_output(st, cols, voltage, shape)
+    else:
+        vout, rout, load_current = _node_output(net, volts)
+        voltage = _NodeVoltages(net, volts, load_current)
+    iref = np.nan if vout_only else _reference_current(st, cols, voltage)
     nodes = {}
     if keep_nodes:
         nodes = {k: np.array(np.broadcast_to(voltage(k), shape)) for k in [*net.fixed, *st.nodes]}
     return Solution(
         vout=np.array(np.broadcast_to(vout, shape), dtype=float),
         rout=np.array(np.broadcast_to(rout, shape), dtype=float),
-        iref=np.full(shape, np.nan) if vout_only else np.array(np.broadcast_to(iref, shape),
-                                                                dtype=float),
+        iref=np.array(np.broadcast_to(iref, shape), dtype=float),
         method="superposition" if use_super else "general",
         node_voltages=nodes,
     )
@@ -587,7 +612,7 @@ def _elements(st: _Stamps, cols):
         yield r.a, r.b, _conductance(st.ohms.get(r.part_id, r.ohms))
     for col, leg in enumerate(net.legs):
         d = cols[col]
-        g_hi, g_lo = st.leg_g[col]
+        g_hi, g_lo = st.leg_conductances[col]
         yield leg.node, leg.high, g_hi * d
         if leg.low is not None:
             yield leg.node, leg.low, g_lo * (1.0 - d)
