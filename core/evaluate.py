@@ -217,7 +217,7 @@ def evaluate(design: Design, dynamics: Scope = "all") -> Evaluation:
     power_max, power_code = part_power_arrays(elements, net.parts)
     dyn_summary, dyn = dynamic_figures(design, net, v, scope=dynamics)
     summary = {**summarize(design, net, sol, curves, guarantee), **extra, **dyn_summary}
-    void = reasons(design, summary)
+    void = reasons(design, summary, net=net)
     summary.update(dict.fromkeys(void, float("nan")))
     return Evaluation(
         design=design,

@@ -53,10 +53,10 @@ def _settling_reason(design: Any) -> str | None:
     return None
 
 
-def _glitch_reason(design: Any, glitch: bool) -> str | None:
+def _glitch_reason(design: Any, glitch: bool, net: Any = None) -> str | None:
     from .metrics.glitch import dynamics_reason
 
-    return dynamics_reason(design, glitch=glitch)
+    return dynamics_reason(design, glitch=glitch, net=net)
 
 
 def _drift_reason(design: Any) -> str | None:
@@ -80,12 +80,13 @@ def not_meaningful(design: Any, key: str) -> str | None:
     return None
 
 
-def reasons(design: Any, keys: Iterable[str]) -> dict[str, str]:
-    """``{key: reason}`` for every key of ``keys`` that means nothing for ``design``."""
+def reasons(design: Any, keys: Iterable[str], net: Any = None) -> dict[str, str]:
+    """``{key: reason}`` for every key of ``keys`` that means nothing for ``design`` (``net``:
+    its built network when the caller has it, so it is not built again)."""
     keys = list(keys)
     settling, drift = _settling_reason(design), _drift_reason(design)
-    glitch = _glitch_reason(design, True) if set(keys) & set(GLITCH_KEYS) else None
-    transient = _glitch_reason(design, False) if set(keys) & set(TRANSIENT_KEYS) else None
+    glitch = _glitch_reason(design, True, net) if set(keys) & set(GLITCH_KEYS) else None
+    transient = _glitch_reason(design, False, net) if set(keys) & set(TRANSIENT_KEYS) else None
     out = {}
     for key in keys:
         why = (settling if key in SETTLING_KEYS else drift if key in DRIFT_KEYS

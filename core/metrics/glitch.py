@@ -98,8 +98,9 @@ def no_glitch_reason(net: Network, timing: Timing) -> str | None:
     return no_dynamics_reason(net, timing) or (None if timing.has_edges else NO_EDGES)
 
 
-def dynamics_reason(design, glitch: bool = False) -> str | None:
-    """:func:`no_dynamics_reason` (or with ``glitch`` :func:`no_glitch_reason`) of a design."""
+def dynamics_reason(design, glitch: bool = False, net: Network | None = None) -> str | None:
+    """:func:`no_dynamics_reason` (or with ``glitch`` :func:`no_glitch_reason`) of a design
+    (``net``: its built network, when the caller has it)."""
     from ..timing import timing_of
     from ..topologies import build
 
@@ -108,7 +109,7 @@ def dynamics_reason(design, glitch: bool = False) -> str | None:
         return NO_EDGES
     if design.topology != "string" and (tm.has_edges or tm.node_c > 0):
         return None  # only strings outgrow the solver; no need to build
-    net = build(design)
+    net = build(design) if net is None else net
     return no_glitch_reason(net, tm) if glitch else no_dynamics_reason(net, tm)
 
 
