@@ -459,8 +459,19 @@ METHOD_NOTES: tuple[str, ...] = (
     "no step is negative.",
     "Power: worst case over all codes of V²/R for each resistor, from the same solution.",
     "Thermal noise: √(4kT·Rout) at the worst code, k the Boltzmann constant (SI 2019), integrated "
-    "over the design's bandwidth; settling to ½ LSB: τ·ln(2·(2^N − 1)) with τ = worst-code Rout × "
-    "load capacitance (no figure without a load capacitance).",
+    "over the design's bandwidth through the output's RC pole (√(kT/C) for a wide band); settling "
+    "to ½ LSB: τ·ln(2·(2^N − 1)) with τ = worst-code Rout × output capacitance (no figure without "
+    "one).",
+    "Glitch and settling of each transition c − 1 → c: the switched RC network solved exactly "
+    "between switching events (every node's capacitance, switch edges that ramp the driven end "
+    "between the rails, on-resistance changing at mid-edge, ideal amplifiers). Net glitch impulse "
+    "= ∫(v − v_sync) dt against the response of every switch moving at t = 0 (IEEE Std 1658 "
+    "measures glitch impulse against the settled levels instead); peak = max |v − v_sync|; "
+    "settling = the last time |v − v(∞)| exceeds ½ LSB, from the code change.",
+    "Test sine: codes round(c_mid + a·c_mid·sin(2π·J·n/S)) through the static transfer, coherent "
+    "sampling, rectangular-window DFT, DC excluded, harmonics 2 … 10 folded (IEEE Std 1241 "
+    "sine-wave test; no noise added, so SINAD holds quantisation and static nonlinearity only); "
+    "ENOB = (SINAD − 1.76 dB)/6.02 dB.",
     "Statistics: Monte Carlo over random part values drawn by a seeded numpy Generator (the seed is "
     "printed on every page so any result can be reproduced); yields with one-sided 95 % "
     "Clopper–Pearson bounds — with no failing board only the lower bound is known.",

@@ -11,19 +11,22 @@ from __future__ import annotations
 
 import numpy as np
 import pyqtgraph as pg
-from PySide6.QtCore import Qt
+from PySide6.QtCore import Qt, Signal
 from PySide6.QtWidgets import (
     QComboBox,
     QGridLayout,
     QHBoxLayout,
     QLabel,
+    QLineEdit,
     QProgressBar,
+    QPushButton,
     QSpinBox,
     QVBoxLayout,
     QWidget,
 )
 
 from rungwise.core import Design
+from rungwise.core.errors import DesignError
 from rungwise.core.metrics.glitch import waveforms
 from rungwise.core.timing import timing_of
 from rungwise.core.topologies import build
@@ -41,6 +44,30 @@ WAVE_POINTS = 800
 
 PLOT_MIN_HEIGHT = 230
 """Smallest height of a plot of this view, px."""
+
+SETTINGS: dict[str, tuple[str, str]] = {
+    "timing.rise": ("Rise", "time for a switch's driven end to reach the high rail, e.g. 5n"),
+    "timing.fall": ("Fall", "time for a switch's driven end to reach the low rail, e.g. 3n"),
+    "timing.skew": ("Bit delays", "when each bit's edge starts, LSB first, e.g. 0, 1n, 0, 2n"),
+    "timing.node_c": ("Node capacitance", "from every network node to ground, e.g. 1p"),
+    "sine.samples": ("Sine samples", "points of the test sine, e.g. 4096"),
+    "sine.cycles": ("Sine cycles", "whole periods, coprime with the samples, e.g. 67"),
+    "sine.amplitude": ("Sine amplitude", "fraction of full scale, e.g. 1"),
+}
+"""Settings this view edits: key → (label, tooltip)."""
+
+
+def setting_text(design: Design, key: str) -> str:
+    """A timing or sine setting as typed text (empty when unset)."""
+    table, sub = key.split(".")
+    value = getattr(design, table).get(sub)
+    if value is None:
+        return ""
+    if sub == "skew":
+        return ", ".join(format_value(float(x), "").replace(" ", "") for x in value)
+    if table == "sine":
+        return f"{value:g}"
+    return format_value(float(value), "").replace(" ", "")
 
 
 def glitch_points(cd: CandidateDynamics) -> tuple[np.ndarray, np.ndarray]:
@@ -82,7 +109,15 @@ def view_notes(cd: CandidateDynamics) -> list[str]:
 
 
 class DynamicsPane(QWidget):
-    """Registered in ``view_registry``: glitch against code, a transition's waveform, spectrum."""
+    """Registered in ``view_registry``: glitch against code, a transition's waveform, spectrum.
+
+    Signals
+    -------
+    edit_requested(int, object, str)
+        The chosen candidate with new timing or sine settings (the window applies the edit).
+    """
+
+    edit_requested = Signal(int, object, str)
 
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__(parent)
@@ -112,6 +147,21 @@ class DynamicsPane(QWidget):
         row.addWidget(self.spin_code)
         row.addStretch(1)
         row.addWidget(self.progress)
+        self.edits: dict[str, QLineEdit] = {}
+        form = QGridLayout()
+        for i, (key, (label, tip)) in enumerate(SETTINGS.items()):
+            edit = QLineEdit(self, objectName=f"edit_dynamics_{key.replace('.', '_')}")
+            edit.setToolTip(tip)
+            edit.setPlaceholderText("0" if key.startswith("timing") else "default")
+            edit.returnPressed.connect(self.apply_settings)
+            self.edits[key] = edit
+            form.addWidget(QLabel(label, self), i // 4, 2 * (i % 4))
+            form.addWidget(edit, i // 4, 2 * (i % 4) + 1)
+        self.button_apply = QPushButton("Apply to candidate", self, objectName="button_dynamics_apply")
+        self.button_apply.clicked.connect(self.apply_settings)
+        form.addWidget(self.button_apply, 1, 6, 1, 2)
+        self.message = QLabel(self, objectName="label_dynamics_message")
+        self.message.setWordWrap(True)
         self.plot_glitch = follow_palette(pg.PlotWidget(title="Net glitch impulse against code"))
         self.plot_glitch.setObjectName("plot_dynamics_glitch")
         self.plot_glitch.setLogMode(x=False, y=True)
@@ -136,6 +186,8 @@ class DynamicsPane(QWidget):
         plots.addWidget(self.plot_spectrum, 1, 1)
         layout = QVBoxLayout(self)
         layout.addLayout(row)
+        layout.addLayout(form)
+        layout.addWidget(self.message)
         layout.addLayout(plots, 1)
         layout.addWidget(self.status)
         self.combo.currentIndexChanged.connect(self._on_candidate)
@@ -152,6 +204,7 @@ class DynamicsPane(QWidget):
         self.combo.setCurrentIndex(min(max(keep, 0), len(self.designs) - 1))
         self.combo.blockSignals(False)
         self._set_code_range()
+        self._show_settings()
         self.status.setText("Solving every transition…")
         self.runner.submit(CHANNEL, dynamics_job(tuple(self.designs)))
 
@@ -203,7 +256,36 @@ class DynamicsPane(QWidget):
 
     def _on_candidate(self, _index: int) -> None:
         self._set_code_range()
+        self._show_settings()
         self.redraw()
+
+    def _show_settings(self) -> None:
+        i = self.combo.currentIndex()
+        if 0 <= i < len(self.designs):
+            for key, edit in self.edits.items():
+                edit.setText(setting_text(self.designs[i], key))
+
+    def apply_settings(self) -> None:
+        """Apply the typed timing and sine settings to the chosen candidate (a refused value is
+        named with its allowed range and changes nothing)."""
+        i = self.combo.currentIndex()
+        if not 0 <= i < len(self.designs):
+            return
+        d = self.designs[i]
+        typed = {k: e.text().strip() for k, e in self.edits.items()}
+        tables = {"timing": {}, "sine": {}}
+        for key, text in typed.items():
+            table, sub = key.split(".")
+            if text:
+                tables[table][sub] = text
+        try:
+            new = d.replace(**tables)
+        except DesignError as exc:
+            self.message.setText(f"Not applied — {exc}")
+            return
+        self.message.setText("")
+        if new.to_dict() != d.to_dict():
+            self.edit_requested.emit(i, new, "switch timing and test sine")
 
     def _on_code(self, _value: int) -> None:
         self.code_chosen = True

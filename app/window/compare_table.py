@@ -37,6 +37,17 @@ BEST_RULE: dict[str, Best] = {
     "total_r_units": "smallest",
     "n_switches": "smallest",
     "n_amplifiers": "smallest",
+    "glitch_major": "smallest_abs",
+    "glitch_peak_major": "smallest",
+    "glitch_peak_major_lsb": "smallest",
+    "settling_major": "smallest",
+    "glitch_worst": "smallest_abs",
+    "settling_worst": "smallest",
+    "settling_full_scale": "smallest",
+    "sfdr_db": "largest",
+    "thd_db": "smallest",
+    "sinad_db": "largest",
+    "enob": "largest",
 }
 """Rows with a "best" value and what best means there; other rows (LSB, full scale, the code where
 an extreme occurs, the lowest output resistance and reference current) are shown but not judged:

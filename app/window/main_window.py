@@ -203,6 +203,9 @@ class MainWindow(QMainWindow):
         signal = getattr(view, "candidate_requested", None)
         if signal is not None:
             signal.connect(self._on_candidate_requested)
+        edit = getattr(view, "edit_requested", None)
+        if edit is not None:
+            edit.connect(self._on_edit_requested)
 
     def _build_menus(self) -> None:
         def action(menu, text, slot, shortcut=None, name=None):
@@ -320,6 +323,11 @@ class MainWindow(QMainWindow):
         designs = self.model.state.designs
         designs[self.model.state.selected] = design
         self.live.request(designs)
+
+    def _on_edit_requested(self, index: int, design: object, description: str) -> None:
+        """A view changed a compared candidate's settings (an undoable edit like any other)."""
+        if isinstance(design, Design) and 0 <= index < len(self.model.state.candidates):
+            self.model.state.set_design(index, design, description)
 
     def _on_candidate_requested(self, design: object) -> None:
         if not isinstance(design, Design):

@@ -7,6 +7,8 @@ Each entry names a module and a QWidget class, imported only when the window ope
   compared candidates (it must return at once; heavy work goes to a ``workers.JobRunner``);
 - may have a Qt signal ``candidate_requested(object)`` carrying a ``Design`` the user wants to add
   as a new candidate (the window adds it);
+- may have a Qt signal ``edit_requested(int, object, str)`` carrying a candidate's index, its
+  changed ``Design`` and a description (the window applies it as an undoable edit);
 - may have ``set_colours(colours: list[str]) -> None`` ("#rrggbb" per candidate, called with
   ``set_candidates``) to draw each candidate in the colour the comparison uses;
 - may have ``shutdown() -> None`` (cancel and wait for its workers; called when the window closes).

@@ -86,3 +86,32 @@ def test_figures_without_meaning_say_why(qtbot, pane):
     pane.combo.setCurrentIndex(1)
     assert [w.name() for w in pane.plot_wave.getPlotItem().listDataItems()] == [
         "127 → 128", "every switch at once"]  # settling still shown
+
+
+def test_settings_are_applied_as_an_edit_or_refused_by_name(qtbot, pane):
+    _solve(qtbot, pane, [PLAIN, TIMED])
+    pane.combo.setCurrentIndex(1)
+    assert pane.edits["timing.skew"].text() == "0, 1n"
+    assert pane.edits["sine.cycles"].text() == ""
+    pane.edits["timing.rise"].setText("7n")
+    pane.edits["sine.cycles"].setText("101")
+    with qtbot.waitSignal(pane.edit_requested) as blocker:
+        pane.button_apply.click()
+    index, design, _ = blocker.args
+    assert index == 1
+    assert design.timing["rise"] == pytest.approx(7e-9)
+    assert design.sine == {"cycles": 101}
+    pane.edits["sine.cycles"].setText("64")  # not coprime with 4096
+    with qtbot.assertNotEmitted(pane.edit_requested):
+        pane.button_apply.click()
+    assert "sine.cycles" in pane.message.text()
+    assert "coprime" in pane.message.text()
+
+
+def test_the_window_applies_the_view_edit(window):
+    view = window.views["dynamics_pane"]
+    before = window.model.state.designs[0]
+    view.edit_requested.emit(0, before.replace(timing={"rise": 2e-9}), "switch timing")
+    assert window.model.state.designs[0].timing == {"rise": 2e-9}
+    window.files.history.undo()  # an undoable edit like any other
+    assert window.model.state.designs[0].timing == before.timing
