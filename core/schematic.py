@@ -242,13 +242,20 @@ def _columns(net: Network, code: int) -> tuple[list[str], dict[str, list[_Column
                               bool(drive[j])))
     for g, grp in enumerate(net.groups):
         level = int(drive[len(net.legs) + g])
-        members = [_Column("leg", grp.node, f"{grp.prefix}{i}", float(x), grp.high, grp.low,
-                           i < level) for i, x in enumerate(np.asarray(grp.ohms, float))]
-        if len(members) > 4:
-            hidden = members[2:-1]
-            members = [*members[:2], _Column("ellipsis", grp.node, note=(
-                f"{len(hidden)} more {grp.role}s\n{hidden[0].part_id}–{hidden[-1].part_id}\n"
-                f"{sum(c.driven for c in hidden)} driven")), members[-1]]
+        m = grp.size
+        ohms = np.asarray(grp.ohms, float)
+        shown = range(m) if m <= 4 else (0, 1, m - 1)  # long groups: their ends only
+
+        def member(i: int, grp=grp, level=level, ohms=ohms) -> _Column:
+            return _Column("leg", grp.node, f"{grp.prefix}{i}", float(ohms[i]), grp.high,
+                           grp.low, i < level)
+
+        members = [member(i) for i in shown]
+        if m > 4:
+            driven = min(max(level - 2, 0), m - 3)  # legs 2 … m−2 driven at this level
+            members.insert(2, _Column("ellipsis", grp.node, note=(
+                f"{m - 3} more {grp.role}s\n{grp.prefix}2–{grp.prefix}{m - 2}\n"
+                f"{driven} driven")))
         for c in members:
             add(grp.node, c)
     for node, members in cols.items():
