@@ -21,7 +21,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from .design import Design
-from .network import GROUND, BinaryDecoder, Network, PartList
+from .network import GROUND, BinaryDecoder, Network, PartArray, PartList
 from .parts.designators import AMPLIFIER, resistor_designators, switch_designators
 
 IDEAL_GAIN = 1e9
@@ -48,6 +48,9 @@ class _Writer:
     sdes: dict[str, str]
     rename: dict[str, str]
 
+    def __post_init__(self) -> None:
+        self.joined = _joined_lookup(self.net)
+
     def node(self, name: str | None) -> str:
         if name is None or name == GROUND:
             return "0"
@@ -56,7 +59,7 @@ class _Writer:
     def part(self, pid: str, a: str, b: str, ohms: float, note: str) -> None:
         """One part as its physical units between nodes ``a`` and ``b``."""
         names = self.rdes.get(pid, (pid,))
-        joined = _joined(self.net, pid)
+        joined = self.joined(pid)
         u = len(names)
         if u == 1 or joined == "single":
             self.lines.append(f"{_el(names[0])} {a} {b} {_num(ohms)} ; {note}")
@@ -77,10 +80,22 @@ def _el(designator: str) -> str:
     return designator.replace(".", "_")
 
 
-def _joined(net: Network, pid: str) -> str:
-    parts = PartList.of(net.parts)
-    i = parts.index_of(pid)
-    return "single" if i is None else parts[i].joined
+def _joined_lookup(net: Network):
+    """``pid`` → how its units are joined, read per part-list block (no Part object made)."""
+    arrays, single = {}, {}
+    for b in PartList.of(net.parts).blocks:
+        if isinstance(b, PartArray):
+            arrays[b.prefix] = b
+        else:
+            single[b.part_id] = b.joined
+
+    def joined(pid: str) -> str:
+        if pid in single:
+            return single[pid]
+        b = arrays.get(pid.rstrip("0123456789"))
+        return b.joined if b is not None and b.index_of(pid) is not None else "single"
+
+    return joined
 
 
 def _switch(w: _Writer, sname: str, a: str, rails: list[tuple[str, str | None, float, str]]
@@ -136,15 +151,16 @@ def _legs(w: _Writer, code: int | None) -> None:
 
 def _selector(w: _Writer, code: int | None) -> None:
     sel = w.net.selector
-    chosen = None if code is None else int(np.asarray(sel.select(np.array([code])))[0])
-    for i in range(w.net.n_codes):  # one tap switch per code
-        node = sel.nodes[i]
-        sname = w.sdes[f"{sel.part_id}{i}"]
-        closed = "1" if i == chosen else "0"
-        state = f"(u(v(code)-{i}+0.5)-u(v(code)-{i}-0.5))" if code is None else closed
-        _switch(w, sname, w.node(node), [("H", sel.out, sel.ron, state)])
-    if code is not None:
+    if code is not None:  # one tap switch closed; the others are open and write nothing
+        i = int(np.asarray(sel.select(np.array([code])))[0])
+        _switch(w, w.sdes[f"{sel.part_id}{i}"], w.node(sel.nodes[i]),
+                [("H", sel.out, sel.ron, "1")])
         w.lines.append(f"* the other {w.net.n_codes - 1} tap switches are open")
+        return
+    for i in range(w.net.n_codes):  # one tap switch per code
+        state = f"(u(v(code)-{i}+0.5)-u(v(code)-{i}-0.5))"
+        _switch(w, w.sdes[f"{sel.part_id}{i}"], w.node(sel.nodes[i]),
+                [("H", sel.out, sel.ron, state)])
 
 
 def code_text(code: int, bits: int) -> str:
