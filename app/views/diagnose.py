@@ -19,6 +19,8 @@ from PySide6.QtWidgets import (
     QComboBox,
     QFileDialog,
     QGridLayout,
+    QHBoxLayout,
+    QHeaderView,
     QLabel,
     QPushButton,
     QSizePolicy,
@@ -31,7 +33,7 @@ from PySide6.QtWidgets import (
 )
 
 from rungwise.core import Design
-from rungwise.core.demo import demo_candidates
+from rungwise.core.demo import DEMO_BASE, demo_candidates
 from rungwise.core.diagnose import (
     Diagnosis,
     DiagnosisCancelled,
@@ -42,6 +44,7 @@ from rungwise.core.diagnose import (
     to_c_header,
     to_csv,
 )
+from rungwise.core.diagnose.synthetic import EXAMPLE_BOARD_NOTE, example_measurement
 from rungwise.core.errors import RungwiseError
 from rungwise.core.formatting import format_percent, format_quantity, yes_no
 
@@ -51,7 +54,7 @@ from ..plots.theme import follow_palette
 CHANNEL = "diagnose"
 """JobRunner channel of this view."""
 
-SUSPECT_COLUMNS = ("Part", "Deviation", "±", "Left unexplained", "Explained")
+SUSPECT_COLUMNS = ("Part", "Deviation", "±", "Left\nunexplained", "Explained")
 """Columns of the suspects table."""
 
 MEASURED_BRUSH = "#b03a2e"
@@ -110,6 +113,13 @@ def findings(d: Diagnosis) -> list[tuple[str, str]]:
     ]
 
 
+def _same_board(a: Design, b: Design) -> bool:
+    """Whether two designs build the same network (names and statistics settings aside)."""
+    keys = ("topology", "output", "bits", "vref", "unit_r", "ron_high", "ron_low", "ref_r", "load_r",
+            "thermometer_bits", "parts", "series", "build")
+    return all(getattr(a, k) == getattr(b, k) for k in keys)
+
+
 def _max_abs(values: list) -> float | None:
     known = [abs(v) for v in values if v is not None]
     return max(known) if known else None
@@ -147,6 +157,10 @@ class DiagnosePane(QWidget):
         self.button_load = QPushButton("Load measurement…")
         self.button_load.setObjectName("button_load_measurement")
         self.button_load.clicked.connect(self._ask_file)
+        self.button_example = QPushButton("Load the example board")
+        self.button_example.setObjectName("button_load_example")
+        self.button_example.setToolTip(f"The bundled example measurement: {EXAMPLE_BOARD_NOTE}")
+        self.button_example.clicked.connect(self.load_example)
         self.label_source = QLabel("No measurement loaded")
         self.label_source.setObjectName("label_source")
         self.combo_design = QComboBox()
@@ -165,12 +179,16 @@ class DiagnosePane(QWidget):
         self.spin_levels.setToolTip("Wanted output levels in the correction table")
         self.spin_levels.editingFinished.connect(self._recompute)
         self.label_source.setSizePolicy(QSizePolicy.Policy.Ignored, QSizePolicy.Policy.Preferred)
+        self.label_source.setWordWrap(True)
         self.combo_design.setSizeAdjustPolicy(
             QComboBox.SizeAdjustPolicy.AdjustToMinimumContentsLengthWithIcon)
         self.combo_design.setMinimumContentsLength(8)
         top = QGridLayout()
-        top.addWidget(self.button_load, 0, 0)
-        top.addWidget(self.label_source, 0, 1, 1, 3)
+        loads = QHBoxLayout()
+        loads.addWidget(self.button_load)
+        loads.addWidget(self.button_example)
+        loads.addWidget(self.label_source, 1)
+        top.addLayout(loads, 0, 0, 1, 4)
         top.addWidget(QLabel("Built:"), 1, 0, Qt.AlignmentFlag.AlignRight)
         top.addWidget(self.combo_design, 1, 1)
         top.addWidget(QLabel("Levels:"), 1, 2, Qt.AlignmentFlag.AlignRight)
@@ -178,7 +196,8 @@ class DiagnosePane(QWidget):
         top.addWidget(self.check_absolute, 2, 0, 1, 4)
         top.setColumnStretch(1, 1)
 
-        self.label_status = QLabel("Load a file of 'code, output' readings to begin.")
+        self.label_status = QLabel(f"Load a file of 'code, output' readings to begin, or "
+                                   f"{EXAMPLE_BOARD_NOTE}.")
         self.label_status.setObjectName("label_status")
         self.label_status.setWordWrap(True)
 
@@ -230,11 +249,19 @@ class DiagnosePane(QWidget):
 
         for table in (self.table_findings, self.table_suspects):
             table.setMinimumWidth(120)
+            # columns share the width and long texts wrap: no sideways scrolling on a laptop
+            table.horizontalHeader().setSectionResizeMode(QHeaderView.ResizeMode.Stretch)
+            table.verticalHeader().setSectionResizeMode(QHeaderView.ResizeMode.ResizeToContents)
+            table.setWordWrap(True)
+            table.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
         split = QSplitter(Qt.Orientation.Horizontal)
         split.addWidget(plots)
         split.addWidget(side)
-        split.setStretchFactor(0, 3)
-        split.setStretchFactor(1, 2)
+        split.setStretchFactor(0, 1)
+        split.setStretchFactor(1, 1)
+        side.setMinimumWidth(4 * side.fontMetrics().horizontalAdvance("+1.86 % LSB"))
+        self.table_suspects.horizontalHeader().setSectionResizeMode(
+            0, QHeaderView.ResizeMode.ResizeToContents)
         outer = QVBoxLayout(self)
         outer.addLayout(top)
         outer.addWidget(self.label_status)
@@ -298,6 +325,16 @@ class DiagnosePane(QWidget):
             return False
         self.set_measurement(m)
         return True
+
+    def load_example(self) -> None:
+        """Load the bundled example measurement; the built candidate becomes the compared one
+        that is electrically the example's board, when there is one."""
+        same = [i for i, d in enumerate(self._designs) if _same_board(d, DEMO_BASE)]
+        if same:
+            self.combo_design.blockSignals(True)
+            self.combo_design.setCurrentIndex(same[0])
+            self.combo_design.blockSignals(False)
+        self.set_measurement(example_measurement())
 
     def set_measurement(self, measurement: Measurement) -> None:
         """Show and analyse an already-read measurement."""

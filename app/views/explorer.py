@@ -172,7 +172,10 @@ class ExplorerPane(QWidget):
         self.plot.getAxis("left").enableAutoSIPrefix(False)
         self.plot.scene().sigMouseMoved.connect(self._mouse_moved)
         self.label_hover = QLabel("", objectName="label_hover", wordWrap=True)
-        self.label_status = QLabel("Choose a range and Run", objectName="label_status", wordWrap=True)
+        self.label_status = QLabel("", objectName="label_status", wordWrap=True)
+        self.label_plan = QLabel("", objectName="label_plan", wordWrap=True)
+        self.button_run.setDefault(True)
+        self.plot.setMinimumHeight(220)
         self.label_answer = QLabel("", objectName="label_answer", wordWrap=True)
         self.label_rule = QLabel(f"Segmented sizing: {SIZING_RULE}; with a {UNIT_SIZING_RULE}.",
                                  objectName="label_rule", wordWrap=True)
@@ -188,6 +191,7 @@ class ExplorerPane(QWidget):
         pick.addWidget(self.button_add)
         top = QVBoxLayout(self)
         top.addLayout(form)
+        top.addWidget(self.label_plan)
         top.addLayout(buttons)
         top.addWidget(self.label_status)
         top.addWidget(self.label_answer)
@@ -200,6 +204,36 @@ class ExplorerPane(QWidget):
         top.addLayout(pick)
         top.addWidget(self.label_rule)
         self._over_changed()
+        for signal in (self.combo_over.currentIndexChanged, self.spin_from.valueChanged,
+                       self.spin_to.valueChanged, self.check_stats.toggled,
+                       self.combo_grade.currentIndexChanged, self.spin_trials.valueChanged):
+            signal.connect(self._update_plan)
+        self._update_plan()
+
+    def plan_text(self) -> str:
+        """What Run will do with the controls as they are, in words (shown before the run)."""
+        over = self.combo_over.currentData()
+        try:
+            values = sweep_values(over, self.spin_from.value(), self.spin_to.value())
+        except Exception as exc:  # a range error, shown in words
+            return f"Run cannot start: {exc}"
+        n = len(self._designs)
+        if not n:
+            return "No candidates to sweep."
+        what = {"bits": "the resolution N", "thermometer_bits": "the segmented bits M"}[over]
+        text = (f"Run sweeps {what} from {values[0]} to {values[-1]} ({len(values)} values) for "
+                f"each of the {n} candidate{'s' if n != 1 else ''}: {len(values) * n} designs "
+                "solved at every code")
+        stats = self.statistics()
+        if stats is not None:
+            grade = "each design's own tolerance" if stats.tolerance is None else (
+                f"±{stats.tolerance * 100:g} % parts")
+            text += (f", each with {stats.trials:,} random boards of {grade} "
+                     f"({stats.trials * len(values) * n:,} boards)")
+        return text + "."
+
+    def _update_plan(self) -> None:
+        self.label_plan.setText(self.plan_text())
 
     def _over_changed(self) -> None:
         if self.combo_over.currentData() == "bits":
@@ -214,6 +248,7 @@ class ExplorerPane(QWidget):
         designs = list(designs)
         if designs != self._designs:
             self._designs = designs
+            self._update_plan()
             if self.result is not None:
                 self.label_status.setText("Candidates changed: Run to update (computed points are "
                                           "reused)")

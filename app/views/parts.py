@@ -16,8 +16,10 @@ from PySide6.QtWidgets import (
     QComboBox,
     QFileDialog,
     QFormLayout,
+    QGridLayout,
     QGroupBox,
     QHBoxLayout,
+    QHeaderView,
     QLabel,
     QLineEdit,
     QPushButton,
@@ -110,7 +112,11 @@ class PartsPane(QWidget):
         self.label_caution.setVisible(False)
         self.table_bom = QTableWidget(0, len(BOM_COLUMNS), objectName="table_bom")
         self.table_bom.setHorizontalHeaderLabels(BOM_COLUMNS)
-        self.table_bom.horizontalHeader().setStretchLastSection(True)
+        for wrapping in ("Parts", "Note"):  # long texts share what the short columns leave
+            self.table_bom.horizontalHeader().setSectionResizeMode(BOM_COLUMNS.index(wrapping),
+                                                                   QHeaderView.ResizeMode.Stretch)
+        self.table_bom.setWordWrap(True)  # the part ids wrap instead of scrolling sideways
+        self.table_bom.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
         self.button_export = QPushButton("Export parts list (CSV)…", objectName="button_export")
         self._build_suggest()
         self._build_drift()
@@ -130,7 +136,10 @@ class PartsPane(QWidget):
 
     def _build_drift(self) -> None:
         self.box_drift = QGroupBox("Temperature coefficients by part role, and the drift range")
-        row = QHBoxLayout(self.box_drift)
+        grid = QGridLayout(self.box_drift)  # roles on one line, the range on the next: fits a laptop
+        row = QHBoxLayout()
+        grid.addLayout(row, 0, 0)
+        wide = self.fontMetrics().horizontalAdvance("design's") + 24
         self.tempco_edits: dict[str, QLineEdit] = {}
         for role in DRIFT_ROLES:
             edit = QLineEdit(objectName=f"edit_tempco_{role}")
@@ -138,19 +147,25 @@ class PartsPane(QWidget):
             edit.setToolTip(f"Temperature coefficient of every '{role}' part: 100 (ppm/K), 100 ppm or 1e-4; "
                             "empty keeps the design's")
             edit.setMaximumWidth(90)
+            edit.setMinimumWidth(wide)
             edit.editingFinished.connect(self.refresh)
             self.tempco_edits[role] = edit
             row.addWidget(QLabel(role))
             row.addWidget(edit)
         self.edit_temp_low = QLineEdit(objectName="edit_temp_low")
         self.edit_temp_high = QLineEdit(objectName="edit_temp_high")
+        row.addStretch(1)
+        span = QHBoxLayout()
+        grid.addLayout(span, 1, 0)
+        span.addWidget(QLabel("Drift range"))
         for label, edit in (("from °C", self.edit_temp_low), ("to °C", self.edit_temp_high)):
             edit.setPlaceholderText("design's")
-            edit.setMaximumWidth(70)
+            edit.setMaximumWidth(90)
+            edit.setMinimumWidth(wide)
             edit.editingFinished.connect(self.refresh)
-            row.addWidget(QLabel(label))
-            row.addWidget(edit)
-        row.addStretch(1)
+            span.addWidget(QLabel(label))
+            span.addWidget(edit)
+        span.addStretch(1)
 
     def _drift_choices(self) -> tuple[dict[str, float], float | None, float | None]:
         """Typed coefficients (1/K; a bare number is ppm/K) and range ends (°C, None = design's)."""
@@ -322,11 +337,13 @@ class PartsPane(QWidget):
         for i, line in enumerate(out.bom):
             for j, text in enumerate(bom_cells(line)):
                 item = QTableWidgetItem(text)
+                item.setToolTip(text)  # a long list of part ids is cut short in its column
                 if line.flagged:
                     item.setBackground(FLAG_COLOUR)
                     item.setToolTip(f"{line.note}\n{CAUTION}")
                 self.table_bom.setItem(i, j, item)
         self.table_bom.resizeColumnsToContents()
+        self.table_bom.resizeRowsToContents()
         flagged = out.flagged
         self.label_caution.setVisible(bool(flagged))
         self.label_status.setText(f"{len(flagged)} item(s) over a rating or limit" if flagged

@@ -141,7 +141,11 @@ class DesignPane(QWidget):
         caption = QLabel(label, self)
         caption.setToolTip(HINTS.get(key, ""))
         caption.setBuddy(w)
-        form.addRow(caption, box)
+        if isinstance(w, QComboBox) and key in ("topology", "output"):
+            form.addRow(caption)  # a network's name is long: its list takes the whole width
+            form.addRow(box)
+        else:
+            form.addRow(caption, box)
 
     # --- model → widgets -------------------------------------------------------------------------
     @property

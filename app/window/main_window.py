@@ -43,6 +43,7 @@ from .design_pane import CAPTION_WIDTH_TEXT, FIELD_WIDTH_TEXT, DesignPane
 from .files import install as install_file_features
 from .memory import load_memory, save_memory
 from .texts import ABOUT_HTML, APP_TITLE
+from .view_frame import ViewFrame
 from .view_registry import VIEWS, ViewEntry
 
 BUSY_SHOW_MS = 250
@@ -170,7 +171,8 @@ class MainWindow(QMainWindow):
         if self.width() >= WIDE_WINDOW:
             self.addDockWidget(Qt.DockWidgetArea.RightDockWidgetArea, self.dock_figures)
             self.resizeDocks([self.dock_values, self.dock_figures],
-                             [self._values_width(), min(self._table_width(), int(self.width() * 0.4))],
+                             [max(self._values_width(), int(self.width() * 0.2)),  # room for values
+                              min(self._table_width(), int(self.width() * 0.4))],
                              Qt.Orientation.Horizontal)
         else:
             self.addDockWidget(Qt.DockWidgetArea.LeftDockWidgetArea, self.dock_figures)
@@ -195,7 +197,7 @@ class MainWindow(QMainWindow):
             view.setAlignment(Qt.AlignmentFlag.AlignCenter)
         view.setObjectName(entry.key)
         holder = QScrollArea(self.tabs, objectName=f"scroll_{entry.key}")
-        holder.setWidget(view)  # a view's own minimum size must not squeeze the other panels
+        holder.setWidget(ViewFrame(view))  # a view's own minimum size must not squeeze the others
         holder.setWidgetResizable(True)
         holder.setFrameShape(QScrollArea.Shape.NoFrame)
         self.tabs.addTab(holder, entry.title)

@@ -8,13 +8,14 @@ the readings. Everything is seeded, so the same call always writes the same file
 from __future__ import annotations
 
 from collections.abc import Mapping
+from pathlib import Path
 
 import numpy as np
 
 from ..design import Design
 from ..solve import solve
 from ..topologies import build
-from .reading import Measurement
+from .reading import Measurement, parse_text, read_measurement
 
 
 def random_as_built(design: Design, sigma: float, seed: int,
@@ -89,3 +90,20 @@ def sensor_bias_example() -> str:
     m = synthesize(built, noise=60e-6, seed=4, repeats={0: 5, 64: 3, 128: 5, 255: 5},
                    missing=[17, 18, 200])
     return format_readings(m, EXAMPLE_NOTE, unit="mV")
+
+
+EXAMPLE_FILE_NAME = "example-measurement-sensor-bias.csv"
+"""The shipped example measurement's file name (in ``assets/``)."""
+
+EXAMPLE_BOARD_NOTE = ("the example board: the demo's revision A ladder with one resistor (leg5) "
+                      "fitted 1.8 % high")
+"""What the example measurement is of, in words for a screen."""
+
+
+def example_measurement() -> Measurement:
+    """The bundled example measurement: the file in ``assets/`` when this is a source checkout,
+    else the same text made by :func:`sensor_bias_example` (a test keeps the two identical)."""
+    shipped = Path(__file__).resolve().parents[2] / "assets" / EXAMPLE_FILE_NAME
+    if shipped.is_file():
+        return read_measurement(shipped)
+    return parse_text(sensor_bias_example(), source=EXAMPLE_FILE_NAME)

@@ -123,3 +123,29 @@ def test_a_refused_file_is_not_replaced_by_the_running_analysis(pane, qtbot, exa
     qtbot.waitUntil(lambda: pane.runner.active_count() == 0, timeout=20000)
     QCoreApplication.processEvents()  # anything the analysis queued is delivered now
     assert pane.label_status.text() == refusal
+
+
+def test_the_example_board_is_offered(pane, qtbot):
+    # the bundled file, loaded with one click; the built candidate becomes revision A (the
+    # example's board) even when another candidate was chosen
+    from rungwise.core.diagnose.synthetic import EXAMPLE_FILE_NAME
+
+    pane.set_candidates(demo_candidates())
+    pane.combo_design.setCurrentIndex(2)
+    assert "example board" in pane.label_status.text()
+    with qtbot.waitSignal(pane.diagnosis_changed, timeout=20000) as sig:
+        pane.findChild(type(pane.button_load), "button_load_example").click()
+    assert pane.combo_design.currentIndex() == 0
+    assert EXAMPLE_FILE_NAME in pane.label_source.text()
+    assert sig.args[0].design == DEMO_BASE
+    assert pane.table_suspects.item(0, 0).text() == "leg5"
+
+
+def test_example_measurement_is_the_shipped_file():
+    from rungwise.core.diagnose.reading import parse_text
+    from rungwise.core.diagnose.synthetic import example_measurement, sensor_bias_example
+
+    shipped, made = example_measurement(), parse_text(sensor_bias_example())
+    assert shipped.source.endswith("example-measurement-sensor-bias.csv")
+    assert (shipped.raw_codes.tolist(), shipped.raw_volts.tolist()) == (
+        made.raw_codes.tolist(), made.raw_volts.tolist())

@@ -10,7 +10,7 @@ import numpy as np
 import pytest
 
 from rungwise.app.jobs.workers import run_sync
-from rungwise.app.views.explorer import sweep_job
+from rungwise.app.views.explorer import ExplorerPane, sweep_job
 from rungwise.app.window.view_registry import VIEWS
 from rungwise.core import Design, evaluate
 from rungwise.core.grades import with_tolerance
@@ -178,3 +178,21 @@ def test_answer_line_names_where_each_candidate_reaches_the_target(qtbot, pane):
     pane.spin_target.setValue(50.0)  # a new target rewrites the line without a new run
     first = next(m for m, y in enumerate(mono) if y >= 0.5)
     assert f"50 % monotonic first reached at M = {first}" in pane.label_answer.text()
+
+
+def test_what_run_will_sweep_is_said_before_the_run(qtbot):
+    from rungwise.core.demo import demo_candidates
+
+    pane = ExplorerPane()
+    qtbot.addWidget(pane)
+    pane.set_candidates(demo_candidates())
+    pane.spin_from.setValue(6)
+    pane.spin_to.setValue(10)
+    assert pane.label_plan.text() == (
+        "Run sweeps the resolution N from 6 to 10 (5 values) for each of the 3 candidates: 15 designs "
+        "solved at every code.")
+    pane.check_stats.setChecked(True)
+    assert pane.label_plan.text().endswith(
+        "each with 500 random boards of ±0.1 % parts (7,500 boards).")
+    assert pane.button_run.isDefault()
+    pane.shutdown()

@@ -492,7 +492,7 @@ class Soak:
         tabs = self.w.tabs
         for i in range(tabs.count()):
             holder = tabs.widget(i)
-            if holder is self.w.plots or holder.widget() is not self.w.views.get(key):
+            if holder is self.w.plots or holder.widget().view is not self.w.views.get(key):
                 continue
             tabs.setCurrentIndex(i)
             return
