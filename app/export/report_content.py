@@ -95,7 +95,8 @@ class ReviewData:
 
 def gather(doc: DesignFile, title: str = "Design review", with_stats: bool = True,
            cancel: Any = None, progress: Callable[[str], None] | None = None,
-           source: str = "", file_bytes: bytes | None = None) -> ReviewData:
+           source: str = "", file_bytes: bytes | None = None,
+           evaluations: Sequence[Evaluation | None] | None = None) -> ReviewData:
     """Evaluate the candidates, run statistics (file's trials and seed) and the loosest passing
     tolerance grade, derive the recommendation.
 
@@ -103,9 +104,11 @@ def gather(doc: DesignFile, title: str = "Design review", with_stats: bool = Tru
     remaining statistics are skipped (a caller that cancels discards the result). ``progress``,
     when given, receives a line of text about ten times per candidate's statistics (boards done).
     ``source`` names the design file and ``file_bytes`` is its content (for the checksum; the
-    document's own text when not given).
+    document's own text when not given). ``evaluations`` may give candidates' evaluations already
+    made (the window's live results; ``None`` entries are evaluated here).
     """
-    evs = [evaluate(d) for d in doc.candidates]
+    known = list(evaluations) if evaluations is not None else [None] * len(doc.candidates)
+    evs = [ev if ev is not None else evaluate(d) for d, ev in zip(doc.candidates, known, strict=True)]
     stats: list[Any] = [None] * len(evs)
     grades: list[Any] = [None] * len(evs)
     notes: list[str] = []

@@ -141,6 +141,12 @@ class LiveResults(QObject):
         self._pending = None
         self.runner.cancel(CHANNEL)
 
+    def evaluation_of(self, design: Design) -> Evaluation | None:
+        """The evaluation these live results already hold for ``design`` (same values), or
+        ``None`` — exports and the report reuse it instead of solving again."""
+        hit = self._cache.get(design_key(design))
+        return None if hit is None else hit.evaluation
+
     def is_busy(self) -> bool:
         """Whether a request is waiting or running."""
         return self._pending is not None or self.runner.is_busy(CHANNEL)

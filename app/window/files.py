@@ -257,7 +257,10 @@ class FileFeatures(QObject):
 
     # --- exports -------------------------------------------------------------------------------
     def _evaluations(self):
-        return [evaluate(d) for d in self.window.model.state.designs]
+        """Every candidate's evaluation: the live results' where they hold it (no second solve on
+        the GUI thread), evaluated here only where they do not."""
+        return [self.window.live.evaluation_of(d) or evaluate(d)
+                for d in self.window.model.state.designs]
 
     def _ask(self, title: str, name: str, filters: str) -> Path | None:
         start = str((self.window.model.path.parent if self.window.model.path else Path.cwd()) / name)
@@ -317,8 +320,9 @@ class FileFeatures(QObject):
                 f"Could not prepare the report:\n{msg}"))
         self._report_path = Path(path)
         source = self.window.model.path.name if self.window.model.path else ""
+        known = [self.window.live.evaluation_of(d) for d in doc.candidates]
         self.runner.submit("report", lambda cancel: gather(doc, title, with_stats, cancel,
-                                                           source=source))
+                                                           source=source, evaluations=known))
         self.window.status_text.setText(f"Preparing the report {Path(path).name}"
                                         + (" (statistics running)…" if with_stats else "…"))
 

@@ -180,6 +180,23 @@ def test_menu_exports_match_the_engine(win, tmp_path: Path, qtbot):
         assert win.findChild(type(win.files.action_undo), name) is not None, name
 
 
+def test_exports_and_report_reuse_the_live_results(win, tmp_path: Path, qtbot, monkeypatch):
+    import rungwise.app.export.report_content as content
+    import rungwise.app.window.files as files
+
+    def refused(design):
+        raise AssertionError(f"evaluated again: {design.label}")
+
+    monkeypatch.setattr(files, "evaluate", refused)  # the live results hold every candidate
+    monkeypatch.setattr(content, "evaluate", refused)
+    assert win.files.export_table(tmp_path / "t.csv")
+    held = [win.live.evaluation_of(d) for d in win.model.state.designs]
+    assert all(ev is not None for ev in held)
+    assert win.files._evaluations() == held
+    with qtbot.waitSignal(win.files.report_written, timeout=30000):
+        win.files.write_report(tmp_path / "r.pdf", with_stats=False)
+
+
 def test_statistics_seed_and_trials_go_to_and_from_the_file(win, tmp_path: Path):
     path = tmp_path / "seeded.toml"
     designfile.save(path, DesignFile(demo_candidates(), settings={"note": "kept"},
