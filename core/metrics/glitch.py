@@ -39,7 +39,10 @@ CHUNK = 256
 """Transitions solved together (bounds memory: chunk × grid × modes)."""
 
 SEGMENT_POINTS = 17
-TAIL_POINTS = 160
+"""Grid points per segment between events (fewer when there are many segments, see
+:data:`GRID_BUDGET`; each segment is short then), ends included."""
+GRID_BUDGET = 320
+TAIL_POINTS = 120
 REFINE_STEPS = 48
 
 
@@ -119,8 +122,9 @@ class _Grid:
     def __init__(self, actual: Segments, sync: Segments, half_lsb: float) -> None:
         times = actual.times
         seg, tau = [], []
+        per = max(5, min(SEGMENT_POINTS, GRID_BUDGET // max(len(times) - 1, 1)))
         for j in range(len(times) - 1):
-            pts = np.linspace(0.0, times[j + 1] - times[j], SEGMENT_POINTS)
+            pts = np.linspace(0.0, times[j + 1] - times[j], per)
             seg.append(np.full(pts.size, j))
             tau.append(pts)
         lam = np.concatenate([actual.lam[:, -1], sync.lam[:, 0]], axis=-1)
@@ -168,10 +172,8 @@ def _figures(actual: Segments, sync: Segments, half_lsb: float
     impulse = actual.area() - sync.area()
     grid = _Grid(actual, sync, half_lsb)
     b = actual.y0.shape[0]
-    seg = np.broadcast_to(grid.seg, (b, grid.seg.size))
-    tau = np.broadcast_to(grid.tau, seg.shape)
-    y = actual.at(seg, tau)
-    ys = sync.value(grid.t)
+    y = actual.on_grid(grid.seg, grid.tau)
+    ys = sync.on_grid(np.zeros_like(grid.seg), grid.t)
     diff = np.abs(y - ys)
     i = np.argmax(diff, axis=1)
     rows = np.arange(b)

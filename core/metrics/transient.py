@@ -61,6 +61,12 @@ class Segments:
         y0, y1, amp, lam = piece
         return y0 + y1 * tau + np.sum(amp * np.exp(-lam * tau[..., None]), axis=-1)
 
+    def on_grid(self, seg: np.ndarray, tau: np.ndarray) -> np.ndarray:
+        """Output at points (segment ``seg``, ``tau``) shared by the whole batch ((P,) each),
+        (B, P) V."""
+        piece = (self.y0[:, seg], self.y1[:, seg], self.amp[:, seg], self.lam[:, seg])
+        return self.piece_at(piece, np.broadcast_to(tau, (self.y0.shape[0], tau.size)))
+
     def at(self, seg: np.ndarray, tau: np.ndarray) -> np.ndarray:
         """Output in segment ``seg`` (int, (B, P)) at ``tau`` s after its start, (B, P) V."""
         return self.piece_at(self.piece(np.broadcast_to(seg, tau.shape)), tau)

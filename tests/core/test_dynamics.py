@@ -89,8 +89,8 @@ def test_per_code_layout_and_summary():
     assert ev.summary["glitch_worst"] == g[c]
     assert ev.summary["settling_worst"] == np.max(s)
     one = solve_transitions(build(d), timing_of(d), np.array([20]), np.array([21]))
-    assert one.impulse[0] == g[21]
-    assert one.settling[0] == s[21]
+    assert one.impulse[0] == pytest.approx(g[21], rel=1e-12)  # alone or in a batch: the same
+    assert one.settling[0] == pytest.approx(s[21], rel=1e-12)
 
 
 def test_above_twelve_bits_a_stated_sample():
