@@ -121,7 +121,9 @@ def iter_until_decided(design: Design, trials: int, seed: int, targets: Targets 
 def iter_yield_vs_tolerance(design: Design, grades: Sequence[float] = STANDARD_GRADES,
                             trials: int = 2000, seed: int = 1, targets: Targets | None = None,
                             criterion: Criterion = "all", cancel: Any = None,
-                            target_yield: float | None = None) -> Iterator[YieldCurve]:
+                            target_yield: float | None = None,
+                            known: dict[float, tuple[MonteCarloResult, YieldDecision | None]]
+                            | None = None) -> Iterator[YieldCurve]:
     """Yield at each grade, one grade at a time (each yield is the partial curve so far).
 
     Parameters
@@ -138,6 +140,9 @@ def iter_yield_vs_tolerance(design: Design, grades: Sequence[float] = STANDARD_G
     target_yield : float, optional
         When given, each grade's run stops as soon as its yield is decided against it
         (:func:`iter_until_decided`); the decisions are in ``YieldCurve.decisions``.
+    known : dict grade → (result, decision), optional
+        Runs already made at a grade with the same trials, seed, targets and rule (the Statistics
+        view's run at its chosen grade): reused, not run again.
 
     Yields
     ------
@@ -149,7 +154,9 @@ def iter_yield_vs_tolerance(design: Design, grades: Sequence[float] = STANDARD_G
         if cancel is not None and cancel.is_set():
             return
         graded = with_tolerance(design, grade)
-        if target_yield is None:
+        if known and float(grade) in known:
+            result, decision = known[float(grade)]
+        elif target_yield is None:
             *_, result = iter_monte_carlo(graded, trials, seed, cancel=cancel, targets=targets,
                                           reports=1)
             decision = None
