@@ -13,8 +13,13 @@ from dataclasses import dataclass, field
 from types import MappingProxyType
 from typing import Any
 
+from .build_style import check_build
 from .display_names import network_name
 from .errors import DesignError
+from .mismatch import check_mismatch
+from .part_ids import part_ids
+from .parts.board import check_board
+from .timing import check_sine, check_timing
 from .types import MAX_ARRAY_BITS, MAX_BITS, OUTPUTS_BY_TOPOLOGY, SERIES, TOPOLOGIES
 from .units import parse_value
 
@@ -227,8 +232,6 @@ class Design:
                               f"allowed: a whole number from 0 to {self.bits} (the resolution)")
         if not isinstance(self.name, str):
             raise DesignError("name", "must be text")
-        from .build_style import check_build  # local: keeps this module's imports small
-
         object.__setattr__(self, "build", MappingProxyType(check_build(self.build)))
         parts: dict[str, float] = {}
         if not isinstance(self.parts, Mapping):
@@ -239,8 +242,6 @@ class Design:
                 raise DesignError(f"parts.{pid}", f"{x:g} is out of range; allowed: {PARTS_ALLOWED}")
             parts[str(pid)] = x
         if parts:
-            from .topologies import part_ids  # local: topologies import this module
-
             known = part_ids(self.topology, self.output, self.bits, self.thermometer_bits,
                              self.build)
             known_set = set(known)
@@ -249,14 +250,8 @@ class Design:
                     raise DesignError(f"parts.{pid}", f"unknown part id for {self.topology} with "
                                       f"{self.bits} bits; known ids: {_id_summary(known)}")
         object.__setattr__(self, "parts", MappingProxyType(parts))
-        from .mismatch import check_mismatch
-
         object.__setattr__(self, "mismatch", MappingProxyType(check_mismatch(self.mismatch, self)))
-        from .parts.board import check_board
-
         object.__setattr__(self, "board", MappingProxyType(check_board(self.board)))
-        from .timing import check_sine, check_timing
-
         object.__setattr__(self, "timing", MappingProxyType(check_timing(self.timing)))
         object.__setattr__(self, "sine", MappingProxyType(check_sine(self.sine)))
 

@@ -36,6 +36,7 @@ import numpy as np
 from .build_style import unit_ohms
 from .errors import DesignError
 from .network import Network, PartArray, PartList
+from .part_ids import part_ids
 from .units import parse_value
 
 MismatchModelName = Literal["parts", "on-chip", "array"]
@@ -125,8 +126,6 @@ def check_mismatch(data: Mapping[str, Any], design: Any) -> dict[str, Any]:
 def _check_tempcos(value: Any, design: Any) -> dict[str, float]:
     if not isinstance(value, Mapping):
         raise DesignError("mismatch.tempco_parts", "must map part ids to 1/K, e.g. {leg0 = 50e-6}")
-    from .topologies import part_ids  # local: topologies import the design module
-
     known = part_ids(design.topology, design.output, design.bits, design.thermometer_bits,
                      design.build)
     spec = NUMERIC_SETTINGS["tempco"]

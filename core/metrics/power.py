@@ -15,7 +15,6 @@ element above *except* the feedback resistor (fed by the amplifier, not the refe
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
 
 import numpy as np
 
@@ -23,6 +22,8 @@ from ..element_arrays import plain_equivalent, plain_size
 from ..network import Network, PartList
 from ..solution import Solution
 from ..solve import solve
+from .power_arrays import group_blocks, string_worst_case
+from .power_types import ElementPower, ElementPowers, totals
 
 CODE_CHUNK = 1 << 15
 """Codes solved per pass when node voltages are kept; bounds working memory."""
@@ -37,36 +38,6 @@ groups, a tap selector) gets power figures, from its plain equivalent; above it 
 
 FROM_AMPLIFIER = ("feedback",)
 """Elements the amplifier feeds, left out of the reference's power balance."""
-
-
-@dataclass
-class ElementPower:
-    """Worst case of one dissipating element.
-
-    Attributes
-    ----------
-    name : str
-        Part id, ``switch:<leg id>``, ``ref_r`` or ``load``.
-    kind : str
-        ``"part"``, ``"switch"``, ``"reference"`` or ``"load"``.
-    power_max : float
-        Largest power over all codes, watts.
-    power_code : int
-        The code where it happens.
-    current_max : float
-        Largest |current| over all codes, amperes.
-    source_max, sink_max : float
-        Switches only: largest current the switch sources from its high rail into the leg, and
-        sinks from the leg into its low rail, amperes (0 for other elements).
-    """
-
-    name: str
-    kind: str
-    power_max: float
-    power_code: int
-    current_max: float
-    source_max: float = 0.0
-    sink_max: float = 0.0
 
 
 def element_powers(net: Network, drive: np.ndarray, volts: dict[str, np.ndarray],
@@ -315,7 +286,6 @@ def _array_worst_case(net: Network, solved: Solution | None):
     """Worst case of a network with array-held elements in exact vectorised form: a string with a
     tap switch, or plain elements with thermometer groups (``power_arrays.py``); ``None`` when
     neither applies (then the plain equivalent is used)."""
-    from .power_arrays import ElementPowers, _totals, group_blocks, string_worst_case
 
     if net.selector is not None:
         return string_worst_case(net, solved)
@@ -341,4 +311,4 @@ def _array_worst_case(net: Network, solved: Solution | None):
     rest = [e for e in plain if e.kind not in ("part", "switch")]
     ordered = ([x for _, x in sorted(parts, key=lambda t: t[0])]
                + [x for _, x in sorted(switches, key=lambda t: t[0])] + rest)
-    return ElementPowers(ordered), _totals(net, total + group_total, fed + group_total, sol.iref)
+    return ElementPowers(ordered), totals(net, total + group_total, fed + group_total, sol.iref)

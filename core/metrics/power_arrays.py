@@ -25,14 +25,13 @@ Both are checked against the per-element computation on the plain equivalent
 
 from __future__ import annotations
 
-from dataclasses import dataclass
-
 import numpy as np
 
 from ..element_arrays import array_values
-from ..network import BlockSequence, Network, PartArray, PartList
+from ..network import Network, PartArray, PartList
 from ..solution import Solution
 from ..solve import solve
+from .power_types import ArrayPower, ElementPower, ElementPowers, totals
 
 
 def running_max(x: np.ndarray, reverse: bool = False) -> tuple[np.ndarray, np.ndarray]:
@@ -79,39 +78,6 @@ def split_worst(pre: np.ndarray, suf: np.ndarray, ends: np.ndarray, c_pre: np.nd
     value = np.where(take_pre, a, b)
     code = np.where(take_pre, pk[np.clip(ends - 1, 0, n - 1)], sk[np.clip(ends, 0, n - 1)])
     return value, code.astype(np.int64)
-
-
-@dataclass
-class ArrayPower:
-    """Worst case of the elements ``f"{prefix}{i}"`` of an array (fields as in
-    :class:`~rungwise.core.metrics.power.ElementPower`, each an array of shape (m,))."""
-
-    prefix: str
-    kind: str
-    power_max: np.ndarray
-    power_code: np.ndarray
-    current_max: np.ndarray
-    source_max: np.ndarray | None = None
-    sink_max: np.ndarray | None = None
-
-    @property
-    def size(self) -> int:
-        """Number of elements m."""
-        return int(self.power_max.shape[0])
-
-    def element(self, i: int):
-        """Element ``i`` as an :class:`~rungwise.core.metrics.power.ElementPower`."""
-        from .power import ElementPower
-
-        return ElementPower(f"{self.prefix}{i}", self.kind, float(self.power_max[i]),
-                            int(self.power_code[i]), float(self.current_max[i]),
-                            0.0 if self.source_max is None else float(self.source_max[i]),
-                            0.0 if self.sink_max is None else float(self.sink_max[i]))
-
-
-class ElementPowers(BlockSequence):
-    """Worst-case elements in display order: plain ``ElementPower`` entries and
-    :class:`ArrayPower` blocks, read as one sequence (block entries made on demand)."""
 
 
 def part_power_arrays(elements, parts) -> tuple[np.ndarray, np.ndarray]:
@@ -200,8 +166,6 @@ def _string_shape(net: Network):
 def string_worst_case(net: Network, solved: Solution | None = None):
     """Worst case of a string network (see the module docstring), or ``None`` when ``net`` is not
     one. Returns ``(elements, totals)`` like ``power.worst_case``."""
-    from .power import ElementPower
-
     shape = _string_shape(net)
     if shape is None:
         return None
@@ -257,23 +221,13 @@ def string_worst_case(net: Network, solved: Solution | None = None):
     rest = [e for e in plain if e.kind != "part"]
     elements = ElementPowers([block, *parts_first, *rest] if _chain_first(net, chain)
                              else [*parts_first, block, *rest])
-    return elements, _totals(net, total, total, sol.iref)
+    return elements, totals(net, total, total, sol.iref)
 
 
 def _chain_first(net: Network, chain) -> bool:
     parts = PartList.of(net.parts)
     return bool(parts.blocks) and isinstance(parts.blocks[0], PartArray) \
         and parts.blocks[0].prefix == chain.prefix
-
-
-def _totals(net: Network, total: np.ndarray, fed: np.ndarray, iref) -> dict[str, float]:
-    """The totals of ``power.worst_case`` from per-code arrays (shape (n_codes,))."""
-    p_ref = net.fixed[net.source] * np.asarray(iref, dtype=float)
-    k = int(np.argmax(total))
-    j = int(np.argmax(np.abs(p_ref)))
-    return {"power_total_max": float(total[k]), "power_total_max_code": k,
-            "ref_power_max": float(abs(p_ref[j])), "ref_power_max_code": j,
-            "balance_error_max": float(np.max(np.abs(p_ref - fed)))}
 
 
 # ------------------------------------------------------------------------------------------------

@@ -8,19 +8,10 @@ Outputs: ``divider`` (all bit resistors meet at the output; ideal Vout = Vref·k
 
 from __future__ import annotations
 
+from .. import part_ids as ids
 from ..design import Design
 from ..network import GROUND, Network, Output, Part, Resistor, SwitchedLeg, binary_decoder
 from .common import reference, value
-
-
-def part_ids(output: str, bits: int) -> list[str]:
-    """Part ids in display order."""
-    ids = [f"bit{k}" for k in range(bits)]
-    if output == "terminated-divider":
-        ids.append("term")
-    if output == "summing-amp":
-        ids.append("feedback")
-    return ids
 
 
 def build(design: Design) -> Network:
@@ -33,18 +24,18 @@ def build(design: Design) -> Network:
         fixed["sum"] = 0.0
     legs, parts = [], []
     for k in range(n):
-        ohms = value(design, f"bit{k}", r * (2.0 * _bit_ratio(design)) ** (n - 1 - k))
-        legs.append(SwitchedLeg(f"bit{k}", "bit", out_node, "ref", GROUND, ohms,
+        ohms = value(design, ids.bit(k), r * (2.0 * _bit_ratio(design)) ** (n - 1 - k))
+        legs.append(SwitchedLeg(ids.bit(k), "bit", out_node, "ref", GROUND, ohms,
                                 design.ron_high, design.ron_low))
-        parts.append(Part(f"bit{k}", "bit", ohms))
+        parts.append(Part(ids.bit(k), "bit", ohms))
     if design.output == "terminated-divider":
-        term = Resistor("term", "termination", out_node, GROUND, value(design, "term",
-                                                                      r * 2.0 ** (n - 1)))
+        term = Resistor(ids.TERM, "termination", out_node, GROUND,
+                        value(design, ids.TERM, r * 2.0 ** (n - 1)))
         resistors.append(term)
-        parts.append(Part("term", "termination", term.ohms))
+        parts.append(Part(ids.TERM, "termination", term.ohms))
     if summing:
-        rf = value(design, "feedback", design.feedback_r or r / 2.0)
-        parts.append(Part("feedback", "feedback", rf))
+        rf = value(design, ids.FEEDBACK, design.feedback_r or r / 2.0)
+        parts.append(Part(ids.FEEDBACK, "feedback", rf))
         output = Output("virtual-ground", out_node, feedback_ohms=rf)
     else:
         output = Output("node", out_node, load_ohms=design.load_r)

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from .. import part_ids as ids
 from ..design import Design
 from ..network import GROUND, Part, Resistor, SwitchedLeg
 
@@ -20,7 +21,7 @@ def reference(design: Design, ref_node: str = "ref") -> tuple[dict[str, float], 
         fixed[ref_node] = design.vref
         return fixed, [], ref_node
     fixed[REF_SOURCE] = design.vref
-    return fixed, [Resistor("ref_r", "reference", REF_SOURCE, ref_node, design.ref_r)], REF_SOURCE
+    return fixed, [Resistor(ids.REF_R, "reference", REF_SOURCE, ref_node, design.ref_r)], REF_SOURCE
 
 
 def value(design: Design, part_id: str, nominal: float) -> float:
@@ -39,16 +40,16 @@ def r2r_section(design: Design, bits: int, high: str, term_ohms: float
     r = design.unit_r
     legs, resistors, parts = [], [], []
     for k in range(bits):
-        ohms = value(design, f"leg{k}", 2 * r)
-        legs.append(SwitchedLeg(f"leg{k}", "leg", f"n{k}", high, GROUND, ohms,
+        ohms = value(design, ids.leg(k), 2 * r)
+        legs.append(SwitchedLeg(ids.leg(k), "leg", f"n{k}", high, GROUND, ohms,
                                 design.ron_high, design.ron_low))
-        parts.append(Part(f"leg{k}", "leg", ohms))
+        parts.append(Part(ids.leg(k), "leg", ohms))
     for k in range(bits - 1):
-        res = Resistor(f"series{k}", "series", f"n{k}", f"n{k + 1}", value(design, f"series{k}",
-                                                                        design.series_ratio * r))
+        res = Resistor(ids.series(k), "series", f"n{k}", f"n{k + 1}",
+                       value(design, ids.series(k), design.series_ratio * r))
         resistors.append(res)
         parts.append(Part(res.part_id, "series", res.ohms))
-    term = Resistor("term", "termination", "n0", GROUND, value(design, "term", term_ohms))
+    term = Resistor(ids.TERM, "termination", "n0", GROUND, value(design, ids.TERM, term_ohms))
     resistors.append(term)
-    parts.append(Part("term", "termination", term.ohms))
+    parts.append(Part(ids.TERM, "termination", term.ohms))
     return legs, resistors, parts

@@ -5,15 +5,10 @@ steers its current to the summing node (bit 1) or to ground (bit 0); a transimpe
 
 from __future__ import annotations
 
+from .. import part_ids as ids
 from ..design import Design
 from ..network import Network, Output, Part, binary_decoder
 from .common import r2r_section, reference, value
-
-
-def part_ids(output: str, bits: int) -> list[str]:
-    """Part ids in display order."""
-    return ([f"leg{k}" for k in range(bits)] + [f"series{k}" for k in range(bits - 1)]
-            + ["term", "feedback"])
 
 
 def build(design: Design) -> Network:
@@ -24,8 +19,8 @@ def build(design: Design) -> Network:
     fixed["sum"] = 0.0
     legs, ladder, parts = r2r_section(design, n, "sum", 2 * r)
     resistors += ladder
-    rf = value(design, "feedback", design.feedback_r or r)
-    parts.append(Part("feedback", "feedback", rf))
+    rf = value(design, ids.FEEDBACK, design.feedback_r or r)
+    parts.append(Part(ids.FEEDBACK, "feedback", rf))
     return Network(fixed=fixed, source=source, resistors=resistors, legs=legs, n_codes=2**n,
                    decode=binary_decoder(list(range(n))),
                    output=Output("virtual-ground", "sum", feedback_ohms=rf), parts=parts,

@@ -12,12 +12,6 @@ from ..network import Network, Output, binary_decoder
 from .common import r2r_section, reference
 
 
-def part_ids(output: str, bits: int) -> list[str]:
-    """Part ids in display order."""
-    return ([f"leg{k}" for k in range(bits)] + [f"series{k}" for k in range(bits - 1)]
-            + ["term"])
-
-
 def build(design: Design) -> Network:
     """The voltage-mode ladder of ``design`` (see module docstring)."""
     n, r = design.bits, design.unit_r

@@ -19,6 +19,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from .. import part_ids as ids
 from ..build_style import build_choice
 from ..design import Design
 from ..network import (
@@ -40,22 +41,11 @@ SIZING_RULE = ("each segment leg equals the binary section's Thevenin resistance
 """The segment sizing rule in words, for the screen and reports."""
 
 
-def part_ids(output: str, bits: int, thermometer_bits: int = 0, lsb_section: str = "r2r"
-             ) -> list[str]:
-    """Part ids in display order: segments, then the ladder's (or the unit array's bits and
-    terminator when ``lsb_section`` is ``"unit-array"``)."""
-    if lsb_section == "unit-array":
-        return segmented_units.part_ids(bits, thermometer_bits)
-    m, lad = thermometer_bits, bits - thermometer_bits
-    return ([f"seg{i}" for i in range(2**m - 1)] + [f"leg{k}" for k in range(lad)]
-            + [f"series{k}" for k in range(lad - 1)] + ["term"])
-
-
 def _segment_ohms(design: Design, count: int, nominal: float) -> np.ndarray:
     ohms = np.full(count, nominal)
     for pid, x in design.parts.items():
-        if pid.startswith("seg"):
-            ohms[int(pid[3:])] = x
+        if pid.startswith(ids.SEG):
+            ohms[int(pid[len(ids.SEG):])] = x
     return ohms
 
 
@@ -77,12 +67,12 @@ def build(design: Design, grouped: bool = True) -> Network:
         join = f"n{max(lad, 1) - 1}"
         seg_ohms = _segment_ohms(design, n_seg, r)
         legs, section, parts = r2r_section(design, lad, "ref", 2 * r if lad else r)
-    seg_parts = PartArray("seg", "segment", seg_ohms)
+    seg_parts = PartArray(ids.SEG, "segment", seg_ohms)
     resistors += section
     groups = []
     if grouped:
         if n_seg:
-            groups.append(ThermometerGroup("seg", "segment", join, "ref", GROUND, seg_ohms,
+            groups.append(ThermometerGroup(ids.SEG, "segment", join, "ref", GROUND, seg_ohms,
                                            design.ron_high, design.ron_low))
         decode = _grouped_decoder(lad, bool(n_seg))
     else:

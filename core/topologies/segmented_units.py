@@ -16,6 +16,7 @@ own switch of ``ron_high``/``ron_low`` (switches are not scaled with the leg). P
 
 from __future__ import annotations
 
+from .. import part_ids as ids
 from ..design import Design
 from ..network import GROUND, Part, Resistor, SwitchedLeg
 from .common import value
@@ -26,13 +27,6 @@ SIZING_RULE = ("unit-element LSB section: one unit is R·2^(N−1), bit k is 2^k
 
 OUT = "out"
 """The node every leg joins (the output)."""
-
-
-def part_ids(bits: int, thermometer_bits: int) -> list[str]:
-    """Part ids in display order: segments, bits, terminator."""
-    lad = bits - thermometer_bits
-    return ([f"seg{i}" for i in range(2**thermometer_bits - 1)] + [f"bit{k}" for k in range(lad)]
-            + ["term"])
 
 
 def unit_section(design: Design) -> tuple[list, list, list]:
@@ -48,12 +42,12 @@ def unit_section(design: Design) -> tuple[list, list, list]:
     unit = design.unit_r * 2.0 ** (n - 1)
     legs, parts = [], []
     for k in range(lad):
-        ohms = value(design, f"bit{k}", unit / 2**k)
-        legs.append(SwitchedLeg(f"bit{k}", "bit", OUT, "ref", GROUND, ohms, design.ron_high,
+        ohms = value(design, ids.bit(k), unit / 2**k)
+        legs.append(SwitchedLeg(ids.bit(k), "bit", OUT, "ref", GROUND, ohms, design.ron_high,
                                 design.ron_low))
-        parts.append(Part(f"bit{k}", "bit", ohms))
-    term = Resistor("term", "termination", OUT, GROUND, value(design, "term", unit))
-    parts.append(Part("term", "termination", term.ohms))
+        parts.append(Part(ids.bit(k), "bit", ohms))
+    term = Resistor(ids.TERM, "termination", OUT, GROUND, value(design, ids.TERM, unit))
+    parts.append(Part(ids.TERM, "termination", term.ohms))
     return legs, [term], parts
 
 

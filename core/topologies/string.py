@@ -14,14 +14,10 @@ from __future__ import annotations
 
 import numpy as np
 
+from .. import part_ids as ids
 from ..design import Design
 from ..network import GROUND, Network, Output, PartArray, PartList, ResistorChain, Selector
 from .common import reference
-
-
-def part_ids(output: str, bits: int) -> list[str]:
-    """Part ids in display order, from the ground end."""
-    return [f"string{i}" for i in range(2**bits)]
 
 
 def _select(codes: np.ndarray) -> np.ndarray:
@@ -35,9 +31,9 @@ def build(design: Design) -> Network:
     fixed, resistors, source = reference(design)
     ohms = np.full(size, design.unit_r)
     for pid, x in design.parts.items():
-        ohms[int(pid[len("string"):])] = x
-    chain = ResistorChain("string", "string", GROUND, "ref", "t", ohms)
-    parts = PartList([PartArray("string", "string", ohms)])  # Part objects only on demand
+        ohms[int(pid[len(ids.STRING):])] = x
+    chain = ResistorChain(ids.STRING, "string", GROUND, "ref", "t", ohms)
+    parts = PartList([PartArray(ids.STRING, "string", ohms)])  # Part objects only on demand
     buffered = design.output == "buffer"
     output = Output("node", "out", buffered=buffered, gain=design.gain if buffered else 1.0,
                     load_ohms=design.load_r)

@@ -6,6 +6,7 @@ import numpy as np
 import pytest
 
 from rungwise.core import Design, DesignError, evaluate
+from rungwise.core.part_ids import segmented_ids
 from rungwise.core.solve import solve
 from rungwise.core.topologies import build, segmented
 
@@ -86,9 +87,9 @@ def test_thermometer_bits_range_is_named():
 
 
 def test_part_ids_and_sizing_rule():
-    ids = segmented.part_ids("unbuffered", 5, 2)
+    ids = segmented_ids(5, 2)
     assert ids == ["seg0", "seg1", "seg2", "leg0", "leg1", "leg2", "series0", "series1", "term"]
-    assert segmented.part_ids("unbuffered", 3, 3) == [f"seg{i}" for i in range(7)] + ["term"]
+    assert segmented_ids(3, 3) == [f"seg{i}" for i in range(7)] + ["term"]
     assert "Thevenin" in segmented.SIZING_RULE
 
 

@@ -9,6 +9,7 @@ from rungwise.core import Design, DesignError, evaluate
 from rungwise.core.designfile import DesignFile, dumps, loads
 from rungwise.core.metrics.linearity import dnl
 from rungwise.core.montecarlo import choose_engine, monte_carlo, sample_trials
+from rungwise.core.part_ids import segmented_ids
 from rungwise.core.solve import solve
 from rungwise.core.topologies import build, part_ids, segmented
 
@@ -39,7 +40,7 @@ def test_part_ids_units_and_sizing_rule():
     parts = {p.part_id: p for p in build(d).parts}
     ids = ["seg0", "seg1", "seg2", "bit0", "bit1", "bit2", "bit3", "term"]
     assert list(parts) == ids == part_ids("segmented", d.output, 6, 2, d.build)
-    assert segmented.part_ids(d.output, 6, 2, "unit-array") == ids
+    assert segmented_ids(6, 2, "unit-array") == ids
     # sizing rule: unit R·2^(N−1); bit k = R·2^(N−1−k) as in the binary-weighted network
     for k in range(4):
         assert parts[f"bit{k}"].ohms == pytest.approx(1e3 * 2.0 ** (5 - k))
