@@ -9,22 +9,19 @@ import numpy as np
 
 from .design import Design
 from .figure_meaning import reasons
+from .figure_registry import SUMMARY, labels_and_units
 from .limits import check_evaluation
 from .metrics import linearity
-from .metrics.dynamics import SUMMARY_KEYS as DYNAMIC_SUMMARY_KEYS
 from .metrics.dynamics import Dynamics, Scope, dynamic_figures
 from .metrics.power import WHOLE_CODES, PowerFold
 from .metrics.power_arrays import part_power_arrays
 from .metrics.structure import structure
 from .network import Network
 from .part_rows import PartRows
-from .parts.figures import SUMMARY_KEYS as PART_SUMMARY_KEYS
 from .parts.figures import part_figures
-from .skew import SUMMARY_KEYS as SKEW_KEYS
 from .solution import Solution
 from .solve import solve
 from .topologies import build
-from .worst_case import SUMMARY_KEYS as WORST_CASE_KEYS
 from .worst_case import summary as worst_case_summary
 
 
@@ -91,38 +88,8 @@ class Evaluation:
         return out
 
 
-SUMMARY_KEYS: dict[str, tuple[str, str]] = {
-    "ideal_lsb": ("Ideal LSB", "V"),
-    "ideal_full_scale": ("Ideal full scale", "V"),
-    "lsb": ("Endpoint LSB", "V"),
-    "full_scale": ("Full scale (last code)", "V"),
-    "offset_error": ("Offset error", "V"),
-    "gain_error": ("Gain error", "fraction"),
-    "gain_error_lsb": ("Gain error at full scale", "LSB"),
-    "max_abs_inl_endpoint": ("Max |INL|, endpoint", "LSB"),
-    "max_abs_inl_bestfit": ("Max |INL|, best fit", "LSB"),
-    "max_abs_dnl": ("Max |DNL|", "LSB"),
-    "monotonic": ("Monotonic", ""),
-    **WORST_CASE_KEYS,
-    **SKEW_KEYS,  # added by skew.add_skew_figures (the command line), not by evaluate
-    "rout_min": ("Output resistance, min", "Ω"),
-    "rout_min_code": ("  at code", ""),
-    "rout_max": ("Output resistance, max", "Ω"),
-    "rout_max_code": ("  at code", ""),
-    "iref_min": ("Reference current, min", "A"),
-    "iref_min_code": ("  at code", ""),
-    "iref_max": ("Reference current, max", "A"),
-    "iref_max_code": ("  at code", ""),
-    "n_resistors": ("Resistors", ""),
-    "n_distinct_values": ("Distinct values", ""),
-    "spread": ("Resistance spread", "×"),
-    "total_r_units": ("Total resistance", "R"),
-    "n_switches": ("Switches", ""),
-    "n_amplifiers": ("Amplifiers", ""),
-    **PART_SUMMARY_KEYS,
-    **DYNAMIC_SUMMARY_KEYS,
-}
-"""Summary key → (label, unit) in display order."""
+SUMMARY_KEYS: dict[str, tuple[str, str]] = labels_and_units(SUMMARY)
+"""Summary key → (label, unit) in display order (from :mod:`.figure_registry`)."""
 
 
 def _argmin_max(x: np.ndarray) -> tuple[float, int, float, int]:

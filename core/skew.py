@@ -60,17 +60,10 @@ class SkewAnswer:
     base_gain_error: float = float("nan")
 
     def summary(self) -> dict[str, float]:
-        """Summary entries (see :data:`SUMMARY_KEYS`); NaN where there is no ratio (JSON null)."""
+        """Summary entries (labels in :mod:`.figure_registry`); NaN where there is no ratio
+        (JSON null)."""
         return {"series_ratio_for_monotonic": float("nan") if self.ratio is None else self.ratio,
                 "skew_max_abs_inl": self.max_abs_inl, "skew_gain_error": self.gain_error}
-
-
-SUMMARY_KEYS: dict[str, tuple[str, str]] = {
-    "series_ratio_for_monotonic": ("Series ratio for monotonic by design", "×"),
-    "skew_max_abs_inl": ("  its max |INL|, endpoint", "LSB"),
-    "skew_gain_error": ("  its gain error", "fraction"),
-}
-"""Summary keys of the ratio search → (label, unit)."""
 
 
 def add_skew_figures(ev) -> None:

@@ -12,6 +12,7 @@ from typing import Any
 
 import numpy as np
 
+from . import figure_registry
 from .design import Design
 from .mismatch import MismatchModel
 from .targets import Targets
@@ -26,12 +27,7 @@ PERCENTILES = (1.0, 5.0, 50.0, 95.0, 99.0)
 ENVELOPE_BANDS = (1.0, 50.0, 99.0)
 """Percentiles of the per-code INL envelope, %."""
 
-YIELDS: dict[str, str] = {
-    "yield_monotonic": "Monotonic",
-    "yield_dnl": "|DNL| within limit",
-    "yield_inl": "|INL| within limit",
-    "yield_all": "All three",
-}
+YIELDS: dict[str, str] = {f.key: f.label for f in figure_registry.YIELDS}
 """Yield fields and their labels."""
 
 STAT_UNITS: dict[str, str] = {

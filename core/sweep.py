@@ -24,6 +24,7 @@ import numpy as np
 from .design import Design
 from .errors import RungwiseError
 from .evaluate import SUMMARY_KEYS, evaluate
+from .figure_registry import YIELDS, labels_and_units
 from .types import MAX_ARRAY_BITS
 
 SweepOver = Literal["bits", "thermometer_bits"]
@@ -34,12 +35,7 @@ SWEEP_VARIABLES: tuple[str, ...] = get_args(SweepOver)
 BITS_RANGE = (2, MAX_ARRAY_BITS)
 """Resolutions a bit-count sweep may cover, bits."""
 
-STAT_KEYS: dict[str, tuple[str, str]] = {
-    "yield_monotonic": ("Yield, monotonic", "fraction"),
-    "yield_dnl": ("Yield, |DNL| within limit", "fraction"),
-    "yield_inl": ("Yield, |INL| within limit", "fraction"),
-    "yield_all": ("Yield, all targets", "fraction"),
-}
+STAT_KEYS: dict[str, tuple[str, str]] = labels_and_units(YIELDS)
 """Statistics figures a sweep adds per point when asked (label, unit)."""
 
 SWEEP_KEYS: dict[str, tuple[str, str]] = {**SUMMARY_KEYS, **STAT_KEYS}

@@ -280,17 +280,10 @@ SUMMARY_WORK = 1 << 18
 """Largest sensitivity solve ``evaluate`` spends on the guarantee (a bigger network is reported
 as not decided; :func:`worst_steps` itself goes to :data:`MAX_WORK`)."""
 
-SUMMARY_KEYS: dict[str, tuple[str, str]] = {
-    "guaranteed_monotonic": ("Monotonic on every board within tolerance", ""),
-    "worst_case_min_step": ("  smallest step of any such board", "LSB"),
-    "worst_case_transition": ("  at the step into code", ""),
-}
-"""Summary keys of the worst-case guarantee → (label, unit)."""
-
 
 def summary(design: Design, max_work: int = SUMMARY_WORK, net: Network | None = None
             ) -> tuple[dict, str]:
-    """The guarantee's summary entries (see :data:`SUMMARY_KEYS`) and how it was decided, in
+    """The guarantee's summary entries (labels in :mod:`.figure_registry`) and how it was decided, in
     words. ``guaranteed_monotonic`` is True only when decided so: an undecided design reads False
     (with NaN figures) and the words say why. ``net``: ``build(design)`` when the caller has it."""
     undecided = {"guaranteed_monotonic": False, "worst_case_min_step": float("nan"),

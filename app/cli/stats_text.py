@@ -42,9 +42,10 @@ def stat_rows(r: MonteCarloResult) -> list[tuple[str, str]]:
     rows = [("Seed", str(r.seed)), ("Trials", f"{r.done} of {r.trials}" if r.done < r.trials
                                      else str(r.trials)),
             ("Engine", r.engine), ("Mismatch", r.model.describe()),
-            ("Targets", f"|INL| ≤ {t.max_inl_lsb:g} LSB ({t.inl_line}), |DNL| ≤ {t.max_dnl_lsb:g} LSB"
+            ("Targets", f"|INL| ≤ {format_quantity(t.max_inl_lsb, 'LSB')} ({t.inl_line}), "
+             f"|DNL| ≤ {format_quantity(t.max_dnl_lsb, 'LSB')}"
              + (", monotonic" if t.monotonic else ""))]
-    rows += [(f"Yield: {label}", getattr(r, key).text()) for key, label in YIELDS.items()]
+    rows += [(label, getattr(r, key).text()) for key, label in YIELDS.items()]
     pct = r.percentiles
     for key, label in STAT_LABELS.items():
         for p in SHOWN_PERCENTILES[key]:

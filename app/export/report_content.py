@@ -19,6 +19,7 @@ from typing import Any
 
 from rungwise.core import FIELDS, SUMMARY_KEYS, Evaluation, evaluate
 from rungwise.core.designfile import DesignFile, dumps
+from rungwise.core.figure_registry import FIGURES, figure
 from rungwise.core.formatting import EDIT_DIGITS, format_percent, format_quantity, yes_no
 from rungwise.core.review import (
     Recommendation,
@@ -236,7 +237,7 @@ def _page_one(data: ReviewData) -> list[Block]:
         out.append(Paragraph("Design search: " + data.search.answer))
     out.append(Heading("Key figures", 2))
     rows = [[_label(k), *[_cell(e, k) for e in evs]] for k in KEY_FIGURES]
-    rows.append(["Yield, all targets", *[_yield_text(data, i) for i in range(len(evs))]])
+    rows.append([FIGURES["yield_all"].label, *[_yield_text(data, i) for i in range(len(evs))]])
     rows.append(["Parts (resistors + switches + amplifiers)",
                  *[str(v.parts) for v in data.recommendation.verdicts]])
     out.append(Table(["Figure", *[e.design.label for e in evs]], rows,
@@ -387,8 +388,7 @@ def _plots_section(data: ReviewData) -> list[Block]:
     return out
 
 
-YIELD_LABELS = {"yield_monotonic": "Monotonic", "yield_dnl": "|DNL| within limit",
-                "yield_inl": "|INL| within limit", "yield_all": "All targets together"}
+
 
 
 def _stats_section(data: ReviewData) -> list[Block]:
@@ -405,7 +405,7 @@ def _stats_section(data: ReviewData) -> list[Block]:
         rows = []
         for key, y in s.yields().items():
             d = _decision(y.passed, y.trials, target)
-            rows.append([YIELD_LABELS.get(key, key), f"{y.passed:,} of {y.trials:,}",
+            rows.append([figure(key).label, f"{y.passed:,} of {y.trials:,}",
                          d.yield_text()])
         out.append(Table(["Yield", "Boards passing", "Yield (one-sided 95 % bounds)"], rows,
                          "lrr", row_swatches={k: data.colours[i] for k in range(len(rows))}))

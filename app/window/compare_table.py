@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Sequence
-from typing import Any, Literal
+from typing import Any
 
 from PySide6.QtCore import Qt
 from PySide6.QtGui import QBrush, QColor, QFont
@@ -13,42 +13,14 @@ from PySide6.QtWidgets import QAbstractItemView, QHeaderView, QTableWidget, QTab
 from rungwise.core.display_names import network_name
 from rungwise.core.evaluate import SUMMARY_KEYS
 from rungwise.core.figure_meaning import NO_MEANING_TEXT, shown
+from rungwise.core.figure_registry import SUMMARY
+from rungwise.core.figure_registry import Better as Best
 from rungwise.core.formatting import format_quantity
 
 from ..jobs.live_results import CandidateResult
 from .comparison_state import Candidate
 
-Best = Literal["smallest", "smallest_abs", "largest", "yes"]
-"""How the best value of a row is chosen."""
-
-BEST_RULE: dict[str, Best] = {
-    "offset_error": "smallest_abs",
-    "gain_error": "smallest_abs",
-    "gain_error_lsb": "smallest_abs",
-    "max_abs_inl_endpoint": "smallest",
-    "max_abs_inl_bestfit": "smallest",
-    "max_abs_dnl": "smallest",
-    "monotonic": "yes",
-    "rout_max": "smallest",
-    "iref_max": "smallest_abs",
-    "n_resistors": "smallest",
-    "n_distinct_values": "smallest",
-    "spread": "smallest",
-    "total_r_units": "smallest",
-    "n_switches": "smallest",
-    "n_amplifiers": "smallest",
-    "glitch_major": "smallest_abs",
-    "glitch_peak_major": "smallest",
-    "glitch_peak_major_lsb": "smallest",
-    "settling_major": "smallest",
-    "glitch_worst": "smallest_abs",
-    "settling_worst": "smallest",
-    "settling_full_scale": "smallest",
-    "sfdr_db": "largest",
-    "thd_db": "smallest",
-    "sinad_db": "largest",
-    "enob": "largest",
-}
+BEST_RULE: dict[str, Best] = {f.key: f.better for f in SUMMARY if f.better}
 """Rows with a "best" value and what best means there; other rows (LSB, full scale, the code where
 an extreme occurs, the lowest output resistance and reference current) are shown but not judged:
 the smallest output resistance matters less than the largest, which sets the loading error."""

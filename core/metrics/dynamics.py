@@ -16,23 +16,6 @@ from .spectrum import design_sine, spectrum_figures
 Scope = Literal["all", "major"]
 """Which transitions to solve: all (or the stated sample above 12 bits), or the major carry only."""
 
-SUMMARY_KEYS: dict[str, tuple[str, str]] = {
-    "glitch_major": ("Glitch impulse, major carry", "V·s"),
-    "glitch_peak_major": ("Glitch peak, major carry", "V"),
-    "glitch_peak_major_lsb": ("  relative to the LSB", "LSB"),
-    "settling_major": ("Settling to ½ LSB, major carry", "s"),
-    "glitch_worst": ("Glitch impulse, largest", "V·s"),
-    "glitch_worst_code": ("  at transition", ""),
-    "settling_worst": ("Settling to ½ LSB, slowest transition", "s"),
-    "settling_worst_code": ("  at transition", ""),
-    "settling_full_scale": ("Settling to ½ LSB, full-scale step", "s"),
-    "sfdr_db": ("SFDR, test sine", "dB"),
-    "thd_db": ("THD, test sine", "dB"),
-    "sinad_db": ("SINAD, test sine", "dB"),
-    "enob": ("ENOB, test sine", "bits"),
-}
-"""Summary keys added here → (label, unit), in display order."""
-
 
 @dataclass
 class Dynamics:
@@ -54,7 +37,8 @@ def major_code(n_codes: int) -> int:
 
 def dynamic_figures(design: Any, net: Network, vout: np.ndarray, scope: Scope = "all",
                     cancel: Any = None) -> tuple[dict[str, Any], Dynamics]:
-    """Summary entries (:data:`SUMMARY_KEYS`) and per-code arrays of ``design``'s network.
+    """Summary entries (labels in :mod:`..figure_registry`) and per-code arrays of ``design``'s
+    network.
 
     ``vout`` (n_codes,) V is the nominal solution (the sine's values are read from it).
     """

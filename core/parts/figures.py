@@ -15,39 +15,12 @@ from ..network import Network
 from ..solution import Solution
 from .board import board_value
 
-SUMMARY_KEYS: dict[str, tuple[str, str]] = {
-    "power_total_max": ("Power in the network, max", "W"),
-    "power_total_max_code": ("  at code", ""),
-    "ref_power_max": ("Reference power, max", "W"),
-    "switch_current_max": ("Switch current, max", "A"),
-    "switch_source_max": ("  sourced from the high rail", "A"),
-    "switch_sink_max": ("  sunk into the low rail", "A"),
-    "settling_tau": ("Output time constant", "s"),
-    "settling_time": ("Settling to ½ LSB", "s"),
-    "noise_density": ("Thermal noise density, worst code", "V/√Hz"),
-    "noise_rms": ("Thermal noise over the bandwidth, through the output pole", "V"),
-    "noise_rms_lsb": ("  relative to the LSB", "LSB"),
-    "drift_low_c": ("Cold end of the temperature range", "°C"),
-    "drift_high_c": ("Hot end of the temperature range", "°C"),
-    "drift_gain_error_low": ("Gain error at the cold end", "fraction"),
-    "drift_gain_error_high": ("Gain error at the hot end", "fraction"),
-    "drift_offset_low": ("Offset at the cold end", "V"),
-    "drift_offset_high": ("Offset at the hot end", "V"),
-    "drift_inl_low": ("Max |INL| at the cold end", "LSB"),
-    "drift_inl_high": ("Max |INL| at the hot end", "LSB"),
-    "amp_offset_error": ("Amplifier: offset error", "V"),
-    "amp_gain_error": ("Amplifier: gain error", "fraction"),
-    "amp_inl_added": ("Amplifier: INL added", "LSB"),
-    "amp_codes_clipped": ("Amplifier: codes beyond the rails", ""),
-}
-"""Summary keys added here → (label, unit), in display order."""
-
 
 def part_figures(design: Any, net: Network, sol: Solution,
                  powers: tuple[list[ElementPower], dict[str, float]] | None = None
                  ) -> tuple[dict[str, Any], list[ElementPower]]:
-    """Summary entries (see :data:`SUMMARY_KEYS`; the ``amp_`` ones only where the output has an
-    amplifier) and every element's worst-case power.
+    """Summary entries (labels in :mod:`..figure_registry`; the ``amp_`` ones only where the output
+    has an amplifier) and every element's worst-case power.
 
     Parameters
     ----------

@@ -31,7 +31,7 @@ def test_table_and_csv_show_the_seed_and_yields(capsys):
     out = capsys.readouterr().out
     assert "Seed" in out
     assert " 9" in out
-    assert "Yield: Monotonic" in out
+    assert "Yield, monotonic" in out
     assert run_cli([*ARGS, "--trials", "200", "--seed", "9", "--format", "csv"]) == 0
     rows = dict(line.split(",", 1) for line in capsys.readouterr().out.splitlines() if "," in line)
     assert rows["stat.seed"] == "9"
