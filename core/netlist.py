@@ -2,12 +2,13 @@
 
 :func:`spice_netlist` writes the design *as built* (snapped and as-built part values, each
 physical unit as its own resistor named by its bill-of-materials designator), the reference
-source behind its output resistance, the load resistance and capacitance, and every switch as a
-resistor (its on-resistance) in the state of one code — or, with ``all_codes``, as behavioural
-conductances decoded from a swept code voltage. The output node is ``out``; an amplifier output is
-an ideal amplifier made of a voltage-controlled source (a buffer: ``out`` = gain × its input; a
-summing node: a very large gain holding the node at 0 V with the feedback resistor to ``out``).
-A ``.control`` block runs ``op`` (or the ``dc`` sweep) and prints ``v(out)``.
+source behind its output resistance, the load resistance and capacitance, every network node's
+capacitance (``timing.node_c``), and every switch as a resistor (its on-resistance) in the
+state of one code — or, with ``all_codes``, as behavioural conductances decoded from a swept
+code voltage. The output node is ``out``; an amplifier output is an ideal amplifier made of a
+voltage-controlled source (a buffer: ``out`` = gain × its input; a summing node: a very large
+gain holding the node at 0 V with the feedback resistor to ``out``). A ``.control`` block runs
+``op`` (or the ``dc`` sweep) and prints ``v(out)``.
 
 Only the common subset of SPICE syntax is used (R, C, V, E elements, ``.end``), plus behavioural
 ``B`` sources and ``floor``/``u`` for the all-codes sweep, which ngspice reads.
@@ -233,6 +234,11 @@ def spice_netlist(design: Design, code: int | None = None, all_codes: bool = Fal
         lines.append(f"RLOAD {OUT} 0 {_num(design.load_r)} ; load")
     if design.load_c > 0:
         lines.append(f"CLOAD {OUT} 0 {_num(design.load_c)} ; load capacitance (no effect on op)")
+    node_c = float(design.timing.get("node_c", 0.0))
+    if node_c > 0:  # the switching figures' capacitance from every network node to ground
+        lines.append("* node capacitances (timing.node_c; no effect on op)")
+        for k, name in enumerate(net.unknown_nodes()):
+            lines.append(f"CN{k + 1} {w.node(name)} 0 {_num(node_c)}")
     if all_codes:
         lines.append(".options reltol=1e-12 vntol=1e-15 abstol=1e-18")
     analysis = f"dc VCODE 0 {n_codes - 1} 1" if all_codes else "op"
