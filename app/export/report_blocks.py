@@ -115,7 +115,7 @@ def _first_piece(m: Measured) -> float:
     """The least of a block that must come right after a heading: a table's header and first
     rows (the whole table when it is too short to be cut without a lone row)."""
     if m.rows is None:
-        return m.height
+        return m.least or m.height
     return m.head + sum(m.rows if len(m.rows) < 2 * MIN_ROWS else m.rows[:MIN_ROWS])
 
 

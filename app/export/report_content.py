@@ -169,10 +169,14 @@ def _swatches(data: ReviewData, first: int) -> dict[int, str]:
     return {first + i: c for i, c in enumerate(data.colours)}
 
 
-def _cell(ev: Evaluation, key: str) -> str:
-    from rungwise.core.figure_meaning import shown
+def _cell(ev: Evaluation, key: str, notes: dict[str, int] | None = None) -> str:
+    """A figure's cell; a figure with no meaning for the inputs says so — with ``notes`` given,
+    as ``no meaning (n)`` whose reason is listed once under the table (:func:`_note_lines`)."""
+    from rungwise.core.figure_meaning import NO_MEANING_TEXT, shown
 
     reason = ev.no_meaning.get(key)
+    if reason and notes is not None:
+        return f"{NO_MEANING_TEXT} ({notes.setdefault(reason, len(notes) + 1)})"
     if reason:
         return shown(reason)
     label, unit = SUMMARY_KEYS.get(key, (key, ""))
@@ -236,12 +240,14 @@ def _page_one(data: ReviewData) -> list[Block]:
     if data.search is not None:
         out.append(Paragraph("Design search: " + data.search.answer))
     out.append(Heading("Key figures", 2))
-    rows = [[_label(k), *[_cell(e, k) for e in evs]] for k in KEY_FIGURES]
+    notes: dict[str, int] = {}
+    rows = [[_label(k), *[_cell(e, k, notes) for e in evs]] for k in KEY_FIGURES]
     rows.append([FIGURES["yield_all"].label, *[_yield_text(data, i) for i in range(len(evs))]])
     rows.append(["Parts (resistors + switches + amplifiers)",
                  *[str(v.parts) for v in data.recommendation.verdicts]])
     out.append(Table(["Figure", *[e.design.label for e in evs]], rows,
                      swatches=_swatches(data, 1)))
+    out += _note_lines(notes)
     inl = next(p for p in data.plots if p.name == "inl")
     out.append(Figure("plot", inl, 0.36, colours=tuple(data.colours), shrink=0.6))
     out.append(PageBreak())
@@ -335,11 +341,17 @@ def _design_section(data: ReviewData) -> list[Block]:
 def _comparison_section(data: ReviewData) -> list[Block]:
     from .tables import comparison_rows
 
+    notes: dict[str, int] = {}
     rows = [[r.label.strip() if not r.label.startswith(" ") else "   " + r.label.strip(),
-             *[_cell(e, r.key) for e in data.evs]] for r in comparison_rows(data.evs)]
+             *[_cell(e, r.key, notes) for e in data.evs]] for r in comparison_rows(data.evs)]
     return [Heading("2. Comparison", 1),
             Table(["Figure", *[e.design.label for e in data.evs]], rows,
-                  swatches=_swatches(data, 1))]
+                  swatches=_swatches(data, 1)), *_note_lines(notes)]
+
+
+def _note_lines(notes: dict[str, int]) -> list[Block]:
+    """The reasons behind ``no meaning (n)`` cells, one line each."""
+    return [Paragraph(f"({n}) No meaning: {reason}.", "small") for reason, n in notes.items()]
 
 
 def _search_section(data: ReviewData) -> list[Block]:
@@ -377,7 +389,8 @@ def _schematic_section(data: ReviewData) -> list[Block]:
         x0, y0, x1, y1 = sch.bounds()
         aspect = min(0.9, max(0.3, (y1 - y0 + 2.2) / (x1 - x0 + 2.9)))
         out.append(Heading(ev.design.label, 3))
-        out.append(Figure("schematic", sch, aspect, caption=sch.caption, accent=data.colours[i]))
+        out.append(Figure("schematic", sch, aspect, caption=sch.caption, accent=data.colours[i],
+                          shrink=0.7))
     return out
 
 

@@ -108,11 +108,15 @@ def _column_widths(pg: _Page, table) -> list[float]:
     total = sum(natural)
     if total <= pg.width:
         return [w * pg.width / total for w in natural] if total > 0.7 * pg.width else natural
-    fair = pg.width / n
-    fixed = sum(w for w in natural if w <= fair)
-    wide = [w for w in natural if w > fair]
-    room = pg.width - fixed
-    return [w if w <= fair else room * w / sum(wide) for w in natural]
+    # too wide: the row labels keep their width (up to a third of the page), the other columns
+    # share the rest, narrow ones whole and wide ones in proportion
+    first = min(natural[0], pg.width / 3) if n > 1 else pg.width
+    rest = natural[1:]
+    fair = (pg.width - first) / max(len(rest), 1)
+    fixed = sum(w for w in rest if w <= fair)
+    wide = [w for w in rest if w > fair]
+    room = pg.width - first - fixed
+    return [first, *[w if w <= fair else room * w / sum(wide) for w in rest]]
 
 
 def _row_height(pg: _Page, cells: list[str], widths: list[float], style: str) -> float:

@@ -149,10 +149,11 @@ def test_every_page_carries_file_page_version_seed_and_checksum(report):
 def test_figures_that_mean_nothing_say_so_and_yields_show_bounds(report):
     _, pdf, _, _ = report
     text = _pdf_text(pdf)
-    # (table cells wrap, so only the start of each reason is looked for)
-    assert "no meaning: no load capacitance" in text  # the ladder: settling needs a capacitance
-    assert "no meaning: behind an" in text  # the summing network's settling
-    assert "no meaning: no temperature" in text  # the ladder has no temperature coefficient
+    # cells say "no meaning (n)"; each reason is written once under the table
+    assert "no meaning (1)" in text
+    assert "No meaning: no load capacitance given." in text  # the ladder's settling
+    assert "No meaning: behind an amplifier" in text  # the summing network's settling
+    assert "No meaning: no temperature coefficient set." in text  # the ladder's drift rows
     assert "Hot end of the temperature range 70 °C 70 °C" in text  # the ends have their rows
     assert "Yield (one-sided 95 % bounds)" in text
     assert "Max |INL|, endpoint" in text
