@@ -13,11 +13,16 @@ import math
 from dataclasses import dataclass, field
 from typing import Any
 
+import numpy as np
+
 from .design import Design
 from .errors import RungwiseError
-from .evaluate import evaluate
+from .evaluate import linearity_curves
 from .formatting import format_percent, format_quantity
+from .metrics import linearity
+from .solve import solve
 from .targets import Targets
+from .topologies import build
 
 R_STEPS = (2.0, 5.0, 10.0, 20.0, 50.0, 100.0)
 """Multiples of the unit resistor tried when the switches are the cause."""
@@ -72,9 +77,27 @@ class NominalFailure:
         return out
 
 
-def _meets(design: Design, targets: Targets, criterion: str) -> bool:
+def linearity_summary(design: Design) -> dict[str, Any]:
+    """The nominal linearity figures ``misses`` reads, from one solve (no power, noise or
+    switching figures: a trial change costs one solve)."""
+    v = solve(build(design), vout_only=True).vout
+    curves = linearity_curves(v)
+    return {"monotonic": bool(linearity.monotonic(v)),
+            "max_abs_dnl": float(np.abs(curves["dnl"]).max()) if curves["dnl"].size else 0.0,
+            "max_abs_inl_endpoint": float(np.nanmax(np.abs(curves["inl_endpoint"]))),
+            "max_abs_inl_bestfit": float(np.nanmax(np.abs(curves["inl_bestfit"]))),
+            "dnl": curves["dnl"]}
+
+
+class _Stopped(Exception):
+    """The caller's cancel event was set between trial solves."""
+
+
+def _meets(design: Design, targets: Targets, criterion: str, cancel: Any = None) -> bool:
+    if cancel is not None and cancel.is_set():
+        raise _Stopped
     try:
-        return not misses(evaluate(design).summary, targets, criterion)
+        return not misses(linearity_summary(design), targets, criterion)
     except RungwiseError:
         return False
 
@@ -84,28 +107,50 @@ def _ohms(x: float) -> str:
 
 
 def nominal_failure(design: Design, targets: Targets | None = None, criterion: str = "all",
-                    summary: dict[str, Any] | None = None) -> NominalFailure | None:
-    """Why ``design`` misses ``targets`` with every part at its value, or ``None`` when it meets.
+                    summary: dict[str, Any] | None = None, cancel: Any = None,
+                    cached_only: bool = False) -> NominalFailure | None:
+    """Why ``design`` misses ``targets`` with every part at its value, or ``None`` when it meets
+    (also ``None`` when ``cancel.is_set()`` stops it between its trial solves).
 
-    ``summary``: the design's evaluation summary when already computed.
+    ``summary``: the design's evaluation summary when already computed. ``cached_only``: answer
+    only from earlier calls (``None`` if not asked before), never solving — for the GUI thread.
     """
     targets = targets or Targets()
-    ev = None
+    key = repr((sorted(design.to_dict().items()), targets, criterion))
+    if key in _CACHE or cached_only:
+        return _CACHE.get(key)
+    try:
+        found = _failure(design, targets, criterion, summary, cancel)
+    except _Stopped:
+        return None
+    if len(_CACHE) >= CACHE_SIZE:
+        _CACHE.pop(next(iter(_CACHE)))
+    _CACHE[key] = found
+    return found
+
+
+CACHE_SIZE = 256
+"""Designs whose answer is kept (a view asks again on every redraw; a worker fills it first)."""
+
+_CACHE: dict[str, NominalFailure | None] = {}
+
+
+def _failure(design: Design, targets: Targets, criterion: str, summary: dict[str, Any] | None,
+             cancel: Any) -> NominalFailure | None:
     if summary is None:
-        ev = evaluate(design)
-        summary = ev.summary
+        summary = linearity_summary(design)
     missed = misses(summary, targets, criterion)
     if not missed:
         return None
-    ev = ev or evaluate(design)
+    dnl = linearity_summary(design)["dnl"]
     mono = "non-monotonic" in missed
-    k = (int(ev.dnl.argmin()) if mono else int(abs(ev.dnl).argmax())) if ev.dnl.size else 0
-    step = format_quantity(float(ev.dnl[k]), signed=True) if ev.dnl.size else ""
-    worst = f"DNL {step} LSB at transition {k + 1}" if ev.dnl.size else "one code"
+    k = (int(dnl.argmin()) if mono else int(abs(dnl).argmax())) if dnl.size else 0
+    step = format_quantity(float(dnl[k]), signed=True) if dnl.size else ""
+    worst = f"DNL {step} LSB at transition {k + 1}" if dnl.size else "one code"
     causes, changes = [], []
     d = design
     switches = d.ron_high > 0 or d.ron_low > 0
-    if switches and _meets(d.replace(ron_high=0.0, ron_low=0.0), targets, criterion):
+    if switches and _meets(d.replace(ron_high=0.0, ron_low=0.0), targets, criterion, cancel):
         causes.append(f"switch resistance ({_ohms(d.ron_high)} on / {_ohms(d.ron_low)} off against "
                       f"R = {_ohms(d.unit_r)}) — with ideal switches it meets")
         for m in R_STEPS:
@@ -113,35 +158,36 @@ def nominal_failure(design: Design, targets: Targets | None = None, criterion: s
                 bigger = d.replace(unit_r=d.unit_r * m)
             except RungwiseError:
                 break
-            if _meets(bigger, targets, criterion):
+            if _meets(bigger, targets, criterion, cancel):
                 changes.append(f"raise R to {_ohms(bigger.unit_r)} (×{format_quantity(m)}) so the "
                                "switches are a smaller share")
                 break
-        if d.ron_high != d.ron_low and _meets(d.replace(ron_low=d.ron_high), targets, criterion):
+        if d.ron_high != d.ron_low and _meets(d.replace(ron_low=d.ron_high), targets, criterion, cancel):
             changes.append("switches with equal resistance in both states")
-    if math.isfinite(d.load_r) and _meets(d.replace(load_r=math.inf), targets, criterion):
+    if math.isfinite(d.load_r) and _meets(d.replace(load_r=math.inf), targets, criterion, cancel):
         causes.append(f"the load ({_ohms(d.load_r)}) — open it meets")
         changes.append("buffer the output or raise the load resistance")
-    if d.series != "exact" and _meets(d.replace(series="exact"), targets, criterion):
+    if d.series != "exact" and _meets(d.replace(series="exact"), targets, criterion, cancel):
         causes.append(f"snapping to {d.series} values — with exact values it meets")
         finer = "E192" if d.series != "E192" else None
-        if finer and _meets(d.replace(series=finer), targets, criterion):
+        if finer and _meets(d.replace(series=finer), targets, criterion, cancel):
             changes.append(f"a finer series ({finer})")
         changes.append("exact (custom or trimmed) values")
-    if d.ref_r > 0 and _meets(d.replace(ref_r=0.0), targets, criterion):
+    if d.ref_r > 0 and _meets(d.replace(ref_r=0.0), targets, criterion, cancel):
         causes.append(f"the reference's output resistance ({_ohms(d.ref_r)}) — ideal it meets")
         changes.append("drive the network from a buffered reference")
     return NominalFailure(missed, worst, causes, changes)
 
 
 def loosest_grade_words(design: Design, grade: float | None, tightest: float,
-                        targets: Targets | None = None, criterion: str = "all") -> str:
+                        targets: Targets | None = None, criterion: str = "all",
+                        cancel: Any = None) -> str:
     """The loosest-grade answer in words: ``"±0.1 %"``; when none passes, either the real reason
     (the nominal design already fails: ``"none — The nominal design already fails …"``) or
     ``"tighter than ±0.01 %"`` when the nominal design meets the targets."""
     if grade is not None:
         return f"±{format_percent(grade)}"
-    failure = nominal_failure(design, targets, criterion)
+    failure = nominal_failure(design, targets, criterion, cancel=cancel)
     if failure is not None:
         return "none — " + failure.text()
     return f"tighter than ±{format_percent(tightest)}"

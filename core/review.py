@@ -107,7 +107,7 @@ class Recommendation:
 
 
 def recommend(evs: Sequence[Evaluation], targets: Targets,
-              yields: Sequence[float | None] | None = None) -> Recommendation:
+              yields: Sequence[float | None] | None = None, cancel: Any = None) -> Recommendation:
     """The candidate that meets every target with the fewest parts, and a sentence saying why.
 
     Parameters
@@ -117,6 +117,8 @@ def recommend(evs: Sequence[Evaluation], targets: Targets,
     targets : Targets
     yields : sequence of float or None, optional
         Monte Carlo yield of all targets together per candidate (fraction), ``None`` where not run.
+    cancel : object with ``is_set()``, optional
+        Stops the nominal-reason solves (the recommendation then leaves the reasons out).
     """
     yields = list(yields) if yields is not None else [None] * len(evs)
     verdicts = [judge(e, targets, y) for e, y in zip(evs, yields, strict=True)]
@@ -125,7 +127,7 @@ def recommend(evs: Sequence[Evaluation], targets: Targets,
     if not passing:
         misses = "; ".join(f"{v.label}: {', '.join(v.failures)}" for v in verdicts)
         return Recommendation(None, f"No candidate meets the targets ({wanted}). {misses}."
-                              + _nominal_reasons(evs, targets), verdicts)
+                              + _nominal_reasons(evs, targets, cancel), verdicts)
     best = min(passing, key=lambda i: (verdicts[i].parts, verdicts[i].inl, i))
     v = verdicts[best]
     figures = f"max |INL| {format_quantity(v.inl, 'LSB')}, max |DNL| {format_quantity(v.dnl, 'LSB')}"
@@ -143,14 +145,14 @@ def recommend(evs: Sequence[Evaluation], targets: Targets,
                           f"{figures}, using {fewer}.", verdicts)
 
 
-def _nominal_reasons(evs: Sequence[Evaluation], targets: Targets) -> str:
+def _nominal_reasons(evs: Sequence[Evaluation], targets: Targets, cancel: Any = None) -> str:
     """`` Label: The nominal design already fails …`` for each candidate whose nominal figures
     miss a target (no tolerance grade can help it; the reason names the cause and a change)."""
     from .nominal_reason import nominal_failure  # local: it evaluates variants of the design
 
     out = []
     for ev in evs:
-        failure = nominal_failure(ev.design, targets, summary=ev.summary)
+        failure = nominal_failure(ev.design, targets, summary=ev.summary, cancel=cancel)
         if failure is not None:
             out.append(f" {ev.design.label}: {failure.text()}")
     return "".join(out)

@@ -44,10 +44,12 @@ def _best(result: SweepResult, candidate: int, metric: str) -> SweepPoint | None
     return max(scored, key=lambda p: p.figures[metric], default=None)
 
 
-def answer_lines(result: SweepResult, target: float, metric: str = "yield_monotonic") -> list[str]:
+def answer_lines(result: SweepResult, target: float, metric: str = "yield_monotonic",
+                 solve_reasons: bool = True) -> list[str]:
     """One line per candidate: where ``metric`` first reaches ``target`` (a fraction) and the
     resistor and switch counts there, or the best value reached. Empty when the sweep carries no
-    such figure (no yields asked for)."""
+    such figure (no yields asked for). ``solve_reasons=False`` gives a nominal design's reason only
+    when an earlier call solved it (the window asks from its GUI thread; its job solves first)."""
     if metric not in result.metrics():
         return []
     what = SWEEP_KEYS[metric][0].replace("Yield, ", "").strip()
@@ -71,7 +73,7 @@ def answer_lines(result: SweepResult, target: float, metric: str = "yield_monoto
         else:
             lines.append(f"{design.label}: never {format_percent(target)} {what}{partial} (best "
                          f"{format_percent(best.figures[metric])} at {sym} = {best.value})"
-                         + nominal_note(best, metric))
+                         + nominal_note(best, metric, solve=solve_reasons))
     if result.over == "bits":
         lines += largest_lines(result, target, metric)
     return lines
@@ -81,7 +83,8 @@ CRITERION_OF = {"yield_monotonic": "monotonic", "yield_dnl": "dnl", "yield_inl":
                 "yield_all": "all"}
 
 
-def nominal_note(point: SweepPoint, metric: str, targets: Targets | None = None) -> str:
+def nominal_note(point: SweepPoint, metric: str, targets: Targets | None = None,
+                 solve: bool = True) -> str:
     """`` — the nominal design already fails …`` when it does at ``point``, else ``""``."""
     criterion = CRITERION_OF.get(metric, "all")
     f = point.figures
@@ -90,7 +93,7 @@ def nominal_note(point: SweepPoint, metric: str, targets: Targets | None = None)
         return ""
     if not misses(f, targets or Targets(), criterion):
         return ""
-    failure = nominal_failure(point.design, targets, criterion, summary=f)
+    failure = nominal_failure(point.design, targets, criterion, summary=f, cached_only=not solve)
     return "" if failure is None else " — " + failure.text()
 
 

@@ -142,7 +142,8 @@ def gather(doc: DesignFile, title: str = "Design review", with_stats: bool = Tru
             except DesignError as exc:
                 notes.append(f"{d.label}: statistics not run ({exc})")
     yields = [float(s.yield_all) if s is not None else None for s in stats]
-    rec = recommend(evs, doc.targets, yields if any(y is not None for y in yields) else None)
+    rec = recommend(evs, doc.targets, yields if any(y is not None for y in yields) else None,
+                    cancel=cancel)
     colours = [c.colour for c in with_colours(doc.candidates, _colours(doc))]
     search = _search(doc, cancel) if with_stats else None
     return ReviewData(doc, evs, stats, rec, title, notes, grades, source, colours,

@@ -82,6 +82,8 @@ def sweep_job(designs: list[Design], over: str, values: list[int],
         last = None
         for last in iter_sweep(designs, over, values, stats, cancel):
             yield Progress(last.done, last.total, last)
+        if last is not None and stats is not None and not cancel.is_set():
+            answer_lines(last, 0.99)  # the nominal reasons are solved here, not on the GUI thread
         yield last
 
     return job
@@ -326,8 +328,8 @@ class ExplorerPane(QWidget):
 
     def _update_answer(self) -> None:
         """Where each candidate first reaches the target monotonic yield (yield sweeps only)."""
-        lines = [] if self.result is None else answer_lines(self.result,
-                                                              self.spin_target.value() / 100)
+        lines = [] if self.result is None else answer_lines(
+            self.result, self.spin_target.value() / 100, solve_reasons=False)
         self.label_answer.setText("\n".join(lines))
 
     def _on_progress(self, channel: str, p: Progress) -> None:

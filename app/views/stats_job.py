@@ -107,7 +107,8 @@ def statistics_job(request: StatsRequest) -> Any:
                 return
             if outcome.loosest(i) is None:
                 outcome.reasons[i] = loosest_grade_words(base, None, STANDARD_GRADES[0],
-                                                         request.targets, request.criterion)
+                                                         request.targets, request.criterion,
+                                                         cancel)
         yield outcome
 
     return job

@@ -135,3 +135,16 @@ def test_loosest_grade_words_give_the_real_reason() -> None:
     assert "switch resistance" in words
     assert loosest_grade_words(Design(bits=12), None, 0.0001) == "tighter than ±0.01 %"
     assert loosest_grade_words(Design(bits=12), 0.001, 0.0001) == "±0.1 %"
+
+
+def test_nominal_reason_stops_on_cancel_and_answers_from_cache() -> None:
+    import threading
+
+    d = Design(bits=10, ron_high=40, ron_low=25, vref=1.25)
+    stop = threading.Event()
+    stop.set()
+    assert nominal_failure(d, cancel=stop) is None  # stopped before its trial solves
+    assert nominal_failure(d, cached_only=True) is None  # not asked before
+    solved = nominal_failure(d)
+    assert solved is not None
+    assert nominal_failure(d, cached_only=True) is solved
