@@ -330,8 +330,10 @@ def _column_layout(design: Design, net: Network, code: int, names: _Names) -> Sc
             items.append(Wire(((prev_end, Y_TOP), (x, Y_TOP))))
         first = x
         for c in cols.get(node, []) or [_Column("none", node)]:
+            wide = c.kind == "ellipsis"  # room for its note between the neighbours' labels
+            x += PITCH * 0.7 if wide else 0.0
             _draw_column(items, c, x, rail_y, names)
-            x += PITCH
+            x += PITCH * 1.7 if wide else PITCH
         last = x - PITCH
         if last > first:
             items.append(Wire(((first, Y_TOP), (last, Y_TOP))))
@@ -397,7 +399,7 @@ def _draw_column(items: list, c: _Column, x: float, rail_y: dict[str, float], na
     if c.kind == "ellipsis":
         items.append(Label((x, Y_R0 + 0.3), "⋯", "ellipsis"))
         for k, line in enumerate(c.note.split("\n")):
-            items.append(Label((x, Y_R0 + 0.7 + 0.3 * k), line, "note"))
+            items.append(Label((x, Y_R0 + 0.75 + 0.3 * k), line, "note"))
         return
     items.append(Dot((x, Y_TOP)))
     items.append(Wire(((x, Y_TOP), (x, Y_R0))))

@@ -17,7 +17,7 @@ from rungwise.core.schematic import schematic
 
 from ..plots.schematic_paint import schematic_image
 
-CARD_SIZE = (560, 250)
+CARD_SIZE = (760, 300)
 """Width and usual height of the schematic on the card, pixels (tall layouts get up to twice
 the height)."""
 
