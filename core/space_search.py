@@ -233,7 +233,7 @@ def _why(pts: list[SearchPoint], best: SearchPoint | None, budget: int) -> str:
     spread_words = f"1:{format_quantity(spread)} spread, " if spread >= 8 else ""
     if ok:
         p = ok[0]
-        ratio = (f", cost {format_quantity(p.cost / best.cost, '×', digits=2)} the answer"
+        ratio = (f", cost {format_quantity(p.cost / best.cost, '×', digits=3)} the answer"
                  if best and best.cost > 0 else "")
         tighter = (f"needs ±{format_percent(p.grade)} parts" if best is None or p.grade < best.grade
                    else f"{sum(p.counts())} parts")
