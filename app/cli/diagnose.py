@@ -12,8 +12,13 @@ from typing import Any
 import numpy as np
 
 from rungwise.core.diagnose import Diagnosis, diagnose, read_measurement, to_c_header, to_csv
-from rungwise.core.errors import RungwiseError
+from rungwise.core.diagnose.diagnosis import RepairRequest
+from rungwise.core.diagnose.joint import Extras, read_rout
+from rungwise.core.diagnose.repair import DEFAULT_SERIES, DEFAULT_TARGET_INL
+from rungwise.core.diagnose.sanity import DesignMismatch
+from rungwise.core.errors import DesignError, RungwiseError
 from rungwise.core.formatting import format_percent, format_quantity, yes_no
+from rungwise.core.parts.eseries import TOLERANCE
 
 from .candidates import apply_choices, load_candidates, parse_settings, pick_candidate
 
@@ -43,7 +48,23 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--correction-header", metavar="FILE.h",
                    help="write the correction table as a C array in a header file")
     p.add_argument("--save-as-built", metavar="FILE.toml", help="write a design file with the "
-                   "design and its as-built version (the best suspect at its fitted value)")
+                   "design and its as-built version (the best suspect at its fitted value); with "
+                   "--repair also the repaired board and the plan")
+    p.add_argument("--rout", action="append", metavar="CODE=OHMS", default=[],
+                   help="output resistance measured at a code with the reference shorted, e.g. "
+                   "128=10.02k (repeatable; helps tell parts apart)")
+    p.add_argument("--loaded", metavar="FILE", help="the same board's curve measured again with "
+                   "a known load across the output (give it with --load-ohms)")
+    p.add_argument("--load-ohms", metavar="OHMS", help="the known load of --loaded, e.g. 10k")
+    p.add_argument("--repair", action="store_true", help="plan the fewest part changes (replace, "
+                   "or add a trim in parallel or in series) that meet the target whichever "
+                   "explanation is true")
+    p.add_argument("--series", choices=tuple(TOLERANCE), default=DEFAULT_SERIES,
+                   help=f"with --repair: preferred-value series of new parts (default "
+                   f"{DEFAULT_SERIES})")
+    p.add_argument("--target-inl", type=float, default=DEFAULT_TARGET_INL, metavar="LSB",
+                   help=f"with --repair: target max |INL| and |DNL| in LSB (default "
+                   f"{DEFAULT_TARGET_INL:g})")
 
 
 def _design(args: argparse.Namespace):
@@ -114,6 +135,7 @@ def render_table(d: Diagnosis) -> str:
                      f"{format_quantity(row['residual_rms_lsb'], 'LSB'):>14}"
                      f"{format_percent(row['explained']):>11}")
     corr = out["correction"]
+    lines += _explanation_lines(out)
     if out["suspects_note"]:
         lines.append(f"  {out['suspects_note']}")
     if out["equivalent_suspects"]:
@@ -127,8 +149,51 @@ def render_table(d: Diagnosis) -> str:
         f"as built, {lsb(corr['max_abs_inl_after'])} after correction (bound "
         f"{lsb(corr['bound_lsb'])}); {len(corr['skip_codes'])} measured codes never used; "
         f"{corr['n_estimated_used']} entries use an estimated unmeasured code",
+        f"             ({corr['bound_meaning']})",
     ]
+    lines += [f"Check        {text}" for text in out["checks"]]
+    lines += _repair_lines(out.get("repair"))
     return "\n".join(lines)
+
+
+def _explanation_lines(out: dict) -> list[str]:
+    """The sets of parts that explain the curve, and what cannot be told apart."""
+    ident = out["identifiability"]
+    if ident is None:
+        return []
+    rows = ["", "Explanations (up to three parts fitted together; fewest parts first)"]
+    for e in out["explanations"][:8]:
+        parts = ", ".join(f"{pid} {dev * 100:+.2f} %" for pid, dev in e["parts"].items())
+        mark = "" if e["fits"] else "   (closest; does not fit within the noise)"
+        rows.append(f"  {parts:<52} left {e['residual_rms_lsb']:.4f} LSB rms{mark}")
+    rows.append(f"  {'AMBIGUOUS: ' if out['ambiguous'] else ''}{ident['note']}")
+    return rows
+
+
+def _repair_lines(plan: dict | None) -> list[str]:
+    """The repair plan in words."""
+    if plan is None:
+        return []
+    from rungwise.core.diagnose.repair import Action
+
+    rows = ["", f"Repair plan (target max |INL| and |DNL| ≤ {plan['target_inl']:g} LSB; new parts "
+            f"{plan['series']})"]
+    rows += [f"  {Action(a['id'], a['action'], a['ohms']).describe()}" for a in plan["actions"]]
+    if not plan["actions"]:
+        rows.append("  no change")
+    verdict = "meets" if plan["meets_target"] else "does NOT meet"
+    rows.append(f"  predicted after: max |INL| {plan['predicted_max_abs_inl']:.3f} LSB, max |DNL| "
+                f"{plan['predicted_max_abs_dnl']:.3f} LSB under every explanation ({verdict} the "
+                "target)")
+    rows += [f"  assumes: {text}" for text in plan["assumptions"]]
+    return rows
+
+
+def build_parts(design):
+    """The design's parts with their values (ohms)."""
+    from rungwise.core.topologies import build
+
+    return list(build(design).parts)
 
 
 def _finite(obj: Any) -> Any:
@@ -143,11 +208,49 @@ def _finite(obj: Any) -> Any:
     return obj
 
 
+def _candidate_hint(args: argparse.Namespace, bits: int | None) -> str:
+    """Which candidate of the design file has the resolution the measurement points to."""
+    if bits is None:
+        return ""
+    chosen = pick_candidate(load_candidates(args.design), args.candidate)
+    if chosen.bits == bits and args.settings:
+        return f" (the candidate {chosen.label!r} itself has {bits} bits: drop --set bits=…)"
+    named = [d.label for d in load_candidates(args.design) if d.bits == bits]
+    return f" (the candidate {named[0]!r} has {bits} bits: --candidate {named[0]!r})" if named else ""
+
+
+def _extras(args: argparse.Namespace) -> Extras:
+    """The extra measurements given on the command line."""
+    if (args.loaded is None) != (args.load_ohms is None):
+        raise RungwiseError("--loaded and --load-ohms go together: the loaded curve's file and "
+                            "its load")
+    load = math.nan
+    if args.load_ohms is not None:
+        from rungwise.core.units import parse_value
+
+        load = parse_value(args.load_ohms, "load-ohms")
+        if not (math.isfinite(load) and load > 0):
+            raise DesignError("load-ohms", "must be a resistance above 0 Ω, e.g. 10k")
+    return Extras(rout=read_rout(args.rout),
+                  loaded=read_measurement(args.loaded) if args.loaded else None, load_ohms=load)
+
+
 def run(args: argparse.Namespace) -> int:
     """Diagnose and print; returns the exit code."""
     design = _design(args)
-    result = diagnose(read_measurement(args.measured), design, absolute=args.absolute,
-                      correction_levels=args.levels)
+    if not args.repair and (args.target_inl != DEFAULT_TARGET_INL
+                            or args.series != DEFAULT_SERIES):
+        raise RungwiseError("--series and --target-inl need --repair")
+    if not (math.isfinite(args.target_inl) and 0 < args.target_inl <= 100):
+        raise DesignError("target-inl", f"{args.target_inl:g} is out of range; allowed: > 0 and "
+                          "≤ 100 LSB")
+    request = RepairRequest(args.series, args.target_inl) if args.repair else None
+    try:
+        result = diagnose(read_measurement(args.measured), design, absolute=args.absolute,
+                          correction_levels=args.levels, extras=_extras(args), repair=request)
+    except DesignMismatch as exc:
+        raise DesignMismatch(exc.reason + _candidate_hint(args, exc.bits), exc.source,
+                             exc.bits) from None
     if args.correction_csv:
         _write(args.correction_csv, to_csv(result.correction))
     if args.correction_header:
@@ -159,8 +262,18 @@ def run(args: argparse.Namespace) -> int:
             raise RungwiseError("no part explains the curve, so there is no as-built design")
         from rungwise.core import designfile
 
+        candidates, settings = [design, result.as_built], {}
+        if result.repair is not None:
+            settings["repair"] = _finite(result.repair.to_dict())
+            if result.repair.actions and result.joint and result.joint.explanations:
+                best = result.joint.explanations[0]
+                board = design.replace(parts={**design.parts, **{
+                    pid: p.ohms * (1 + best.parts[pid]) for pid, p in
+                    ((p.part_id, p) for p in build_parts(design)) if pid in best.parts}},
+                    name=f"{design.label}, as explained")
+                candidates.append(result.repair.repaired(board))
         designfile.save(Path(args.save_as_built),
-                        designfile.DesignFile(candidates=[design, result.as_built]))
+                        designfile.DesignFile(candidates=candidates, settings=settings))
     if args.format == "json":
         text = json.dumps(_finite(result.to_dict()), indent=1, allow_nan=False)
     else:

@@ -15,8 +15,20 @@ from ..topologies import build
 from .bit_weights import BitFit, bit_matrix, fit_bit_weights
 from .correction import CorrectionTable, correction_table
 from .curve import CurveLinearity, curve_linearity, pooled_noise
+from .joint import Extras, JointFit, fit_joint
 from .reading import Measurement, MeasurementError
+from .repair import DEFAULT_SERIES, DEFAULT_TARGET_INL, RepairPlan, plan_repair
+from .sanity import check_span, suggested_bits
 from .suspects import SuspectFit, as_built, fit_suspects
+
+
+@dataclass(frozen=True)
+class RepairRequest:
+    """Asks :func:`diagnose` for a repair plan: new parts from ``series``, target max |INL| and
+    |DNL| ``target_inl`` (LSB)."""
+
+    series: str = DEFAULT_SERIES
+    target_inl: float = DEFAULT_TARGET_INL
 
 
 @dataclass(frozen=True, eq=False)
@@ -38,6 +50,10 @@ class Diagnosis:
         bit-weight fit's estimate when every bit's weight is known
     noise : float — pooled noise of repeated readings, volts (NaN without repeats)
     noise_floor_rms_lsb : float — expected RMS of the per-code means from that noise, LSB
+    joint : JointFit — sets of up to three parts that explain the curve, and what the curve
+        cannot tell apart
+    repair : RepairPlan or None — when asked for
+    checks : list[str] — what the checks between measurement and design found, in words
     """
 
     measurement: Measurement
@@ -53,6 +69,9 @@ class Diagnosis:
     correction: CorrectionTable
     noise: float
     noise_floor_rms_lsb: float
+    joint: JointFit | None = None
+    repair: RepairPlan | None = None
+    checks: tuple[str, ...] = ()
 
     def to_dict(self) -> dict[str, Any]:
         """Plain JSON-ready values (non-finite numbers become ``None``); keys are a promise."""
@@ -60,8 +79,8 @@ class Diagnosis:
 
 
 def diagnose(measurement: Measurement, design: Design, absolute: bool = False,
-             correction_levels: int | None = None, cancel: threading.Event | None = None
-             ) -> Diagnosis:
+             correction_levels: int | None = None, cancel: threading.Event | None = None,
+             extras: Extras | None = None, repair: RepairRequest | None = None) -> Diagnosis:
     """Analyse a measured curve against ``design``.
 
     Parameters
@@ -72,6 +91,8 @@ def diagnose(measurement: Measurement, design: Design, absolute: bool = False,
     correction_levels : int, optional — wanted levels of the correction table
     cancel : threading.Event, optional — stops the part fit between solves
         (raises ``DiagnosisCancelled``)
+    extras : Extras, optional — output resistances or a loaded curve that help tell parts apart
+    repair : RepairRequest, optional — also plan a repair
 
     Returns
     -------
@@ -80,7 +101,9 @@ def diagnose(measurement: Measurement, design: Design, absolute: bool = False,
     Raises
     ------
     MeasurementError
-        A code beyond the design's range, fewer than two codes, or a flat curve.
+        A code beyond the design's range, fewer than two codes, a flat curve, or a curve the design
+        cannot explain at all (``sanity.check_span``: names the likely unit, resolution or
+        setting to change).
     """
     m = measurement
     n_codes = 2**design.bits
@@ -95,6 +118,12 @@ def diagnose(measurement: Measurement, design: Design, absolute: bool = False,
                                source=m.source)
     net = build(design)
     predicted_volts = solve(net, codes=m.codes).vout
+    check_span(m, predicted_volts, design.bits)
+    checks = []
+    fewer = suggested_bits(m, design.bits)
+    if fewer is not None:
+        checks.append(f"the codes stop at {int(m.codes[-1])}, under a quarter of the {design.bits}"
+                      f"-bit range: if the board has {fewer} bits, choose that candidate")
     measured = curve_linearity(m.codes, m.volts, net.ideal_lsb, n_codes)
     predicted = curve_linearity(m.codes, predicted_volts, net.ideal_lsb, n_codes)
     fit = fit_suspects(design, m.codes, m.volts, measured.lsb, absolute=absolute, cancel=cancel)
@@ -113,15 +142,35 @@ def diagnose(measurement: Measurement, design: Design, absolute: bool = False,
         gaps, estimates = gaps[:0], np.zeros(0)
     noise = pooled_noise(m.spread, m.count)
     floor = float(noise * np.sqrt(np.mean(1.0 / m.count)) / abs(measured.lsb))
+    joint = fit_joint(m, design, measured.lsb, noise, absolute=absolute, extras=extras,
+                      cancel=cancel)
+    fitting = [e for e in joint.explanations if e.fits]
+    if joint.explanations and not fitting:
+        checks.append("no set of up to three parts off explains the curve's shape within the "
+                      "noise: the parts listed are the closest, not blamed")
+    plan = None
+    if repair is not None:
+        plan = plan_repair(design, m.codes, m.volts, fitting, repair.target_inl, repair.series)
+    correction = correction_table(m.codes, m.volts, correction_levels, gaps, estimates)
+    if _changes_nothing(correction, m.codes):
+        checks.append("the correction table changes nothing: every wanted level's nearest code "
+                      "is its own")
     return Diagnosis(
         measurement=m, design=design, measured=measured, predicted_volts=predicted_volts,
         predicted=predicted,
         bits_measured=bits_measured,
         bits_predicted=fit_bit_weights(m.codes, predicted_volts, design.bits),
         suspects=fit, as_built=built, as_built_volts=built_volts,
-        correction=correction_table(m.codes, m.volts, correction_levels, gaps, estimates),
-        noise=noise, noise_floor_rms_lsb=floor,
+        correction=correction, noise=noise, noise_floor_rms_lsb=floor,
+        joint=joint, repair=plan, checks=tuple(checks),
     )
+
+
+def _changes_nothing(table: CorrectionTable, codes: np.ndarray) -> bool:
+    """Every wanted level maps to the code it would be sent as anyway (one level per code)."""
+    if table.code.size != codes[-1] - codes[0] + 1:
+        return False
+    return bool(np.array_equal(table.code, np.arange(codes[0], codes[-1] + 1)))
 
 
 def missing_codes(measurement: Measurement, bits: int) -> np.ndarray:
@@ -205,5 +254,24 @@ def _as_dict(d: Diagnosis) -> dict[str, Any]:
             "n_estimated_used": int(d.correction.estimated.sum()),
             "bound_lsb": d.correction.bound_lsb, "n_levels": int(d.correction.code.size),
             "skip_codes": _list(d.correction.skip),
+            "changes_nothing": _changes_nothing(d.correction, m.codes),
+            "bound_meaning": BOUND_MEANING,
         },
+        "explanations": [] if d.joint is None else [
+            {"parts": dict(e.parts), "residual_rms_lsb": _num(e.residual_rms_lsb),
+             "fits": e.fits} for e in d.joint.explanations],
+        "ambiguous": bool(d.joint is not None and d.joint.ambiguous),
+        "identifiability": None if d.joint is None else {
+            "method": "rank of the bit-weight sensitivity matrix",
+            "rank": d.joint.rank, "n_parts": d.joint.n_parts,
+            "confounded": [list(g) for g in d.joint.confounded],
+            "extra_measurements": list(d.joint.extras), "note": d.joint.note},
+        "checks": list(d.checks),
+        **({} if d.repair is None else {"repair": {
+            k: (_num(v) if not isinstance(v, list) else v) for k, v in d.repair.to_dict().items()}}),
     }
+
+
+BOUND_MEANING = ("bound: the most any corrected level can miss its wanted level — half the widest "
+                 "gap between neighbouring output levels the board can make")
+"""What the correction table's bound means, in words (shown wherever the bound is)."""
