@@ -91,3 +91,55 @@ def test_candidate_by_name_or_number(example, capsys):
     assert json.loads(capsys.readouterr().out)["design"]["topology"] == "r2r-voltage"
     assert run_cli(["diagnose", str(example), "--candidate", "9"]) == 2
     assert "no candidate '9'" in capsys.readouterr().err
+
+
+def test_repair_json_contract_and_saved_plan(example, tmp_path, capsys):
+    built = tmp_path / "fix.toml"
+    rc = run_cli(["diagnose", str(example), "--format", "json", "--repair", "--series", "E96",
+                  "--target-inl", "0.25", "--save-as-built", str(built)])
+    assert rc == 0
+    out = json.loads(capsys.readouterr().out)
+    assert isinstance(out["ambiguous"], bool)
+    first = out["explanations"][0]
+    assert isinstance(first["residual_rms_lsb"], float)
+    assert all(isinstance(k, str) and isinstance(v, float) for k, v in first["parts"].items())
+    repair = out["repair"]
+    assert repair["predicted_max_abs_inl"] <= 0.25
+    assert repair["actions"]
+    for action in repair["actions"]:
+        assert set(action) == {"id", "action", "ohms"}
+        assert action["action"] in {"replace", "parallel", "series"}
+        assert action["ohms"] > 0
+    doc = designfile.load(built)
+    assert doc.settings["repair"]["actions"] == repair["actions"]
+    assert doc.candidates[-1].name.endswith("repaired")
+
+
+@pytest.mark.parametrize(("args", "message"), [
+    (["--series", "E24"], "need --repair"),
+    (["--loaded", "x.csv"], "go together"),
+    (["--rout", "12"], "CODE=OHMS"),
+    (["--repair", "--target-inl", "0"], "target-inl"),
+    (["--set", "bits=12"], "looks like an 8-bit converter"),
+    (["--set", "vref=20"], "cannot explain the curve"),
+])
+def test_repair_and_sanity_refusals_exit_2(example, capsys, args, message):
+    assert run_cli(["diagnose", str(example), *args]) == 2
+    assert message in capsys.readouterr().err
+
+
+def test_millivolts_read_as_volts_are_named(example, tmp_path, capsys):
+    wrong = tmp_path / "volts.csv"
+    wrong.write_text(example.read_text().replace("code,output_mV", "code,output_V"))
+    assert run_cli(["diagnose", str(wrong)]) == 2
+    err = capsys.readouterr().err
+    assert "millivolts read as volts" in err
+    assert "no part is blamed" in err
+
+
+def test_table_explains_the_bound_and_a_correction_that_changes_nothing(example, capsys):
+    assert run_cli(["diagnose", str(example)]) == 0
+    text = capsys.readouterr().out
+    assert "bound: the most any corrected level can miss its wanted level" in text
+    assert "the correction table changes nothing" in text
+    assert "Explanations (up to three parts" in text
