@@ -135,7 +135,7 @@ def render_table(d: Diagnosis) -> str:
                      f"{format_quantity(row['residual_rms_lsb'], 'LSB'):>14}"
                      f"{format_percent(row['explained']):>11}")
     corr = out["correction"]
-    lines += _explanation_lines(out)
+    lines += explanation_lines(out)
     if out["suspects_note"]:
         lines.append(f"  {out['suspects_note']}")
     if out["equivalent_suspects"]:
@@ -152,11 +152,11 @@ def render_table(d: Diagnosis) -> str:
         f"             ({corr['bound_meaning']})",
     ]
     lines += [f"Check        {text}" for text in out["checks"]]
-    lines += _repair_lines(out.get("repair"))
+    lines += repair_lines(out.get("repair"))
     return "\n".join(lines)
 
 
-def _explanation_lines(out: dict) -> list[str]:
+def explanation_lines(out: dict) -> list[str]:
     """The sets of parts that explain the curve, and what cannot be told apart."""
     ident = out["identifiability"]
     if ident is None:
@@ -170,7 +170,7 @@ def _explanation_lines(out: dict) -> list[str]:
     return rows
 
 
-def _repair_lines(plan: dict | None) -> list[str]:
+def repair_lines(plan: dict | None) -> list[str]:
     """The repair plan in words."""
     if plan is None:
         return []
@@ -187,13 +187,6 @@ def _repair_lines(plan: dict | None) -> list[str]:
                 "target)")
     rows += [f"  assumes: {text}" for text in plan["assumptions"]]
     return rows
-
-
-def build_parts(design):
-    """The design's parts with their values (ohms)."""
-    from rungwise.core.topologies import build
-
-    return list(build(design).parts)
 
 
 def _finite(obj: Any) -> Any:
@@ -258,22 +251,10 @@ def run(args: argparse.Namespace) -> int:
         _write(args.correction_header, to_c_header(result.correction, stem,
                                                    note=f"measured: {result.measurement.source}"))
     if args.save_as_built:
-        if result.as_built is None:
-            raise RungwiseError("no part explains the curve, so there is no as-built design")
         from rungwise.core import designfile
+        from rungwise.core.diagnose.saving import as_built_file
 
-        candidates, settings = [design, result.as_built], {}
-        if result.repair is not None:
-            settings["repair"] = _finite(result.repair.to_dict())
-            if result.repair.actions and result.joint and result.joint.explanations:
-                best = result.joint.explanations[0]
-                board = design.replace(parts={**design.parts, **{
-                    pid: p.ohms * (1 + best.parts[pid]) for pid, p in
-                    ((p.part_id, p) for p in build_parts(design)) if pid in best.parts}},
-                    name=f"{design.label}, as explained")
-                candidates.append(result.repair.repaired(board))
-        designfile.save(Path(args.save_as_built),
-                        designfile.DesignFile(candidates=candidates, settings=settings))
+        designfile.save(Path(args.save_as_built), as_built_file(result))
     if args.format == "json":
         text = json.dumps(_finite(result.to_dict()), indent=1, allow_nan=False)
     else:

@@ -50,6 +50,7 @@ from rungwise.core.formatting import format_percent, format_quantity, yes_no
 
 from ..jobs.workers import JobRunner
 from ..plots.theme import follow_palette
+from .diagnose_repair import RepairPanel
 
 CHANNEL = "diagnose"
 """JobRunner channel of this view."""
@@ -70,11 +71,12 @@ class _Failure:
     message: str
 
 
-def _job(measurement: Measurement, design: Design, absolute: bool, levels: int | None):
+def _job(measurement: Measurement, design: Design, absolute: bool, levels: int | None,
+         repair=None):
     def run(cancel: threading.Event):
         try:
             return diagnose(measurement, design, absolute=absolute, correction_levels=levels,
-                            cancel=cancel)
+                            cancel=cancel, repair=repair)
         except DiagnosisCancelled:
             return None  # superseded: the runner drops it
         except RungwiseError as exc:
@@ -110,6 +112,10 @@ def findings(d: Diagnosis) -> list[tuple[str, str]]:
         ("Left after best suspect", lsb(out["unexplained_rms_lsb"])),
         ("INL after correction", f"{lsb(corr['max_abs_inl_after'])} (bound "
                                  f"{lsb(corr['bound_lsb'])})"),
+        ("Bound", corr["bound_meaning"].removeprefix("bound: ")),
+        ("Explanations", f"{sum(e['fits'] for e in out['explanations'])} fit within the noise"
+                         + (" — ambiguous" if out["ambiguous"] else "")),
+        *[("Check", text) for text in out["checks"]],
     ]
 
 
@@ -246,6 +252,9 @@ class DiagnosePane(QWidget):
         grid.addWidget(self.button_use, 4, 0, 1, 2)
         grid.addWidget(self.button_csv, 5, 0)
         grid.addWidget(self.button_header, 5, 1)
+        self.repair = RepairPanel(side)
+        self.repair.settings_changed.connect(self._recompute)
+        grid.addWidget(self.repair, 6, 0, 1, 2)
 
         for table in (self.table_findings, self.table_suspects):
             table.setMinimumWidth(120)
@@ -378,7 +387,7 @@ class DiagnosePane(QWidget):
         levels = self.spin_levels.value() or None
         self.label_status.setText("Analysing…")
         self.runner.submit(CHANNEL, _job(self._measurement, design, self.check_absolute.isChecked(),
-                                         levels))
+                                         levels, self.repair.request()))
 
     def _on_failed(self, channel: str, message: str) -> None:
         if channel == CHANNEL:
@@ -404,6 +413,7 @@ class DiagnosePane(QWidget):
             p.clear()
         self.table_findings.setRowCount(0)
         self.table_suspects.setRowCount(0)
+        self.repair.show_diagnosis(None)
         self._set_ready(False)
         self.diagnosis_changed.emit(None)
 
@@ -425,6 +435,7 @@ class DiagnosePane(QWidget):
             self.table_findings.setItem(r, 0, QTableWidgetItem(label))
             self.table_findings.setItem(r, 1, QTableWidgetItem(value))
         self.table_findings.resizeColumnsToContents()
+        self.repair.show_diagnosis(d)
         suspects = d.suspects.suspects
         self.table_suspects.setRowCount(len(suspects))
         for r, s in enumerate(suspects):

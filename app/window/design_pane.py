@@ -27,6 +27,7 @@ from rungwise.core.field_use import unused_fields
 from rungwise.core.types import OUTPUTS_BY_TOPOLOGY, TOPOLOGIES
 
 from .binding import FieldBinder, bound_inputs, unit_in_text
+from .skew_panel import SkewPanel
 
 COMMIT_DELAY_MS = 450
 """A moving spin box counts as a finished edit after this pause, ms."""
@@ -36,6 +37,9 @@ HINTS: dict[str, str] = {
     "ron_high": "On-resistance of the switch or port pin that drives a leg to the reference.",
     "ron_low": "On-resistance of the switch or port pin that drives a leg to ground.",
     "load_r": "Resistance the output drives; type 'open' for none.",
+    "series_ratio": "Skew: ladder series resistors = ratio × R (1 = classic R-2R); a per-bit "
+                    "binary-weighted network's bits step by 2 × ratio. Above 1 every carry keeps a "
+                    "margin against the parts' tolerance, at some INL.",
     "gain": "Gain of the buffer amplifier (buffered outputs only).",
     "feedback_r": "Feedback resistor of the summing or transimpedance amplifier; empty = the value "
                   "giving the ideal full scale.",
@@ -101,6 +105,9 @@ class DesignPane(QWidget):
         form.setFieldGrowthPolicy(QFormLayout.FieldGrowthPolicy.AllNonFixedFieldsGrow)
         form.setRowWrapPolicy(QFormLayout.RowWrapPolicy.WrapLongRows)  # long captions sit above
         outer.addLayout(form)
+        self.skew = SkewPanel(self)
+        self.skew.apply_requested.connect(self.design_edited)
+        outer.addWidget(self.skew)
         outer.addStretch(1)
         for key, label in (("topology", "Network"), ("output", "Output")):
             combo = QComboBox(self, objectName=f"combo_{key}")
@@ -163,6 +170,7 @@ class DesignPane(QWidget):
         self.binder.show(design, keep_refused=same_candidate)
         self.heading.setText(f"<b>{design.label}</b>")
         self._grey_unused(design)
+        self.skew.set_design(design)
 
     def _grey_unused(self, design: Design) -> None:
         """Disable the fields ``design`` does not use, saying why in their tooltips."""
@@ -222,6 +230,10 @@ class DesignPane(QWidget):
             key, text = self._pending
             self._pending = None
             self._on_finished(key, text)
+
+    def shutdown(self) -> None:
+        """Stop the ratio search's worker."""
+        self.skew.shutdown()
 
     def has_pending(self) -> bool:
         """Whether a moving value waits to be committed."""

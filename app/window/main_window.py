@@ -564,6 +564,7 @@ class MainWindow(QMainWindow):
     def shutdown(self) -> None:
         """Stop every worker (ours and the analysis views')."""
         self.pane.commit_pending()
+        self.pane.shutdown()
         for view in self.views.values():
             stop = getattr(view, "shutdown", None)
             if stop is not None:

@@ -149,3 +149,31 @@ def test_example_measurement_is_the_shipped_file():
     assert shipped.source.endswith("example-measurement-sensor-bias.csv")
     assert (shipped.raw_codes.tolist(), shipped.raw_volts.tolist()) == (
         made.raw_codes.tolist(), made.raw_volts.tolist())
+
+
+def test_repair_plan_is_shown_and_saved_with_the_as_built_design(pane, qtbot, example, tmp_path):
+    from rungwise.core import designfile
+
+    pane.set_candidates(demo_candidates())
+    with qtbot.waitSignal(pane.diagnosis_changed, timeout=30000):
+        assert pane.load_measurement(example)
+    text = pane.repair.text.toPlainText()
+    assert "sets of parts explain the curve" in text or "set of parts explains" in text
+    assert "rank" in text  # what the curve cannot tell apart, and why
+    assert pane.diagnosis.repair is None
+    with qtbot.waitSignal(pane.diagnosis_changed, timeout=30000):
+        pane.repair.check_repair.setChecked(True)  # analyses again with a plan
+    plan = pane.diagnosis.repair
+    assert plan is not None
+    assert plan.target_inl == pytest.approx(0.25)
+    text = pane.repair.text.toPlainText()
+    assert "Repair plan" in text
+    assert "predicted after" in text
+    assert all(a.describe() in text for a in plan.actions)
+    path = tmp_path / "built.toml"
+    pane.repair.save(path)
+    doc = designfile.load(path)
+    assert doc.settings["repair"]["actions"] == [a.to_dict() for a in plan.actions]
+    assert doc.candidates[1].parts
+    rows = [pane.table_findings.item(r, 0).text() for r in range(pane.table_findings.rowCount())]
+    assert "Bound" in rows
