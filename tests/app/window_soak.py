@@ -43,6 +43,7 @@ GOOD = {
     "load_c": ["0", "10p", "1n", "100 pF"],
     "temperature_c": ["27", "-40", "85", "125"],
     "bandwidth": ["1M", "10k", "100 kHz", "20e3"],
+    "series_ratio": ["1", "1.02", "1.1", "0.98"],
 }
 """Entries each field accepts (a valid design follows)."""
 
