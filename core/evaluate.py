@@ -185,6 +185,9 @@ def evaluate(design: Design, dynamics: Scope = "all") -> Evaluation:
     dyn_summary, dyn = dynamic_figures(design, net, v, scope=dynamics)
     summary = {**summarize(design, net, sol, curves, guarantee), **extra, **dyn_summary}
     void = reasons(design, summary, net=net)
+    for key in ("worst_case_min_step", "worst_case_transition"):  # no search made: say why
+        if isinstance(summary.get(key), float) and np.isnan(summary[key]):
+            void.setdefault(key, guarantee_note)
     summary.update(dict.fromkeys(void, float("nan")))
     return Evaluation(
         design=design,
