@@ -47,7 +47,7 @@ STEP = 1e-6
 FIRST_CHECK = 16
 """Steps examined exactly at first (all of them when there are fewer); doubled as needed."""
 
-FLIP_CHECK = 16
+FLIP_CHECK = 8
 """The lowest this many exact worst steps get the single-flip search."""
 
 FLIP_ROUNDS = 6
@@ -276,7 +276,7 @@ def _flip_search(net, ids, base, tol, verts, trans, values, steps_of):
     return values, verts
 
 
-SUMMARY_WORK = 1 << 18
+SUMMARY_WORK = 1 << 17
 """Largest sensitivity solve ``evaluate`` spends on the guarantee (a bigger network is reported
 as not decided; :func:`worst_steps` itself goes to :data:`MAX_WORK`)."""
 

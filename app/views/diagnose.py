@@ -72,11 +72,11 @@ class _Failure:
 
 
 def _job(measurement: Measurement, design: Design, absolute: bool, levels: int | None,
-         repair=None):
+         repair=None, extras=None):
     def run(cancel: threading.Event):
         try:
             return diagnose(measurement, design, absolute=absolute, correction_levels=levels,
-                            cancel=cancel, repair=repair)
+                            cancel=cancel, repair=repair, extras=extras)
         except DiagnosisCancelled:
             return None  # superseded: the runner drops it
         except RungwiseError as exc:
@@ -385,9 +385,16 @@ class DiagnosePane(QWidget):
             return
         design = self._designs[max(self.combo_design.currentIndex(), 0)]
         levels = self.spin_levels.value() or None
+        try:
+            extras = self.repair.extras()
+        except RungwiseError as exc:
+            if self.runner.is_busy(CHANNEL):  # its result must not replace this message
+                self.runner.cancel(CHANNEL)
+            self.label_status.setText(f"Cannot use the extra measurements: {exc}")
+            return
         self.label_status.setText("Analysing…")
         self.runner.submit(CHANNEL, _job(self._measurement, design, self.check_absolute.isChecked(),
-                                         levels, self.repair.request()))
+                                         levels, self.repair.request(), extras))
 
     def _on_failed(self, channel: str, message: str) -> None:
         if channel == CHANNEL:

@@ -16,18 +16,21 @@ from PySide6.QtWidgets import (
     QFileDialog,
     QGridLayout,
     QLabel,
+    QLineEdit,
     QPlainTextEdit,
     QPushButton,
     QWidget,
 )
 
 from rungwise.core import designfile
-from rungwise.core.diagnose import Diagnosis
+from rungwise.core.diagnose import Diagnosis, Measurement, read_measurement
 from rungwise.core.diagnose.diagnosis import RepairRequest
+from rungwise.core.diagnose.joint import Extras, read_rout
 from rungwise.core.diagnose.repair import DEFAULT_SERIES, DEFAULT_TARGET_INL
 from rungwise.core.diagnose.saving import as_built_file
-from rungwise.core.errors import RungwiseError
+from rungwise.core.errors import DesignError, RungwiseError
 from rungwise.core.parts.eseries import TOLERANCE
+from rungwise.core.units import parse_value
 
 from ..cli.diagnose import explanation_lines, repair_lines
 
@@ -81,14 +84,30 @@ class RepairPanel(QWidget):
         self.button_save.clicked.connect(self._ask_save)
         self.label_saved = QLabel("", self, objectName="label_saved")
         self.label_saved.setWordWrap(True)
+        self._loaded: Measurement | None = None
+        self.edit_rout = QLineEdit(self, objectName="edit_extra_rout")
+        self.edit_rout.setPlaceholderText("output resistance at codes, e.g. 128=10.02k, 255=9.98k")
+        self.edit_rout.setToolTip("Measured with the reference shorted; helps tell apart parts "
+                                  "the curve cannot")
+        self.edit_rout.editingFinished.connect(self._changed)
+        self.button_loaded = QPushButton("Loaded curve…", self, objectName="button_loaded_curve")
+        self.button_loaded.setToolTip("The same board's curve measured again with a known load "
+                                      "across the output")
+        self.button_loaded.clicked.connect(self._ask_loaded)
+        self.edit_load = QLineEdit(self, objectName="edit_extra_load")
+        self.edit_load.setPlaceholderText("its load, e.g. 10k")
+        self.edit_load.editingFinished.connect(self._changed)
         grid = QGridLayout(self)
         grid.setContentsMargins(0, 0, 0, 0)
         grid.addWidget(self.check_repair, 0, 0)
         grid.addWidget(self.combo_series, 0, 1)
         grid.addWidget(self.spin_target, 0, 2)
-        grid.addWidget(self.text, 1, 0, 1, 3)
-        grid.addWidget(self.button_save, 2, 0, 1, 3)
-        grid.addWidget(self.label_saved, 3, 0, 1, 3)
+        grid.addWidget(self.edit_rout, 1, 0, 1, 3)
+        grid.addWidget(self.button_loaded, 2, 0)
+        grid.addWidget(self.edit_load, 2, 1, 1, 2)
+        grid.addWidget(self.text, 3, 0, 1, 3)
+        grid.addWidget(self.button_save, 4, 0, 1, 3)
+        grid.addWidget(self.label_saved, 5, 0, 1, 3)
         self.check_repair.toggled.connect(self._changed)
         self.combo_series.currentIndexChanged.connect(self._changed)
         self.spin_target.valueChanged.connect(self._changed)
@@ -100,6 +119,43 @@ class RepairPanel(QWidget):
         if not self.check_repair.isChecked():
             return None
         return RepairRequest(self.combo_series.currentText(), float(self.spin_target.value()))
+
+    def extras(self) -> Extras:
+        """The extra measurements entered.
+
+        Raises
+        ------
+        RungwiseError
+            An entry cannot be read (the message names it).
+        """
+        items = [t for t in self.edit_rout.text().replace(";", ",").split(",") if t.strip()]
+        rout = read_rout(items)
+        load_text = self.edit_load.text().strip()
+        if self._loaded is None:
+            return Extras(rout=rout)
+        if not load_text:
+            raise DesignError("load", "give the load of the loaded curve, e.g. 10k")
+        load = parse_value(load_text, "load")
+        if not (load > 0 and load < float("inf")):
+            raise DesignError("load", "must be a resistance above 0 Ω, e.g. 10k")
+        return Extras(rout=rout, loaded=self._loaded, load_ohms=load)
+
+    def set_loaded(self, path: str | Path) -> bool:
+        """Read the loaded curve's file; False (with the reason shown) when unreadable."""
+        try:
+            self._loaded = read_measurement(path)
+        except RungwiseError as exc:
+            self.label_saved.setText(f"Cannot use this file: {exc}")
+            return False
+        self.button_loaded.setText(f"Loaded: {Path(path).name}")
+        self._changed()
+        return True
+
+    def _ask_loaded(self) -> None:
+        path, _ = QFileDialog.getOpenFileName(self, "The curve measured with a known load", "",
+                                              "Readings (*.csv *.txt *.tsv *.dat);;All files (*)")
+        if path:
+            self.set_loaded(path)
 
     def show_diagnosis(self, d: Diagnosis | None) -> None:
         """Show the explanations and plan of ``d`` (``None``: clear)."""

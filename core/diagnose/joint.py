@@ -417,16 +417,21 @@ def _identifiability(m: Measurement, design: Design, sens: np.ndarray, base: np.
     cols = mat / np.maximum(np.linalg.norm(mat, axis=0), 1e-300)
     sv = np.linalg.svd(cols, compute_uv=False)
     rank = int(np.sum(sv > DEPENDENT * sv[0]))
-    found: list[list[str]] = []
     n = cols.shape[1]
-    for k in (2, 3):
-        if n > MAX_CANDIDATES and k == 3:
-            break
-        for combo in itertools.combinations(range(n), k):
-            if any(set(f) <= {names[i] for i in combo} for f in found):
-                continue
-            if np.linalg.svd(cols[:, combo], compute_uv=False)[-1] < DEPENDENT:
-                found.append([names[i] for i in combo])
+    # pairs: for unit columns the smaller singular value of [a b] is √(1 − |a·b|)
+    gram = np.abs(cols.T @ cols)
+    i, j = np.triu_indices(n, 1)
+    pairs = [(a, b) for a, b in zip(i.tolist(), j.tolist(), strict=True)
+             if 1.0 - gram[a, b] < DEPENDENT**2]
+    found = [[names[a], names[b]] for a, b in pairs]
+    if n <= MAX_CANDIDATES:
+        combos = np.array(list(itertools.combinations(range(n), 3)), dtype=np.int64)
+        if combos.size:
+            sv = np.linalg.svd(np.moveaxis(cols[:, combos], 0, 1), compute_uv=False)[:, -1]
+            in_pair = {frozenset(p) for p in pairs}
+            for row in combos[sv < DEPENDENT].tolist():
+                if not any(frozenset(q) in in_pair for q in itertools.combinations(row, 2)):
+                    found.append([names[r] for r in row])
     return rank, found
 
 

@@ -255,7 +255,10 @@ def plan_repair(design: Design, codes: np.ndarray, volts: np.ndarray,
     worst, plan, per, worst_dnl = best
     meets = worst <= target_inl and worst_dnl <= target_inl
     if not meets:
+        own, _ = figures(codes, _curves(design, [{}], codes))
+        why = (f": the design itself (every part at its value) has max |INL| {own[0]:.3f} LSB"
+               if own[0] > target_inl else "")
         assumptions.insert(0, f"no plan of up to {MAX_ACTIONS} changes meets the target under "
-                              "every explanation; this is the closest found")
+                              f"every explanation{why}; this is the closest found")
     return RepairPlan(list(plan), worst, worst_dnl, [float(x) for x in per], bool(meets),
                       target_inl, series, assumptions)

@@ -177,3 +177,39 @@ def test_repair_plan_is_shown_and_saved_with_the_as_built_design(pane, qtbot, ex
     assert doc.candidates[1].parts
     rows = [pane.table_findings.item(r, 0).text() for r in range(pane.table_findings.rowCount())]
     assert "Bound" in rows
+
+
+def test_extra_measurements_are_used_and_bad_ones_refused(pane, qtbot, tmp_path):
+    import numpy as np
+
+    from rungwise.core import Design
+    from rungwise.core.diagnose.synthetic import format_readings, random_as_built, synthesize
+    from rungwise.core.solve import solve
+    from rungwise.core.topologies import build
+
+    design = Design(bits=8, vref=2.5, name="plain ladder")
+    pane.set_candidates([design])
+    built = random_as_built(design, 0.0, seed=1, off={"leg7": 0.02})
+    main, loaded = tmp_path / "main.csv", tmp_path / "loaded.csv"
+    main.write_text(format_readings(synthesize(built, 2e-5, 2, repeats={0: 4, 255: 4})))
+    loaded.write_text(format_readings(synthesize(built.replace(load_r=10e3), 2e-5, 3,
+                                                 repeats={0: 4})))
+    with qtbot.waitSignal(pane.diagnosis_changed, timeout=30000):
+        assert pane.load_measurement(main)
+    assert pane.diagnosis.joint.ambiguous  # leg7 or series6: the curve alone cannot tell
+    pane.repair.edit_load.setText("10k")
+    with qtbot.waitSignal(pane.diagnosis_changed, timeout=30000):
+        assert pane.repair.set_loaded(loaded)
+    assert not pane.diagnosis.joint.ambiguous
+    assert pane.diagnosis.joint.extras == ["the curve with a 10000 Ω load"]
+    assert "used the curve with a 10000 Ω load" in pane.repair.text.toPlainText()
+    codes = np.array([0, 255])
+    rout = solve(build(built), codes=codes).rout
+    pane.repair.edit_rout.setText(f"0={rout[0]:.6g}, 255={rout[1]:.6g}")
+    with qtbot.waitSignal(pane.diagnosis_changed, timeout=30000):
+        pane.repair.edit_rout.editingFinished.emit()
+    assert len(pane.diagnosis.joint.extras) == 2
+    pane.repair.edit_rout.setText("128")
+    pane.repair.edit_rout.editingFinished.emit()
+    assert pane.label_status.text().startswith("Cannot use the extra measurements:")
+    assert "CODE=OHMS" in pane.label_status.text()

@@ -159,6 +159,7 @@ class Soak:
             ("file", 1, self.file),
             ("parts", 3, self.parts),
             ("board", 2, self.board),
+            ("skew", 2, self.skew),
         ]
         self.parts_view = window.views["parts_pane"]
         self.board_view = window.views["diagnose_pane"]
@@ -606,9 +607,12 @@ class Soak:
             i = self.rng.randrange(view.combo_design.count())
             view.combo_design.setCurrentIndex(i)
             note = f"built candidate {i}"
-        else:
+        elif roll < 0.85:
             view.check_absolute.toggle()
             note = f"absolute {view.check_absolute.isChecked()}"
+        else:
+            view.repair.check_repair.toggle()
+            note = f"repair plan {view.repair.check_repair.isChecked()}"
         self.qtbot.waitUntil(lambda: not view.runner.is_busy("diagnose"), timeout=60000)
         if refused:  # the refusal stays in view
             assert view.label_status.text().startswith("Cannot use this file: ")
@@ -619,6 +623,21 @@ class Soak:
             note += ", used as candidate"
         assert not view.label_status.text().startswith("Cannot analyse: Internal error")
         return note + f" → {view.label_status.text()[:80]!r}"
+
+    def skew(self) -> str:
+        """"Make it monotonic by design" on the selected candidate; apply the answer now and then
+        (an ordinary edit: undo takes it back)."""
+        panel = self.pane.skew
+        self.qtbot.mouseClick(panel.button_find, LEFT)
+        self.qtbot.waitUntil(lambda: not panel.runner.is_busy("skew"), timeout=60000)
+        text = panel.label.text()
+        assert not text.startswith("Internal error"), text
+        if panel.button_apply.isEnabled() and self.rng.random() < 0.5:
+            ratio = panel._answer.ratio
+            self.qtbot.mouseClick(panel.button_apply, LEFT)
+            assert self.state.current.design.series_ratio == ratio
+            return f"skew applied {ratio:.4f}"
+        return f"skew: {text[:80]!r}"
 
     def _enter(self, edit: QLineEdit, text: str) -> None:
         edit.selectAll()
