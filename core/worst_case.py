@@ -53,6 +53,9 @@ FLIP_CHECK = 8
 FLIP_ROUNDS = 6
 """Most rounds of the single-flip search."""
 
+ROUND_OFF = 1e-11
+"""Relative size of a step change the flip search takes for round-off (of full scale)."""
+
 
 @dataclass(frozen=True, eq=False)
 class WorstSteps:
@@ -257,22 +260,27 @@ def _exact_vertices(net, ids, base, tol, verts, trans, steps_at):
 
 
 def _flip_search(net, ids, base, tol, verts, trans, values, steps_of):
-    """Move each vertex to a single-part flip that lowers its step until none does."""
+    """Move each vertex to a single-part flip that lowers its step until none does (by more than
+    the solver's round-off, :data:`ROUND_OFF` of full scale); only moved vertices search again."""
     verts = verts.astype(np.int8).copy()
     values = values.copy()
     n_parts = len(ids)
+    least = ROUND_OFF * net.n_codes  # ideal LSB per full scale
+    active = np.arange(trans.size)
     for _ in range(FLIP_ROUNDS):
-        flipped = np.repeat(verts, n_parts, axis=0)
-        flipped[np.arange(flipped.shape[0]), np.tile(np.arange(n_parts), trans.size)] *= -1
-        vals = _board_steps(net, ids, base, tol, flipped, np.repeat(trans, n_parts),
-                            steps_of).reshape(trans.size, n_parts)
-        best = np.argmin(vals, axis=1)
-        better = vals[np.arange(trans.size), best] < values - 1e-12 * np.maximum(1, abs(values))
-        if not better.any():
+        if not active.size:
             break
-        rows = np.flatnonzero(better)
-        verts[rows, best[rows]] *= -1
-        values[rows] = vals[rows, best[rows]]
+        flipped = np.repeat(verts[active], n_parts, axis=0)
+        flipped[np.arange(flipped.shape[0]), np.tile(np.arange(n_parts), active.size)] *= -1
+        vals = _board_steps(net, ids, base, tol, flipped, np.repeat(trans[active], n_parts),
+                            steps_of).reshape(active.size, n_parts)
+        best = np.argmin(vals, axis=1)
+        lowest = vals[np.arange(active.size), best]
+        better = lowest < values[active] - least
+        rows = active[better]
+        verts[rows, best[better]] *= -1
+        values[rows] = lowest[better]
+        active = rows
     return values, verts
 
 
