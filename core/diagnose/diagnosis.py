@@ -116,6 +116,7 @@ def diagnose(measurement: Measurement, design: Design, absolute: bool = False,
         raise MeasurementError(f"the file writes codes with {m.code_bits} binary digits but the "
                                f"design has {design.bits} bits; set the right number of bits",
                                source=m.source)
+    _check_extras(extras, design.bits)
     net = build(design)
     predicted_volts = solve(net, codes=m.codes).vout
     check_span(m, predicted_volts, design.bits)
@@ -171,6 +172,24 @@ def _changes_nothing(table: CorrectionTable, codes: np.ndarray) -> bool:
     if table.code.size != codes[-1] - codes[0] + 1:
         return False
     return bool(np.array_equal(table.code, np.arange(codes[0], codes[-1] + 1)))
+
+
+def _check_extras(extras: Extras | None, bits: int) -> None:
+    """Extra measurements must be at codes of the design."""
+    if extras is None:
+        return
+    top = 2**bits - 1
+    bad = [c for c in extras.rout if c > top]
+    if bad:
+        raise MeasurementError(f"output resistance at code {bad[0]}: beyond the {bits}-bit "
+                               f"design (codes 0 … {top})", source="output resistance")
+    if extras.loaded is not None:
+        if extras.loaded.codes[-1] > top:
+            raise MeasurementError(f"code {int(extras.loaded.codes[-1])} is beyond the {bits}-bit "
+                                   f"design (codes 0 … {top})", source=extras.loaded.source)
+        if not (np.isfinite(extras.load_ohms) and extras.load_ohms > 0):
+            raise MeasurementError("the loaded curve needs its load in ohms (> 0)",
+                                   source=extras.loaded.source)
 
 
 def missing_codes(measurement: Measurement, bits: int) -> np.ndarray:
