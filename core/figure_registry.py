@@ -42,8 +42,8 @@ SUMMARY: tuple[Figure, ...] = (
     Figure("max_abs_dnl", "Max |DNL|", "LSB", "smallest"),
     Figure("monotonic", "Monotonic", "", "yes"),
     # the worst-case monotonic guarantee (worst_case)
-    Figure("guaranteed_monotonic", "Monotonic on every board within tolerance", ""),
-    Figure("worst_case_min_step", "  smallest step of any such board", "LSB"),
+    Figure("guaranteed_monotonic", "Monotonic on every board within tolerance", "", "yes"),
+    Figure("worst_case_min_step", "  smallest step of any such board", "LSB", "largest"),
     Figure("worst_case_transition", "  at the step into code", ""),
     # the series ratio for monotonic by design (skew; added by the command line)
     Figure("series_ratio_for_monotonic", "Series ratio for monotonic by design", "×"),

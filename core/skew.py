@@ -34,6 +34,11 @@ SEARCH_WORK = 1 << 20
 """Largest trials × codes of one worst-case search during the ratio search."""
 
 
+SKEW_FIGURES = ("series_ratio_for_monotonic", "skew_max_abs_inl", "skew_gain_error")
+"""Summary keys the ratio search adds (labels in :mod:`.figure_registry`); not made by
+``evaluate``."""
+
+
 @dataclass(frozen=True)
 class SkewAnswer:
     """Result of :func:`ratio_for_monotonic`.

@@ -16,6 +16,7 @@ from rungwise.core.figure_meaning import NO_MEANING_TEXT, shown
 from rungwise.core.figure_registry import SUMMARY
 from rungwise.core.figure_registry import Better as Best
 from rungwise.core.formatting import format_quantity
+from rungwise.core.skew import SKEW_FIGURES
 
 from ..jobs.live_results import CandidateResult
 from .comparison_state import Candidate
@@ -108,12 +109,15 @@ def reasons_text(candidates: Sequence[Candidate], results: Sequence[CandidateRes
 
 
 class CompareTable(QTableWidget):
-    """Rows = :data:`SUMMARY_KEYS` figures, columns = candidates; best values bold with ◆."""
+    """Rows = :data:`SUMMARY_KEYS` figures, columns = candidates; best values bold with ◆. The
+    ratio search's rows are left out: ``evaluate`` does not compute them (the values pane's "Make it
+    monotonic by design" does, on request)."""
 
     def __init__(self, parent: QWidget | None = None) -> None:
-        super().__init__(len(SUMMARY_KEYS), 0, parent)
+        keys = [k for k in SUMMARY_KEYS if k not in SKEW_FIGURES]
+        super().__init__(len(keys), 0, parent)
         self.setObjectName("table_figures")
-        self.keys = list(SUMMARY_KEYS)
+        self.keys = keys
         self.setVerticalHeaderLabels([self._row_label(k) for k in self.keys])
         self.setEditTriggers(QAbstractItemView.EditTrigger.NoEditTriggers)
         self.setSelectionMode(QAbstractItemView.SelectionMode.ContiguousSelection)
