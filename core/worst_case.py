@@ -34,9 +34,14 @@ import numpy as np
 
 from .design import Design
 from .mismatch import MismatchModel, area_law_sigma
+from .errors import NetworkError
 from .network import Network, PartList
 from .solve import solve
 from .topologies import build
+
+MAX_HALF_WIDTH = 0.9
+"""Largest half-width of a part's box (fraction): wider tolerances are clipped, so no vertex
+reaches 0 Ω."""
 
 MAX_WORK = 1 << 22
 """Largest trials × codes of the sensitivity solve; a design beyond it is not decided."""
@@ -121,8 +126,9 @@ def part_tolerances(design: Design, net: Network) -> tuple[list[str], np.ndarray
     """Each toleranced part and its half-width of the box (fraction).
 
     ``parts`` and ``array`` models: ±``tolerance`` (the array's shared error added, a box that
-    holds every board); ``on-chip``: ±``coverage_sigma`` area-law σ of the part's unit device. An
-    amplifier's feedback resistor only scales the output and is left out.
+    holds every board); ``on-chip``: ±``coverage_sigma`` area-law σ of the part's unit device;
+    at most :data:`MAX_HALF_WIDTH`. An amplifier's feedback resistor only scales the output and
+    is left out.
     """
     model = MismatchModel.of(design)
     parts = PartList.of(net.parts)
@@ -132,9 +138,9 @@ def part_tolerances(design: Design, net: Network) -> tuple[list[str], np.ndarray
         unit = parts.unit_ohms()[keep]
         sigma = np.array([area_law_sigma(model.area_coefficient, model.unit_width,
                                          model.unit_length * (u / design.unit_r)) for u in unit])
-        return ids, model.coverage_sigma * sigma
+        return ids, np.minimum(model.coverage_sigma * sigma, MAX_HALF_WIDTH)
     extra = model.shared_tolerance if model.model == "array" else 0.0
-    return ids, np.full(len(ids), model.tolerance + extra)
+    return ids, np.full(len(ids), min(model.tolerance + extra, MAX_HALF_WIDTH))
 
 
 def superposition(design: Design) -> bool:
@@ -302,6 +308,8 @@ def summary(design: Design, max_work: int = SUMMARY_WORK, net: Network | None = 
         w = worst_steps(design, max_work=max_work, net=net)
     except Undecided as exc:
         return undecided, str(exc)
+    except NetworkError as exc:  # a board at a corner of the box the solver cannot take
+        return undecided, f"not decided: a board at a corner of the box cannot be solved ({exc})"
     tol = float(np.max(w.tolerance)) if w.tolerance.size else 0.0
     return ({"guaranteed_monotonic": w.guaranteed, "worst_case_min_step": w.min_step,
              "worst_case_transition": w.worst_transition},

@@ -94,7 +94,8 @@ CASES = [
     (["compute", "--set", "name=\x00"], 2),
     (["compute", "--set", "name=\u202e<b>é", "--format", "json"], 0),
     (["diagnose", "meas.csv", "--design", "\x00"], 2),
-    (["diagnose", "meas.csv", "--set", "bits=12"], 0),
+    (["diagnose", "meas.csv", "--set", "bits=12"], 2),  # an 8-bit board: refused, named
+    (["diagnose", "meas.csv", "--repair", "--rout", "1=10k", "--target-inl", "1"], 0),
     (["compute", "--set", "noequals"], 2),
     (["compute", "--topology", "r2r-voltage", "--set", "parts.leg0=1e-3", "--set",
       "parts.leg1=1e12", "--format", "csv"], 0),
