@@ -33,8 +33,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from .design import Design
-from .mismatch import MismatchModel, area_law_sigma
 from .errors import NetworkError
+from .mismatch import MismatchModel, area_law_sigma
 from .network import Network, PartList
 from .solve import solve
 from .topologies import build
