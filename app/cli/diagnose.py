@@ -163,9 +163,11 @@ def explanation_lines(out: dict) -> list[str]:
         return []
     rows = ["", "Explanations (up to three parts fitted together; fewest parts first)"]
     for e in out["explanations"][:8]:
-        parts = ", ".join(f"{pid} {dev * 100:+.2f} %" for pid, dev in e["parts"].items())
+        parts = ", ".join(f"{pid} {format_percent(dev, signed=True)}"
+                          for pid, dev in e["parts"].items())
         mark = "" if e["fits"] else "   (closest; does not fit within the noise)"
-        rows.append(f"  {parts:<52} left {e['residual_rms_lsb']:.4f} LSB rms{mark}")
+        rows.append(f"  {parts:<52} left {format_quantity(e['residual_rms_lsb'], 'LSB')} rms"
+                    f"{mark}")
     rows.append(f"  {'AMBIGUOUS: ' if out['ambiguous'] else ''}{ident['note']}")
     return rows
 
@@ -176,14 +178,15 @@ def repair_lines(plan: dict | None) -> list[str]:
         return []
     from rungwise.core.diagnose.repair import Action
 
-    rows = ["", f"Repair plan (target max |INL| and |DNL| ≤ {plan['target_inl']:g} LSB; new parts "
-            f"{plan['series']})"]
+    rows = ["", f"Repair plan (target max |INL| and |DNL| ≤ "
+                f"{format_quantity(plan['target_inl'], 'LSB')}; new parts {plan['series']})"]
     rows += [f"  {Action(a['id'], a['action'], a['ohms']).describe()}" for a in plan["actions"]]
     if not plan["actions"]:
         rows.append("  no change")
     verdict = "meets" if plan["meets_target"] else "does NOT meet"
-    rows.append(f"  predicted after: max |INL| {plan['predicted_max_abs_inl']:.3f} LSB, max |DNL| "
-                f"{plan['predicted_max_abs_dnl']:.3f} LSB under every explanation ({verdict} the "
+    rows.append(f"  predicted after: max |INL| {format_quantity(plan['predicted_max_abs_inl'], 'LSB')}"
+                f", max |DNL| {format_quantity(plan['predicted_max_abs_dnl'], 'LSB')} under every "
+                f"explanation ({verdict} the "
                 "target)")
     rows += [f"  assumes: {text}" for text in plan["assumptions"]]
     return rows

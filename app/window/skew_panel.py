@@ -5,6 +5,7 @@ thread), show what it costs in INL and gain error, and apply it as an ordinary (
 
 from __future__ import annotations
 
+import dataclasses
 import threading
 
 from PySide6.QtCore import Signal
@@ -12,6 +13,7 @@ from PySide6.QtWidgets import QHBoxLayout, QLabel, QPushButton, QVBoxLayout, QWi
 
 from rungwise.core.design import Design
 from rungwise.core.errors import RungwiseError
+from rungwise.core.formatting import format_percent, format_quantity
 from rungwise.core.skew import SkewAnswer, ratio_for_monotonic
 
 from ..jobs.workers import JobRunner
@@ -28,10 +30,20 @@ def answer_text(design: Design, a: SkewAnswer) -> str:
         return f"Already monotonic on every board: {a.reason}."
     what = ("bit resistors stepping by 2 × ratio" if design.topology == "binary-weighted"
             else "series resistors = ratio × R")
-    return (f"Series ratio {a.ratio:.4f} ({what}) keeps every board within ±{a.tolerance * 100:.3g} "
-            f"% monotonic (smallest worst-case step {a.min_step:.3f} LSB). Cost: max |INL| "
-            f"{a.base_max_abs_inl:.3f} → {a.max_abs_inl:.3f} LSB, gain error "
-            f"{a.base_gain_error * 100:+.3f} % → {a.gain_error * 100:+.3f} %.")
+    lsb = "LSB"
+    a = dataclasses.replace(a, **{k: _tidy(getattr(a, k)) for k in (
+        "max_abs_inl", "base_max_abs_inl", "gain_error", "base_gain_error")})
+    return (f"Series ratio {format_quantity(a.ratio, '×', digits=5)} ({what}) keeps every board "
+            f"within ±{format_percent(a.tolerance)} monotonic (smallest worst-case step "
+            f"{format_quantity(a.min_step, lsb)}). Cost: max |INL| "
+            f"{format_quantity(a.base_max_abs_inl, lsb)} → {format_quantity(a.max_abs_inl, lsb)}, "
+            f"gain error {format_percent(a.base_gain_error, signed=True)} → "
+            f"{format_percent(a.gain_error, signed=True)}.")
+
+
+def _tidy(x: float) -> float:
+    """Round-off of an exact design (1e-14 LSB) reads as 0."""
+    return 0.0 if abs(x) < 1e-9 else x
 
 
 def _job(design: Design):
