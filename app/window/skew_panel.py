@@ -25,9 +25,10 @@ CHANNEL = "skew"
 def answer_text(design: Design, a: SkewAnswer) -> str:
     """The search's answer and its cost in words (Qt-free, for the panel and tests)."""
     if a.ratio is None:
-        return f"No series ratio found: {a.reason}."
+        return f"No series ratio found — {a.reason}."
     if a.ratio == 1.0:
-        return f"Already monotonic on every board: {a.reason}."
+        return (f"Already monotonic on every board within ±{format_percent(a.tolerance)}: no "
+                "skew needed.")
     what = ("bit resistors stepping by 2 × ratio" if design.topology == "binary-weighted"
             else "series resistors = ratio × R")
     lsb = "LSB"
