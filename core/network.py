@@ -175,6 +175,22 @@ class Output:
     feedback_ohms: float = 0.0
     load_ohms: float = np.inf
 
+    def with_load(self, r_th: np.ndarray | float) -> np.ndarray:
+        """The Thevenin resistance ``r_th`` (ohms) in parallel with the load: what the output node
+        sees; ``r_th`` itself with the output open."""
+        r = np.asarray(r_th, dtype=float)
+        if not np.isfinite(self.load_ohms):
+            return r
+        return r * self.load_ohms / (r + self.load_ohms)
+
+    def loaded_voltage(self, v_open: np.ndarray | float, r_th: np.ndarray | float) -> np.ndarray:
+        """The node voltage with the load on a source of open-circuit ``v_open`` (V) behind
+        ``r_th`` (ohms): the divider v·RL/(RL + r); ``v_open`` itself with the output open."""
+        v = np.asarray(v_open, dtype=float)
+        if not np.isfinite(self.load_ohms):
+            return v
+        return v * self.load_ohms / (self.load_ohms + np.asarray(r_th, dtype=float))
+
 
 @dataclass(frozen=True)
 class Part:

@@ -78,7 +78,7 @@ def solve_selected(net: Network, ohms: Mapping[str, np.ndarray | float], codes,
     if out.buffered or not np.isfinite(load):
         v_net, i_load = v, np.zeros_like(v)
     else:
-        v_net = v * load / (load + r)
+        v_net = out.loaded_voltage(v, r)
         i_load = v_net / load
     iref = table.iref_open + h * i_load
     vout = v_net * (out.gain if out.buffered else 1.0)

@@ -11,11 +11,6 @@ from typing import Literal, get_args
 Topology = Literal["binary-weighted", "r2r-voltage", "r2r-current", "segmented", "string"]
 """Network families the engine can build."""
 
-OutputVariant = Literal[
-    "divider", "terminated-divider", "summing-amp", "unbuffered", "buffer", "transimpedance"
-]
-"""How a network's output is taken (which variants a topology allows: ``OUTPUTS_BY_TOPOLOGY``)."""
-
 TOPOLOGIES: tuple[str, ...] = get_args(Topology)
 """Every topology name, in display order."""
 

@@ -17,10 +17,7 @@ from typing import Literal
 
 import numpy as np
 import pyqtgraph as pg
-from pyqtgraph import exporters
 from PySide6.QtCore import QEvent, Qt, QTimer, Signal
-from PySide6.QtGui import QPainter
-from PySide6.QtSvg import QSvgGenerator
 from PySide6.QtWidgets import QGridLayout, QLabel, QSizePolicy, QVBoxLayout, QWidget
 
 from rungwise.core.formatting import format_quantity
@@ -29,6 +26,8 @@ from ..jobs.live_results import CandidateResult
 from ..window.comparison_state import Candidate
 from ..window.theme import plot_colours
 from .decimate import envelope, value_range
+from .paint import save_plot
+from .specs import PlotSpec, Series
 
 InlLine = Literal["endpoint", "bestfit"]
 """Which straight line INL is measured from."""
@@ -39,8 +38,9 @@ def _dnl(r: CandidateResult) -> np.ndarray:
 
 
 @dataclass(frozen=True)
-class PlotSpec:
-    """One plot: key (object name suffix), title, unit and the per-code array it draws."""
+class CodePlot:
+    """One plot of the curves page: key (object name suffix), title, unit and the per-code array it
+    draws (exported through :func:`.paint.save_plot` as a :class:`.specs.PlotSpec`)."""
 
     key: str
     title: str
@@ -50,14 +50,14 @@ class PlotSpec:
     values: Callable[[CandidateResult, InlLine], np.ndarray]
 
 
-PLOTS: tuple[PlotSpec, ...] = (
-    PlotSpec("output", "Output", "Output", "V", True, lambda r, _m: r.evaluation.vout),
-    PlotSpec("error", "Error against ideal line", "Error", "V", True, lambda r, _m: r.error_v),
-    PlotSpec("inl", "INL", "INL", "LSB", False,
+PLOTS: tuple[CodePlot, ...] = (
+    CodePlot("output", "Output", "Output", "V", True, lambda r, _m: r.evaluation.vout),
+    CodePlot("error", "Error against ideal line", "Error", "V", True, lambda r, _m: r.error_v),
+    CodePlot("inl", "INL", "INL", "LSB", False,
              lambda r, m: r.evaluation.inl_endpoint if m == "endpoint" else r.evaluation.inl_bestfit),
-    PlotSpec("dnl", "DNL", "DNL", "LSB", False, lambda r, _m: _dnl(r)),
-    PlotSpec("rout", "Output resistance", "R out", "Ω", True, lambda r, _m: r.evaluation.rout),
-    PlotSpec("iref", "Reference current", "I ref", "A", True, lambda r, _m: r.evaluation.iref),
+    CodePlot("dnl", "DNL", "DNL", "LSB", False, lambda r, _m: _dnl(r)),
+    CodePlot("rout", "Output resistance", "R out", "Ω", True, lambda r, _m: r.evaluation.rout),
+    CodePlot("iref", "Reference current", "I ref", "A", True, lambda r, _m: r.evaluation.iref),
 )
 """The plots in reading order (two columns)."""
 
@@ -121,7 +121,7 @@ class CodePlotsView(QWidget):
         self.show_readout(-1)
 
     # --- construction ---------------------------------------------------------------------------
-    def _make_plot(self, spec: PlotSpec, last_row: bool) -> pg.PlotWidget:
+    def _make_plot(self, spec: CodePlot, last_row: bool) -> pg.PlotWidget:
         w = pg.PlotWidget(self)
         w.setObjectName(f"plot_{spec.key}")
         w.setMinimumSize(200, 140)
@@ -183,7 +183,7 @@ class CodePlotsView(QWidget):
             self.apply_palette()
         super().changeEvent(event)
 
-    def _title(self, spec: PlotSpec) -> str:
+    def _title(self, spec: CodePlot) -> str:
         if spec.key == "inl":
             return "INL from the " + ("endpoint line" if self.inl_line == "endpoint" else "best-fit line")
         return spec.title
@@ -358,24 +358,17 @@ class CodePlotsView(QWidget):
 
     # --- export -----------------------------------------------------------------------------------
     def export_plot(self, key: str, path: Path) -> None:
-        """Save one plot as PNG or SVG (by the file's suffix), as it is shown."""
+        """Save one plot as PNG or SVG (by the file's suffix) with every candidate's curve in its
+        colour, through the one plot-export pipeline (written to a temporary file, then renamed)."""
         self.flush()
-        if Path(path).suffix.lower() == ".svg":
-            widget = self.widgets[key]
-            gen = QSvgGenerator()
-            gen.setFileName(str(path))
-            gen.setSize(widget.size())
-            gen.setViewBox(widget.rect())
-            gen.setTitle(self._title(next(s for s in PLOTS if s.key == key)))
-            painter = QPainter(gen)
-            try:
-                widget.render(painter)
-            finally:
-                painter.end()
-        else:
-            exporter = exporters.ImageExporter(self.plots[key])
-            exporter.parameters()["width"] = max(int(self.plots[key].width() * 2), 800)
-            exporter.export(str(path))
+        plot = next(s for s in PLOTS if s.key == key)
+        series = tuple(
+            Series(c.name, np.asarray(r.evaluation.codes, dtype=float),
+                   np.asarray(plot.values(r, self.inl_line), dtype=float), colour=i)
+            for i, (c, r) in enumerate(zip(self._candidates, self._results, strict=True))
+            if r.evaluation is not None)
+        spec = PlotSpec(key, self._title(plot), "code", f"{plot.short} ({plot.unit})", series)
+        save_plot(spec, Path(path), palette=[c.colour for c in self._candidates])
 
 
 def _legend_name(cand: Candidate, res: CandidateResult) -> str:

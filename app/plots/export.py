@@ -17,13 +17,12 @@ def export_plots(evs: Sequence[Evaluation], folder: Path, formats: Sequence[str]
     created if missing); returns the paths."""
     gui_application()
     Path(folder).mkdir(parents=True, exist_ok=True)
-    from .paint import save_png, save_svg  # after the platform is chosen
+    from .paint import save_plot  # after the platform is chosen
 
-    writers = {"png": save_png, "svg": save_svg}
     written = []
     for spec in comparison_plots(evs):
         for fmt in formats:
             path = Path(folder) / f"{spec.name}.{fmt}"
-            writers[fmt](spec, path)
+            save_plot(spec, path)
             written.append(path)
     return written

@@ -128,23 +128,35 @@ def paint_plot(painter: QPainter, rect: QRectF, spec: PlotSpec,
     painter.restore()
 
 
-def plot_image(spec: PlotSpec, width: int = 1200, height: int = 800) -> QImage:
+def plot_image(spec: PlotSpec, width: int = 1200, height: int = 800,
+               palette: Sequence[str] | None = None) -> QImage:
     """``spec`` drawn on a white ``QImage`` of ``width`` × ``height`` pixels."""
     img = QImage(width, height, QImage.Format.Format_ARGB32)
     img.fill(QColor("white"))
     painter = QPainter(img)
     try:
-        paint_plot(painter, QRectF(0, 0, width, height), spec)
+        paint_plot(painter, QRectF(0, 0, width, height), spec, palette)
     finally:
         painter.end()
     return img
 
 
-def save_png(spec: PlotSpec, path: Path, width: int = 1200, height: int = 800) -> None:
+def save_plot(spec: PlotSpec, path: Path, palette: Sequence[str] | None = None) -> None:
+    """Write ``spec`` as PNG or SVG, chosen by the file's suffix (``.svg``, else PNG) — the one
+    way a plot becomes a file; written to a temporary file and renamed, so a failure never leaves
+    half a file."""
+    if Path(path).suffix.lower() == ".svg":
+        save_svg(spec, path, palette=palette)
+    else:
+        save_png(spec, path, palette=palette)
+
+
+def save_png(spec: PlotSpec, path: Path, width: int = 1200, height: int = 800,
+             palette: Sequence[str] | None = None) -> None:
     """Write ``spec`` as a PNG image."""
     from rungwise.core.atomic import write_atomically
 
-    img = plot_image(spec, width, height)
+    img = plot_image(spec, width, height, palette)
 
     def write(tmp: str) -> None:
         if not img.save(tmp, "PNG"):
@@ -153,7 +165,8 @@ def save_png(spec: PlotSpec, path: Path, width: int = 1200, height: int = 800) -
     write_atomically(path, write)
 
 
-def save_svg(spec: PlotSpec, path: Path, width: int = 900, height: int = 600) -> None:
+def save_svg(spec: PlotSpec, path: Path, width: int = 900, height: int = 600,
+             palette: Sequence[str] | None = None) -> None:
     """Write ``spec`` as an SVG drawing (vector curves)."""
     from PySide6.QtSvg import QSvgGenerator
 
@@ -168,7 +181,7 @@ def save_svg(spec: PlotSpec, path: Path, width: int = 900, height: int = 600) ->
         gen.setDescription(f"{spec.y_label} against {spec.x_label}")
         painter = QPainter(gen)
         try:
-            paint_plot(painter, QRectF(0, 0, width, height), spec)
+            paint_plot(painter, QRectF(0, 0, width, height), spec, palette)
         finally:
             painter.end()
 

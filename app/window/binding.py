@@ -176,10 +176,6 @@ class FieldBinder(QObject):
         w = self.inputs.get(key)
         return bool(w is not None and w.property("refused"))
 
-    def refused_keys(self) -> list[str]:
-        """Keys whose widgets hold refused entries."""
-        return [k for k in self.inputs if self.is_refused(k)]
-
     # --- reporting ----------------------------------------------------------------------------
     def _changing(self, key: str, text: str) -> None:
         if not self._quiet:

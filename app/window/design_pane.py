@@ -7,7 +7,7 @@ never reaches the design.
 
 from __future__ import annotations
 
-from PySide6.QtCore import Qt, QTimer, Signal
+from PySide6.QtCore import QTimer, Signal
 from PySide6.QtWidgets import (
     QComboBox,
     QFormLayout,
@@ -239,11 +239,6 @@ class DesignPane(QWidget):
         """Whether a moving value waits to be committed."""
         return self._pending is not None
 
-    def focus_field(self, key: str) -> None:
-        """Put the keyboard focus in ``key``'s widget."""
-        w = self.binder.inputs.get(key)
-        if w is not None:
-            w.setFocus(Qt.FocusReason.OtherFocusReason)
 
 
 def _caption(key: str) -> str:

@@ -105,10 +105,6 @@ class EditHistory(QObject):
         """What undo would undo ("" when nothing)."""
         return self.stack.undoText()
 
-    def redo_text(self) -> str:
-        """What redo would redo ("" when nothing)."""
-        return self.stack.redoText()
-
     def reset(self) -> None:
         """Forget every step and take the present state as the start (after opening a file)."""
         self.stack.clear()

@@ -62,9 +62,7 @@ def output_density(net: Network, rout: np.ndarray, temperature_c: float,
         with np.errstate(divide="ignore"):
             ratio = np.where(np.isfinite(rout), rf / rout, 0.0)
         return johnson_density(rf * (1.0 + ratio), temperature_c)
-    r = rout
-    if not o.buffered and np.isfinite(o.load_ohms):
-        r = rout * o.load_ohms / (rout + o.load_ohms)
+    r = rout if o.buffered else o.with_load(rout)
     return johnson_density(r, temperature_c) * (abs(o.gain) if o.buffered else 1.0)
 
 

@@ -33,10 +33,7 @@ def time_constant(net: Network, rout: np.ndarray, load_c: float) -> float:
     o = net.output
     if o.kind != "node" or o.buffered:
         return math.nan
-    r = np.asarray(rout, dtype=float)
-    if np.isfinite(o.load_ohms):
-        r = r * o.load_ohms / (r + o.load_ohms)
-    return float(np.max(r)) * load_c
+    return float(np.max(o.with_load(rout))) * load_c
 
 
 def settling_time(tau: float, n_codes: int) -> float:
