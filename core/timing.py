@@ -58,13 +58,21 @@ SINE_KEYS: dict[str, KeySpec] = {
 """Every ``sine`` key."""
 
 
+SMALLEST: dict[str, float] = {"rise": 1e-15, "fall": 1e-15, "skew": 1e-15, "node_c": 1e-18}
+"""Smallest non-zero value of a timing key (1 fs, 1 aF): below it the times and capacitances
+span more than double precision can solve."""
+
+
 def _number(table: str, key: str, spec: KeySpec, value: Any) -> float:
     name = f"{table}.{key}"
     x = parse_value(value, name)
+    floor = SMALLEST.get(key, 0.0) if table == "timing" else 0.0
+    allowed = _allowed(spec) if not floor else (
+        f"0 or {floor:g} … {spec.high:g} {spec.unit}")
     if not math.isfinite(x):
-        raise DesignError(name, f"must be a finite number; allowed: {_allowed(spec)}")
-    if not spec.low <= x <= spec.high:
-        raise DesignError(name, f"{x:g} is out of range; allowed: {_allowed(spec)}")
+        raise DesignError(name, f"must be a finite number; allowed: {allowed}")
+    if not spec.low <= x <= spec.high or 0 < x < floor:
+        raise DesignError(name, f"{x:g} is out of range; allowed: {allowed}")
     if spec.integer:
         if x != int(x):
             raise DesignError(name, f"{x:g} is not a whole number; allowed: {_allowed(spec)}")

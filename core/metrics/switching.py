@@ -26,6 +26,10 @@ from ..design import MIN_OHMS
 from ..element_arrays import plain_equivalent
 from ..network import Network
 
+CAP_FLOOR = 1e-21
+"""A load capacitance below 1 zF counts as none (its time constant is beyond double precision
+beside any edge or other node); ``timing.node_c`` is refused below 1 aF instead."""
+
 
 @dataclass
 class Branches:
@@ -172,6 +176,7 @@ def branches(net: Network, node_c: float, load_c: float) -> Branches:
     static_w = np.zeros(k_count)
     static_w[static] = 1.0
     cap = np.full(n, float(node_c))
+    load_c = load_c if load_c >= CAP_FLOOR else 0.0
     out_gain = np.zeros(n)
     if out.kind == "node":
         i = index[out.node]

@@ -154,6 +154,18 @@ class _Reduced:
         return self.sc * self._mat(self.Q, z)
 
 
+def _ramp_integrals(lam: np.ndarray, span: float) -> tuple[np.ndarray, np.ndarray]:
+    """∫₀^Δ e^(−λ(Δ−s)) ds and ∫₀^Δ e^(−λ(Δ−s))·s ds, evaluated without cancellation when λΔ is
+    small (an edge far shorter than a time constant): series in x = λΔ below 1e-3."""
+    x = lam * span
+    small = x < 1e-3
+    xs = np.where(small, 1.0, x)
+    f1 = np.where(small, span * (1 - x / 2 + x**2 / 6 - x**3 / 24), -np.expm1(-xs) / xs * span)
+    f2 = np.where(small, span**2 * (0.5 - x / 6 + x**2 / 24 - x**3 / 120),
+                  (xs + np.expm1(-xs)) / xs**2 * span**2)
+    return f1, f2
+
+
 def _same_batch(G: np.ndarray) -> bool:
     return G.shape[0] > 1 and bool(np.all(G[:1] == G))
 
@@ -245,20 +257,23 @@ def respond(br: Branches, leg_start: np.ndarray, rise: float, fall: float,
             wm = red.output(oc)
             feed0 = np.sum(oc[:, ~kap] * xa0, axis=-1) if xa0.size else 0.0
             feed1 = np.sum(oc[:, ~kap] * xa1, axis=-1) if xa1.size else 0.0
-            a = red.to_modes(x_k) - p0
+            z0 = red.to_modes(x_k)
+            a = z0 - p0
             y0[:, j] = np.sum(wm * p0, axis=-1) + d0 + feed0
             y1[:, j] = np.sum(wm * p1, axis=-1) + d1 + feed1
             amp[:, j], lam[:, j] = wm * a, lam_j
-            if span is not None and m:
-                x_k = red.from_modes(p0 + p1 * span + a * np.exp(-lam_j * span))
+            if span is not None and m:  # z(Δ) by the convolution, free of cancellation
+                f1, f2 = _ramp_integrals(lam_j, span)
+                x_k = red.from_modes(z0 * np.exp(-lam_j * span) + beta0 * f1 + beta1 * f2)
         return Segments(times=seg_times, y0=y0, y1=y1, amp=amp, lam=lam)
 
     plan = []
     for j, t in enumerate(times):
         passed = mid <= t
         w = np.where(_per_branch(br, passed) > 0, w_t, w_f)
-        ramp = np.where(edge > 0, np.clip((t - start) / np.where(edge > 0, edge, 1), 0, 1),
-                        (t >= start).astype(float))
+        ramp = np.where(t >= end, 1.0,  # also an edge shorter than the times' resolution
+                        np.where(edge > 0, np.clip((t - start) / np.where(edge > 0, edge, 1), 0, 1),
+                                 (t >= start).astype(float)))
         slope = np.where((edge > 0) & (t >= start) & (t < end), 1 / np.where(edge > 0, edge, 1), 0)
         e0 = _per_branch(br, (ramp - passed) * dv)
         e1 = _per_branch(br, slope * dv)

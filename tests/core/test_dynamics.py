@@ -13,6 +13,7 @@ from rungwise.core.errors import DesignError
 from rungwise.core.evaluate import evaluate
 from rungwise.core.metrics.glitch import sample_codes, solve_transitions, waveforms
 from rungwise.core.metrics.spectrum import sine_codes
+from rungwise.core.solve import solve
 from rungwise.core.timing import timing_of
 from rungwise.core.topologies import build
 
@@ -20,9 +21,10 @@ TIMING = {"rise": 3e-9, "fall": 1e-9, "skew": [0, 2e-9, 0, 1e-9], "node_c": 2e-1
 
 
 @pytest.mark.parametrize(("settings", "key", "words"), [
-    ({"timing.rise": "-1n"}, "timing.rise", "0 … 1 s"),
-    ({"timing.node_c": "2"}, "timing.node_c", "0 … 1 F"),
-    ({"timing.skew": "1n, 2"}, "timing.skew", "0 … 1 s"),
+    ({"timing.rise": "-1n"}, "timing.rise", "0 or 1e-15 … 1 s"),
+    ({"timing.node_c": "2"}, "timing.node_c", "0 or 1e-18 … 1 F"),
+    ({"timing.fall": "1e-20"}, "timing.fall", "0 or 1e-15 … 1 s"),
+    ({"timing.skew": "1n, 2"}, "timing.skew", "0 or 1e-15 … 1 s"),
     ({"timing.width": "1n"}, "timing.width", "known keys: rise, fall, skew, node_c"),
     ({"sine.cycles": "64"}, "sine.cycles", "coprime"),
     ({"sine.cycles": "2049"}, "sine.cycles", "below half of sine.samples"),
@@ -168,3 +170,49 @@ def test_segmented_sweep_major_carry_glitch_falls_with_m():
     span = 2.0 ** (10 - m)
     np.testing.assert_allclose(g, -lsb * (span * 4e-9 - (span - 1) * 1e-9) / 2, rtol=1e-9)
     assert np.all(np.diff(np.abs(g)) < 0)
+
+
+from hypothesis import given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+_times = st.one_of(st.just(0.0), st.floats(1e-15, 20e-9))
+
+
+@settings(max_examples=25, deadline=None, derandomize=True)
+@given(topology=st.sampled_from(["r2r-voltage", "r2r-current", "binary-weighted", "segmented"]),
+       bits=st.integers(1, 5), ron=st.one_of(st.just(0.0), st.floats(1e-3, 500.0)),
+       rise=_times, fall=_times,
+       skew=st.lists(_times, max_size=5), node_c=st.one_of(st.just(0.0), st.floats(1e-18, 5e-12)),
+       load_c=st.floats(0.0, 50e-12))
+def test_first_moment_identity_for_random_timing(topology, bits, ron, rise, fall, skew, node_c,
+                                                 load_c):
+    """Equal on-resistances, any edges and capacitances: every transition's net impulse is
+    −Σ ΔV_leg·(start + edge/2) (first-moment identity, from memory); settling and peak finite."""
+    d = Design(topology=topology, bits=bits, ron_high=ron, ron_low=ron, load_c=load_c,
+               thermometer_bits=min(2, bits),
+               timing={"rise": rise, "fall": fall, "skew": skew, "node_c": node_c})
+    net, tm = build(d), timing_of(d)
+    codes = np.arange(1, 2**bits)
+    f = solve_transitions(net, tm, codes - 1, codes)
+    if f.reason is not None:
+        assert not tm.has_edges
+        assert node_c == 0
+        return
+    from rungwise.core.metrics.switching import branches, leg_skews
+    from rungwise.core.metrics.transient import dc_state
+
+    br = branches(net, tm.node_c, tm.load_c)
+    start = leg_skews(br, tm.skew)
+    drive = np.asarray(br.decode(np.arange(net.n_codes)), bool)
+    expected = np.zeros(codes.size)
+    for j, c in enumerate(codes):
+        for leg in np.nonzero(drive[c] != drive[c - 1])[0]:
+            alone = drive[c - 1].copy()
+            alone[leg] = drive[c, leg]
+            _, y = dc_state(br, np.array([alone, drive[c - 1]]))
+            expected[j] -= (y[0] - y[1]) * (start[leg] + (rise if drive[c, leg] else fall) / 2)
+    scale = np.max(np.abs(np.diff(solve(net).vout))) * 40e-9
+    np.testing.assert_allclose(f.impulse, expected, rtol=1e-7, atol=1e-9 * scale)
+    assert np.all(np.isfinite(f.settling))
+    assert np.all(f.settling >= 0)
+    assert np.all(f.peak >= 0)
