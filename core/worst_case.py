@@ -7,7 +7,9 @@ affine in it). Where the nodal matrix does not depend on the code (superposition
 V(c) − V(c − 1) shares that denominator, which is positive: the step's sign is the sign of a
 multi-affine polynomial, whose minimum over a box lies at a vertex. Along each part alone the step
 is linear-fractional, hence monotone: lowering the step means taking the part to the end of its
-range that its sensitivity points to.
+range that its sensitivity points to. Where switches break superposition the two codes of a step have
+different denominators and this argument does not hold as such; the same search is used there, and
+the exhaustive check covers such networks too (unequal switch resistances, a reference resistance).
 
 The method. (1) One batched solve gives every part's sensitivity of every examined step; the
 vertex that lowers step c is picked by the signs (part at nominal·(1 ∓ tolerance)). (2) Exact
