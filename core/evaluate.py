@@ -179,7 +179,8 @@ def evaluate(design: Design, dynamics: Scope = "all") -> Evaluation:
                 node_sink=None if fold is None else fold.add)
     v = sol.vout
     curves = linearity_curves(v)
-    extra, elements = part_figures(design, net, sol, None if fold is None else fold.result())
+    extra, elements = part_figures(design, net, sol, None if fold is None else fold.result(),
+                                   nominal_inl=curves["inl_endpoint"])
     guarantee, guarantee_note = worst_case_summary(design, net=net)
     power_max, power_code = part_power_arrays(elements, net.parts)
     dyn_summary, dyn = dynamic_figures(design, net, v, scope=dynamics)

@@ -51,7 +51,8 @@ def has_amplifier(net: Network) -> bool:
 
 
 def apply(net: Network, vout: np.ndarray, rout: np.ndarray, offset: float, open_loop: float,
-          rail_low: float, rail_high: float) -> AmplifierEffect:
+          rail_low: float, rail_high: float, nominal_inl: np.ndarray | None = None
+          ) -> AmplifierEffect:
     """The outputs with a real amplifier.
 
     Parameters
@@ -63,6 +64,8 @@ def apply(net: Network, vout: np.ndarray, rout: np.ndarray, offset: float, open_
     offset : float, volts
     open_loop : float, V/V (``inf`` for ideal)
     rail_low, rail_high : float, volts (``∓inf`` for none)
+    nominal_inl : ndarray, shape (n_codes,), optional
+        ``linearity.inl_endpoint(vout)`` when the caller already has it (not computed twice).
     """
     o = net.output
     vout = np.asarray(vout, dtype=float)
@@ -77,7 +80,8 @@ def apply(net: Network, vout: np.ndarray, rout: np.ndarray, offset: float, open_
     real = np.clip(real, rail_low, rail_high)
     ideal_lsb = float(linearity.endpoint_lsb(vout))
     lsb = float(linearity.endpoint_lsb(real))
-    inl_added = np.abs(linearity.inl_endpoint(real) - linearity.inl_endpoint(vout))
+    base = linearity.inl_endpoint(vout) if nominal_inl is None else nominal_inl
+    inl_added = np.abs(linearity.inl_endpoint(real) - base)
     inl_added = inl_added[np.isfinite(inl_added)]  # none when the real output is flat
     return AmplifierEffect(
         vout=real,

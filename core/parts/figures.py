@@ -17,7 +17,8 @@ from .board import board_value
 
 
 def part_figures(design: Any, net: Network, sol: Solution,
-                 powers: tuple[list[ElementPower], dict[str, float]] | None = None
+                 powers: tuple[list[ElementPower], dict[str, float]] | None = None,
+                 nominal_inl: np.ndarray | None = None
                  ) -> tuple[dict[str, Any], list[ElementPower]]:
     """Summary entries (labels in :mod:`..figure_registry`; the ``amp_`` ones only where the output
     has an amplifier) and every element's worst-case power.
@@ -32,6 +33,8 @@ def part_figures(design: Any, net: Network, sol: Solution,
         Its nominal solution, shape (n_codes,).
     powers : (elements, totals), optional
         The worst-case powers when already folded while solving (``metrics.power.PowerFold``).
+    nominal_inl : ndarray, shape (n_codes,), optional
+        The nominal endpoint INL when already computed (the amplifier figures reuse it).
     """
     elements, totals = powers if powers is not None else worst_case(net, sol)
     sw_current, sw_source, sw_sink = switch_maxima(elements)
@@ -60,15 +63,16 @@ def part_figures(design: Any, net: Network, sol: Solution,
         out[f"drift_gain_error_{end}"] = float(ends.gain_error[i])
         out[f"drift_offset_{end}"] = float(ends.offset_error[i])
         out[f"drift_inl_{end}"] = float(ends.max_abs_inl[i])
-    out.update(_amplifier_entries(design, net, sol))
+    out.update(_amplifier_entries(design, net, sol, nominal_inl))
     return out, elements
 
 
-def _amplifier_entries(design: Any, net: Network, sol: Solution) -> dict[str, Any]:
+def _amplifier_entries(design: Any, net: Network, sol: Solution,
+                       nominal_inl: np.ndarray | None = None) -> dict[str, Any]:
     """Amplifier figures (none when the output has no amplifier)."""
     if not amplifier.has_amplifier(net):
         return {}
     eff = amplifier.apply(net, sol.vout, sol.rout, *(board_value(design, k) for k in (
-        "amp_offset", "amp_open_loop", "rail_low", "rail_high")))
+        "amp_offset", "amp_open_loop", "rail_low", "rail_high")), nominal_inl=nominal_inl)
     return {"amp_offset_error": eff.offset_error, "amp_gain_error": eff.gain_error,
             "amp_inl_added": eff.inl_added, "amp_codes_clipped": eff.codes_clipped}
