@@ -192,6 +192,10 @@ def worst_steps(design: Design, tolerance: np.ndarray | float | None = None,
         raise Undecided(STRING_NOTE)
     linear = superposition(design)
     trans, method = candidate_transitions(design, net, linear)
+    # the codes solved number at least len(trans) + 1: refuse on that bound before forming them
+    if (len(ids) + 1) * (trans.size + 1) > max_work:
+        raise Undecided(f"not decided: at least {trans.size + 1} codes × {len(ids) + 1} boards "
+                        f"exceed the worst-case search's limit of {max_work} solved outputs")
     codes = np.unique(np.concatenate([trans - 1, trans]))
     if (len(ids) + 1) * codes.size > max_work:
         raise Undecided(f"not decided: {codes.size} codes × {len(ids) + 1} boards exceed the "
