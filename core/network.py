@@ -8,6 +8,7 @@ Nodes are named by strings. ``GROUND`` is always present at 0 V. Fixed nodes hol
 
 from __future__ import annotations
 
+import dataclasses
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
 from functools import lru_cache
@@ -105,6 +106,15 @@ class ChainNodes(Sequence):
         if i == m:
             return self.chain.end
         return f"{self.chain.node_prefix}{i}"
+
+    def __iter__(self):
+        """The names in order, without a bounds-checked lookup per name (65,537 for a string)."""
+        m, prefix = self.chain.size, self.chain.node_prefix
+        yield self.chain.start
+        for i in range(1, m):
+            yield f"{prefix}{i}"
+        if m > 0:
+            yield self.chain.end
 
 
 @dataclass(frozen=True, eq=False)
@@ -418,6 +428,20 @@ class Network:
             seen.update(dict.fromkeys(chain.nodes()))
         seen.setdefault(self.output.node)
         return [n for n in seen if n not in self.fixed]
+
+    def unknown_count(self) -> int:
+        """``len(unknown_nodes())`` without naming a chain's interior nodes one by one (a 16-bit
+        string has 65,535 of them); falls back to the names when another element uses one."""
+        if not self.chains:
+            return len(self.unknown_nodes())
+        plain = dataclasses.replace(self, chains=[])
+        names = set(plain.unknown_nodes()) | {n for c in self.chains for n in (c.start, c.end)}
+        interior = 0
+        for c in self.chains:
+            if any(n.startswith(c.node_prefix) and n not in (c.start, c.end) for n in names):
+                return len(self.unknown_nodes())
+            interior += max(c.size - 1, 0)
+        return len(names - set(self.fixed)) + interior
 
 
 class BinaryDecoder:

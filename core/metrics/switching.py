@@ -87,7 +87,7 @@ class Branches:
 
 def plain_node_count(net: Network) -> int:
     """Unknown nodes of the plain equivalent (what the dense transient solver must handle)."""
-    n = len(net.unknown_nodes())
+    n = net.unknown_count()
     return n + sum(max(c.size - 1, 0) for c in net.chains)
 
 
