@@ -94,6 +94,11 @@ class ReviewData:
         return comparison_plots(self.evs) + ([spread] if spread is not None else [])
 
 
+class ReportCancelled(Exception):
+    """Raised by :func:`gather` when its cancel event is set before every candidate is evaluated
+    (the caller that cancelled discards the report)."""
+
+
 def gather(doc: DesignFile, title: str = "Design review", with_stats: bool = True,
            cancel: Any = None, progress: Callable[[str], None] | None = None,
            source: str = "", file_bytes: bytes | None = None,
@@ -101,15 +106,20 @@ def gather(doc: DesignFile, title: str = "Design review", with_stats: bool = Tru
     """Evaluate the candidates, run statistics (file's trials and seed) and the loosest passing
     tolerance grade, derive the recommendation.
 
-    ``cancel`` (a ``threading.Event``) is checked between Monte Carlo batches; once it is set the
-    remaining statistics are skipped (a caller that cancels discards the result). ``progress``,
+    ``cancel`` (a ``threading.Event``) is checked between evaluations (:class:`ReportCancelled`)
+    and Monte Carlo batches; once it is set the remaining statistics are skipped (a caller that
+    cancels discards the result). ``progress``,
     when given, receives a line of text about ten times per candidate's statistics (boards done).
     ``source`` names the design file and ``file_bytes`` is its content (for the checksum; the
     document's own text when not given). ``evaluations`` may give candidates' evaluations already
     made (the window's live results; ``None`` entries are evaluated here).
     """
     known = list(evaluations) if evaluations is not None else [None] * len(doc.candidates)
-    evs = [ev if ev is not None else evaluate(d) for d, ev in zip(doc.candidates, known, strict=True)]
+    evs = []
+    for d, ev in zip(doc.candidates, known, strict=True):
+        if cancel is not None and cancel.is_set():  # a closing window waits for this worker
+            raise ReportCancelled("the report was cancelled")
+        evs.append(ev if ev is not None else evaluate(d))
     stats: list[Any] = [None] * len(evs)
     grades: list[Any] = [None] * len(evs)
     notes: list[str] = []

@@ -235,3 +235,14 @@ def test_page_one_gives_the_design_search_answer_when_the_file_asks(tmp_path: Pa
     answer = file_search(designfile.load(path), executor=InlineExecutor()).answer_text()
     first = "".join(_pdf_text(pdf, 1).split())
     assert "Designsearch:" + "".join(_n(answer).split()) in first
+
+
+def test_gather_stops_between_evaluations_when_cancelled():
+    import threading
+
+    from rungwise.app.export.report_content import ReportCancelled, gather
+
+    cancel = threading.Event()
+    cancel.set()  # a window closing while the report is prepared
+    with pytest.raises(ReportCancelled):
+        gather(DesignFile(_candidates()), cancel=cancel)
