@@ -22,6 +22,7 @@ from rungwise.core.search_report import TABLE_HEAD, search_summary
 from rungwise.core.space_search import SearchResult, iter_search
 
 from .candidates import apply_choices, load_document, parse_settings
+from .progress import StderrProgress
 
 NAME = "search"
 HELP = ("Find the cheapest design that meets the targets: networks, thermometer bits, unit R, "
@@ -146,7 +147,9 @@ def run(args: argparse.Namespace) -> int:
             raise DesignError("workers", f"{args.workers} is out of range; allowed: 1 … 64")
         executor = default_executor(args.workers)
     try:
-        *_, last = iter_search(base, question, doc.targets, doc.cost, executor)
+        with StderrProgress() as progress:
+            for last in iter_search(base, question, doc.targets, doc.cost, executor):
+                progress(f"search: {last.result.done} of {last.result.total} designs judged")
     finally:
         if executor is not None:
             executor.shutdown()

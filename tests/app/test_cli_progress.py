@@ -47,3 +47,13 @@ def test_compute_with_trials_and_sweep_report_progress_only_on_a_terminal():
     sweep = ["sweep", "--topology", "r2r-voltage", "--from", "2", "--to", "4"]
     assert "sweep: 3 of 3 points" in _run(sweep, _Terminal())
     assert "points" not in _run(sweep, io.StringIO())
+
+
+def test_search_reports_progress_only_on_a_terminal():
+    argv = ["search", "--set", "bits=5", "--set", "ron_high=0", "--set", "ron_low=0",
+            "--topology", "r2r-voltage", "--series", "exact", "--grades", "1%", "--trials", "200",
+            "--workers", "1"]
+    shown = _run(argv, _Terminal())
+    assert "search: " in shown
+    assert "designs judged" in shown
+    assert "judged" not in _run(argv, io.StringIO())
