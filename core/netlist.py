@@ -22,6 +22,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from .design import Design
+from .formatting import format_si
 from .network import GROUND, BinaryDecoder, Network, PartArray, PartList
 from .parts.designators import AMPLIFIER, resistor_designators, switch_designators
 
@@ -250,7 +251,6 @@ def spice_netlist(design: Design, code: int | None = None, all_codes: bool = Fal
 def _header(design: Design, net: Network, code: int | None, version: str, source: str
             ) -> list[str]:
     from .display_names import network_name
-    from .units import format_value
 
     out = net.output
     what = {"virtual-ground": "summing node and ideal amplifier"}.get(
@@ -260,13 +260,13 @@ def _header(design: Design, net: Network, code: int | None, version: str, source
         f"* made by Rungwise {version}".rstrip() + (f" from {source}" if source else ""),
         f"* network: {network_name(design.topology, design.output)} [{design.topology}, "
         f"{design.output}]: {what}, {design.bits} bits",
-        f"* reference {format_value(design.vref, 'V')} behind "
-        f"{format_value(design.ref_r, 'Ω')}; unit R {format_value(design.unit_r, 'Ω')}; "
+        f"* reference {format_si(design.vref, 'V')} behind "
+        f"{format_si(design.ref_r, 'Ω')}; unit R {format_si(design.unit_r, 'Ω')}; "
         f"series {design.series}",
-        f"* switches: {format_value(design.ron_high, 'Ω')} when the bit is 1, "
-        f"{format_value(design.ron_low, 'Ω')} when it is 0",
-        f"* load {format_value(design.load_r, 'Ω') if math.isfinite(design.load_r) else 'open'}"
-        f", {format_value(design.load_c, 'F')}",
+        f"* switches: {format_si(design.ron_high, 'Ω')} when the bit is 1, "
+        f"{format_si(design.ron_low, 'Ω')} when it is 0",
+        f"* load {format_si(design.load_r, 'Ω') if math.isfinite(design.load_r) else 'open'}"
+        f", {format_si(design.load_c, 'F')}",
         f"* as-built values given for {len(design.parts)} parts; resistors are named by their "
         "bill-of-materials designators",
     ]
@@ -275,7 +275,7 @@ def _header(design: Design, net: Network, code: int | None, version: str, source
     else:
         ideal = net.ideal_lsb * code
         head.append(f"* code {code_text(code, design.bits)}; ideal output "
-                    f"{format_value(ideal, 'V')}")
+                    f"{format_si(ideal, 'V')}")
     head.append(f"* run: ngspice -b FILE.cir  (prints v({OUT}))")
     ascii_units = {"Ω": "Ohm", "µ": "u", "…": "...", "−": "-"}
     return ["".join(ascii_units.get(ch, ch) for ch in line) for line in head]

@@ -26,9 +26,9 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from .design import Design
+from .formatting import format_si
 from .network import GROUND, Network, PartList
 from .parts.designators import AMPLIFIER, resistor_designators, switch_designators
-from .units import format_value
 
 Point = tuple[float, float]
 
@@ -163,7 +163,7 @@ def _points(it) -> list[Point]:
 
 def value_text(ohms: float) -> str:
     """A resistor value as built, four significant digits (``10.02 kΩ``)."""
-    return format_value(ohms, "Ω", 4)
+    return format_si(ohms, "Ω", 4)
 
 
 def names_text(names: tuple[str, ...]) -> str:
@@ -353,7 +353,7 @@ def _column_layout(design: Design, net: Network, code: int, names: _Names) -> Sc
     items.append(Ground((x_left - PITCH * 0.6, Y_GND)))
 
     # the reference source
-    vref = format_value(net.fixed[net.source], "V")
+    vref = format_si(net.fixed[net.source], "V")
     if ref_node in rail_y:
         xs = x_left - PITCH * 0.6
         y = rail_y[ref_node]
@@ -442,7 +442,7 @@ def _load(items: list, design: Design, at: Point, x: float) -> None:
                                   value_text(design.load_r)))
         else:
             items.append(Capacitor((xl, y + Y_R0 + 0.3), (xl, y + Y_R1 - 0.3), "load",
-                                   format_value(design.load_c, "F")))
+                                   format_si(design.load_c, "F")))
             items.append(Wire(((xl, y + Y_R0), (xl, y + Y_R0 + 0.3))))
             items.append(Wire(((xl, y + Y_R1 - 0.3), (xl, y + Y_R1))))
         items.append(Ground((xl, y + Y_R1)))
@@ -548,7 +548,7 @@ def _string_layout(design: Design, net: Network, code: int, names: _Names) -> Sc
     # reference at the top
     ref_r = next((r for r in net.resistors if r.role == "reference"), None)
     xs = x_chain - 2.2
-    vref = format_value(net.fixed[net.source], "V")
+    vref = format_si(net.fixed[net.source], "V")
     items.append(Wire(((x_chain, top_y), (x_chain, top_y - 0.5))))
     if ref_r is not None:
         items.append(Resistor((xs, top_y - 0.5), (x_chain, top_y - 0.5), "Rsrc",

@@ -98,7 +98,7 @@ def _spectrum_lines(labels: list[str], spectra: list[dict[str, Any]]) -> list[st
     for label, spec in zip(labels, spectra, strict=True):
         for key, q in spec.items():
             name, unit = _label_unit(key)
-            lines.append(f"  {label}: {name}: " + " / ".join(f"{q[p]:.4g}" for p in q) + f" {unit}")
+            lines.append(f"  {label}: {name}: " + " / ".join(format_quantity(q[p], unit) for p in q))
     return lines
 
 

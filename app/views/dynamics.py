@@ -27,10 +27,10 @@ from PySide6.QtWidgets import (
 
 from rungwise.core import Design
 from rungwise.core.errors import DesignError
+from rungwise.core.formatting import format_quantity, format_si
 from rungwise.core.metrics.glitch import waveforms
 from rungwise.core.timing import timing_of
 from rungwise.core.topologies import build
-from rungwise.core.units import format_value
 
 from ..jobs.workers import Progress, runner_for
 from ..plots.theme import candidate_colour, follow_palette
@@ -64,10 +64,10 @@ def setting_text(design: Design, key: str) -> str:
     if value is None:
         return ""
     if sub == "skew":
-        return ", ".join(format_value(float(x), "").replace(" ", "") for x in value)
+        return ", ".join(format_si(float(x), "").replace(" ", "") for x in value)
     if table == "sine":
         return f"{value:g}"
-    return format_value(float(value), "").replace(" ", "")
+    return format_si(float(value), "").replace(" ", "")
 
 
 def glitch_points(cd: CandidateDynamics) -> tuple[np.ndarray, np.ndarray]:
@@ -102,8 +102,9 @@ def view_notes(cd: CandidateDynamics) -> list[str]:
     if not dyn.note and dyn.sample != "every transition":
         lines.append(f"{cd.design.label}: solved {dyn.sample}")
     s = cd.summary
-    lines.append(f"{cd.design.label}: test sine SFDR {s['sfdr_db']:.1f} dB, THD {s['thd_db']:.1f} dB, "
-                 f"SINAD {s['sinad_db']:.1f} dB, ENOB {s['enob']:.2f} bits "
+    q = format_quantity
+    lines.append(f"{cd.design.label}: test sine SFDR {q(s['sfdr_db'], 'dB')}, THD {q(s['thd_db'], 'dB')}, "
+                 f"SINAD {q(s['sinad_db'], 'dB')}, ENOB {q(s['enob'], 'bits')} "
                  f"(rectangular window, {cd.cycles} cycles)")
     return lines
 
@@ -319,7 +320,7 @@ class DynamicsPane(QWidget):
         self.plot_wave.plot(t, ys, pen=pg.mkPen("#888", style=Qt.PenStyle.DashLine),
                             name="every switch at once")
         g = cd.dynamics.glitch[code]
-        text = "no meaning" if not np.isfinite(g) else format_value(float(g), "V·s")
+        text = "no meaning" if not np.isfinite(g) else format_si(float(g), "V·s")
         self.plot_wave.setTitle(f"Output during {code - 1} → {code} (net glitch impulse {text})")
 
     def _draw_spectrum(self) -> None:

@@ -26,7 +26,7 @@ from PySide6.QtWidgets import (
 )
 
 from rungwise.core import Design
-from rungwise.core.formatting import format_quantity
+from rungwise.core.formatting import format_percent, format_quantity
 from rungwise.core.grades import STANDARD_GRADES
 from rungwise.core.sweep import (
     BITS_RANGE,
@@ -135,7 +135,7 @@ class ExplorerPane(QWidget):
         self.combo_grade = QComboBox(objectName="combo_grade")
         self.combo_grade.addItem("As each design says", None)
         for g in STANDARD_GRADES:
-            self.combo_grade.addItem(f"±{g * 100:g} %", g)
+            self.combo_grade.addItem(f"±{format_percent(g)}", g)
         self.combo_grade.setCurrentIndex(self.combo_grade.findData(0.001))
         self.spin_trials = QSpinBox(objectName="spin_trials", minimum=10, maximum=100_000, value=500,
                                     singleStep=100)
@@ -229,7 +229,7 @@ class ExplorerPane(QWidget):
         stats = self.statistics()
         if stats is not None:
             grade = "each design's own tolerance" if stats.tolerance is None else (
-                f"±{stats.tolerance * 100:g} % parts")
+                f"±{format_percent(stats.tolerance)} parts")
             text += (f", each with {stats.trials:,} random boards of {grade} "
                      f"({stats.trials * len(values) * n:,} boards)")
         return text + "."

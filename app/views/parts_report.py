@@ -79,13 +79,13 @@ def summary_lines(out: PartsOutcome) -> list[tuple[str, str]]:
         rows.append(("Settling to ½ LSB", f"{_v(s['settling_time'], 's')} (τ = "
                      f"{_v(s['settling_tau'], 's')}; {CONVENTION})"))
     rows += [
-        ("Thermal noise", f"{_v(s['noise_density'], 'V/√Hz')} worst code at {d.temperature_c:g} °C; "
+        ("Thermal noise", f"{_v(s['noise_density'], 'V/√Hz')} worst code at {_v(d.temperature_c, '°C')}; "
                           f"{_v(s['noise_rms'], 'V')} rms over {_v(d.bandwidth, 'Hz')} = "
                           f"{_v(s['noise_rms_lsb'], 'LSB')}"),
     ]
     for end, key in (("cold", "temp_low_c"), ("hot", "temp_high_c")):
         tag = "low" if end == "cold" else "high"
-        rows.append((f"Drift at {board_value(d, key):g} °C",
+        rows.append((f"Drift at {_v(board_value(d, key), '°C')}",
                      f"gain error {_pct(s[f'drift_gain_error_{tag}'])}, offset "
                      f"{_v(s[f'drift_offset_{tag}'], 'V')}, max |INL| {_v(s[f'drift_inl_{tag}'], 'LSB')}"))
     if "amp_offset_error" in s:

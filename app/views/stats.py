@@ -31,6 +31,7 @@ from PySide6.QtWidgets import (
 )
 
 from rungwise.core import Design
+from rungwise.core.formatting import format_percent
 from rungwise.core.grades import STANDARD_GRADES
 from rungwise.core.targets import MAX_SEED
 
@@ -57,8 +58,8 @@ COLUMNS = ("Candidate", "Engine", "Monotonic", "|DNL| ok", "|INL| ok", "All\ntar
 def grade_text(grade: float | None) -> str:
     """``0.01`` → ``"±1 %"``; ``None`` → ``"tighter than ±0.01 %"``."""
     if grade is None:
-        return f"tighter than ±{STANDARD_GRADES[0] * 100:g} %"
-    return f"±{grade * 100:g} %"
+        return f"tighter than ±{format_percent(STANDARD_GRADES[0])}"
+    return f"±{format_percent(grade)}"
 
 
 class StatisticsPane(QWidget):

@@ -123,7 +123,7 @@ class SkewPanel(QWidget):
         new = self._design.replace(series_ratio=a.ratio)
         self.button_apply.setEnabled(False)
         self.apply_requested.emit(new, f"Monotonic by design: series ratio of {new.label} = "
-                                       f"{a.ratio:.4f}")
+                                       f"{format_quantity(a.ratio, '×')}")
 
     def shutdown(self) -> None:
         """Cancel the search and wait for its thread."""

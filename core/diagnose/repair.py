@@ -72,12 +72,12 @@ class Action:
 
     def describe(self) -> str:
         """In words, e.g. ``"leg3: add 1.1 MΩ in parallel"``."""
-        from ..units import format_value
+        from ..formatting import format_si
 
         if self.action == "replace":
-            return f"{self.id}: replace with {format_value(self.ohms, 'Ω')}"
+            return f"{self.id}: replace with {format_si(self.ohms, 'Ω')}"
         where = "in parallel" if self.action == "parallel" else "in series"
-        return f"{self.id}: add {format_value(self.ohms, 'Ω')} {where}"
+        return f"{self.id}: add {format_si(self.ohms, 'Ω')} {where}"
 
 
 @dataclass(frozen=True, eq=False)

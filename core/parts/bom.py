@@ -19,10 +19,10 @@ from dataclasses import dataclass, field
 from typing import Any
 
 from ..evaluate import Evaluation
+from ..formatting import format_si
 from ..metrics.power import worst_case
 from ..metrics.power_arrays import part_power_arrays, switch_maxima
 from ..mismatch import NUMERIC_SETTINGS
-from ..units import format_value
 from .board import board_value
 from .eseries import TOLERANCE
 
@@ -125,8 +125,8 @@ def bill_of_materials(ev: Evaluation) -> list[BomLine]:
     array_no = 0
     for (unit, tc), g in sorted(groups.items(), key=lambda kv: kv[1]["numbers"][0]):
         over = g["power"] > allowed
-        note = (f"over the rating: {format_value(g['power'], 'W')} per resistor, allowed "
-                f"{format_value(allowed, 'W')}" if over else "")
+        note = (f"over the rating: {format_si(g['power'], 'W')} per resistor, allowed "
+                f"{format_si(allowed, 'W')}" if over else "")
         if math.isnan(g["power"]):
             note = "power not worked out per part for a network this large; check the datasheet"
         count = len(g["numbers"])
@@ -147,7 +147,7 @@ def bill_of_materials(ev: Evaluation) -> list[BomLine]:
         over = need > limit
         lines.append(BomLine(ranges("S", list(range(1, n_sw + 1))), "switch", math.nan, "", math.nan,
                              math.nan, need, n_sw, [g.part_id for g in net.legs], 0, over,
-                             f"over the limit {format_value(limit, 'A')}" if over else
+                             f"over the limit {format_si(limit, 'A')}" if over else
                              "current needed, source or sink, A"))
     n_amp = int(net.counts.get("amplifiers", 0))
     if n_amp:
@@ -173,7 +173,7 @@ def to_csv(boms: list[tuple[str, list[BomLine]]]) -> str:
     for label, lines in boms:
         for ln in lines:
             w.writerow([label, ln.designators, ln.kind, num(ln.ohms),
-                        "" if math.isnan(ln.ohms) else format_value(ln.ohms, "Ω"), ln.series,
+                        "" if math.isnan(ln.ohms) else format_si(ln.ohms, "Ω"), ln.series,
                         num(ln.tolerance), num(ln.tempco * 1e6), num(ln.power_needed), ln.quantity,
                         ln.leftover, " ".join(ln.part_ids), ln.note if ln.flagged else ""])
     if any(ln.flagged for _, lines in boms for ln in lines):

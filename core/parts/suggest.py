@@ -16,10 +16,10 @@ from typing import Any
 import numpy as np
 
 from ..build_style import unit_ohms
+from ..formatting import format_si
 from ..metrics import linearity, noise, settling
 from ..solve import CHUNK_ELEMENTS, solve
 from ..topologies import build
-from ..units import format_value
 from .eseries import HIGHEST_OHMS, LOWEST_OHMS, snap, values
 from .snapping import compose, snapped_ids
 
@@ -149,11 +149,11 @@ def suggest(design: Any, limits: Limits, series: str | None = None, top: int = 1
         for label, attr, limit, unit in checks:
             value = getattr(s, attr)
             if limit is not None and not value <= limit:
-                shown = f"{value:.3g} LSB" if unit == "LSB" else format_value(value, unit)
+                shown = f"{value:.3g} LSB" if unit == "LSB" else format_si(value, unit)
                 s.misses.append(f"{label} {shown} over the limit")
     found.sort(key=lambda s: (len(s.misses), round(s.max_abs_inl, 4), s.iref_max))
     for rank, s in enumerate(found[:top], start=1):
         head = "meets every limit" if not s.misses else "; ".join(s.misses)
         s.reason = (f"#{rank}: {head}; snapping leaves max |INL| {s.max_abs_inl:.3g} LSB; reference "
-                    f"current {format_value(s.iref_max, 'A')}")
+                    f"current {format_si(s.iref_max, 'A')}")
     return found[:top]
