@@ -229,7 +229,12 @@ def worst_steps(design: Design, tolerance: np.ndarray | float | None = None,
             vals, verts = _exact_vertices(net, ids, base, tol, direction[todo], trans[todo], pair)
             worst[todo], vertex[todo], exact[todo] = vals, verts, True
         low = order[:count][np.argsort(worst[order[:count]], kind="stable")[:FLIP_CHECK]]
-        vals, verts = _flip_search(net, ids, base, tol, vertex[low], trans[low], worst[low], pair)
+        # a flip can only help where the part's first-order effect is within reach of the
+        # second-order terms, whose size the exact solve just showed (|exact − first order|)
+        reach = 4.0 * np.abs(worst[low] - first_order[low]) + ROUND_OFF * net.n_codes
+        movable = 2.0 * np.abs(sens[:, low]).T * tol[None, :] <= reach[:, None]
+        vals, verts = _flip_search(net, ids, base, tol, vertex[low], trans[low], worst[low], pair,
+                                   movable)
         worst[low], vertex[low] = vals, verts
         if count >= trans.size or np.min(worst[exact]) < 0.0:
             break  # every step solved, or a board in the box is surely not monotonic
@@ -271,23 +276,26 @@ def _exact_vertices(net, ids, base, tol, verts, trans, steps_at):
     return out, verts.astype(np.int8)
 
 
-def _flip_search(net, ids, base, tol, verts, trans, values, steps_of):
+def _flip_search(net, ids, base, tol, verts, trans, values, steps_of, movable):
     """Move each vertex to a single-part flip that lowers its step until none does (by more than
-    the solver's round-off, :data:`ROUND_OFF` of full scale); only moved vertices search again."""
+    the solver's round-off, :data:`ROUND_OFF` of full scale); only moved vertices search again.
+    ``movable`` (n_t, n_parts) says which parts may flip: one whose first-order effect (2·tol·|s|)
+    exceeds the reach of the second-order terms always raises the step when flipped."""
     verts = verts.astype(np.int8).copy()
     values = values.copy()
-    n_parts = len(ids)
     least = ROUND_OFF * net.n_codes  # ideal LSB per full scale
     active = np.arange(trans.size)
     for _ in range(FLIP_ROUNDS):
-        if not active.size:
+        rows_i, parts_i = np.nonzero(movable[active])
+        if not rows_i.size:
             break
-        flipped = np.repeat(verts[active], n_parts, axis=0)
-        flipped[np.arange(flipped.shape[0]), np.tile(np.arange(n_parts), active.size)] *= -1
-        vals = _board_steps(net, ids, base, tol, flipped, np.repeat(trans[active], n_parts),
-                            steps_of).reshape(active.size, n_parts)
-        best = np.argmin(vals, axis=1)
-        lowest = vals[np.arange(active.size), best]
+        flipped = verts[active][rows_i].copy()
+        flipped[np.arange(rows_i.size), parts_i] *= -1
+        vals = _board_steps(net, ids, base, tol, flipped, trans[active][rows_i], steps_of)
+        grid = np.full(movable[active].shape, np.inf)
+        grid[rows_i, parts_i] = vals
+        best = np.argmin(grid, axis=1)
+        lowest = grid[np.arange(active.size), best]
         better = lowest < values[active] - least
         rows = active[better]
         verts[rows, best[better]] *= -1
