@@ -309,14 +309,14 @@ def _column_layout(design: Design, net: Network, code: int, names: _Names) -> Sc
         if node is None:
             hidden = order[len(skipped) + 2: len(order) - 2] if not skipped else []
             skipped = hidden
-            x0 = x + PITCH * 0.5
-            items.append(Wire(((prev_end, Y_TOP), (x0 + PITCH, Y_TOP))))
-            items.append(Label((x0 + PITCH * 0.5, (Y_TOP + Y_RAIL) / 2),
+            x0, gap = x + PITCH * 0.5, PITCH * 1.8  # room for the words between the columns
+            items.append(Wire(((prev_end, Y_TOP), (x0 + gap, Y_TOP))))
+            items.append(Label((x0 + gap / 2, (Y_TOP + Y_RAIL) / 2),
                                f"⋯ {len(hidden)} more stages ({hidden[0]}–{hidden[-1]})",
                                "ellipsis"))
-            spans.append((None, x0, x0 + PITCH))
-            prev_end, prev_node = x0 + PITCH, None
-            x = x0 + PITCH * 1.5
+            spans.append((None, x0, x0 + gap))
+            prev_end, prev_node = x0 + gap, None
+            x = x0 + gap + PITCH * 0.5
             continue
         if prev_end is not None and prev_node is not None:
             r = series.get(frozenset((prev_node, node)))
