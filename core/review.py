@@ -176,7 +176,8 @@ def voltage_cautions(evs: Sequence[Evaluation]) -> list[str]:
         volts = max(abs(ev.design.vref), float(abs(ev.vout).max()))
         if volts > SAFE_DC_VOLTS:
             out.append(f"{ev.design.label}: voltages up to {format_quantity(volts, 'V')} exceed "
-                       f"{SAFE_DC_VOLTS:g} V DC, above the usual safety extra-low-voltage limit; "
+                       f"{format_quantity(SAFE_DC_VOLTS, 'V')} DC, above the usual safety "
+                       "extra-low-voltage limit; "
                        "the circuit needs insulation, spacing and protection by a qualified person.")
     return out
 

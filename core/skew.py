@@ -18,6 +18,7 @@ import numpy as np
 from .design import Design
 from .errors import DesignError
 from .field_use import unused_fields
+from .formatting import format_percent, format_quantity
 from .metrics import linearity
 from .solve import solve
 from .topologies import build
@@ -143,7 +144,8 @@ def ratio_for_monotonic(design: Design) -> SkewAnswer:
 
 def _answer(design: Design, ratio: float, step: float, reason: str) -> SkewAnswer:
     if design.topology == "binary-weighted":
-        reason += f"; bit resistors step by 2 × {ratio:.4g} = {2 * ratio:.4g} instead of 2"
+        reason += (f"; bit resistors step by 2 × {format_quantity(ratio)} = "
+                   f"{format_quantity(2 * ratio)} instead of 2")
     inl, gain = nominal_figures(design.replace(series_ratio=ratio))
     base_inl, base_gain = nominal_figures(design)
     return SkewAnswer(float(ratio), reason, _max_tol(design), step, inl, gain,
@@ -159,4 +161,4 @@ def _max_tol(design: Design) -> float:
 
 def _tolerance_text(design: Design) -> str:
     tol = _max_tol(design)
-    return f"±{tol * 100:.3g} %"
+    return f"±{format_percent(tol)}"

@@ -14,6 +14,7 @@ import numpy as np
 
 from . import figure_registry
 from .design import Design
+from .formatting import format_percent
 from .mismatch import MismatchModel
 from .targets import Targets
 
@@ -58,8 +59,8 @@ class YieldFigure:
         return self.value
 
     def text(self) -> str:
-        """``"98.73 % ± 0.11 %"``."""
-        return f"{self.value * 100:.2f} % ± {self.stderr * 100:.2f} %"
+        """``"98.73 % ± 0.1125 %"`` (the one formatter's percent)."""
+        return f"{format_percent(self.value)} ± {format_percent(self.stderr)}"
 
 
 @dataclass

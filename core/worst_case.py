@@ -36,6 +36,7 @@ import numpy as np
 
 from .design import Design
 from .errors import NetworkError
+from .formatting import format_percent
 from .mismatch import MismatchModel, area_law_sigma
 from .network import Network, PartList
 from .solve import solve
@@ -327,4 +328,4 @@ def summary(design: Design, max_work: int = SUMMARY_WORK, net: Network | None = 
     tol = float(np.max(w.tolerance)) if w.tolerance.size else 0.0
     return ({"guaranteed_monotonic": w.guaranteed, "worst_case_min_step": w.min_step,
              "worst_case_transition": w.worst_transition},
-            f"every part anywhere within ±{tol * 100:.3g} %; examined {w.method}")
+            f"every part anywhere within ±{format_percent(tol)}; examined {w.method}")

@@ -26,6 +26,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..design import Design
+from ..formatting import format_quantity
 from ..network import PartList
 from ..parts.eseries import HIGHEST_OHMS, LOWEST_OHMS, snap
 from ..solve import solve
@@ -256,7 +257,8 @@ def plan_repair(design: Design, codes: np.ndarray, volts: np.ndarray,
     meets = worst <= target_inl and worst_dnl <= target_inl
     if not meets:
         own, _ = figures(codes, _curves(design, [{}], codes))
-        why = (f": the design itself (every part at its value) has max |INL| {own[0]:.3f} LSB"
+        why = (f": the design itself (every part at its value) has max |INL| "
+               f"{format_quantity(own[0], 'LSB')}"
                if own[0] > target_inl else "")
         assumptions.insert(0, f"no plan of up to {MAX_ACTIONS} changes meets the target under "
                               f"every explanation{why}; this is the closest found")

@@ -16,7 +16,7 @@ from typing import Any
 import numpy as np
 
 from ..build_style import unit_ohms
-from ..formatting import format_si
+from ..formatting import format_quantity
 from ..metrics import linearity, noise, settling
 from ..solve import CHUNK_ELEMENTS, solve
 from ..topologies import build
@@ -149,11 +149,12 @@ def suggest(design: Any, limits: Limits, series: str | None = None, top: int = 1
         for label, attr, limit, unit in checks:
             value = getattr(s, attr)
             if limit is not None and not value <= limit:
-                shown = f"{value:.3g} LSB" if unit == "LSB" else format_si(value, unit)
+                shown = format_quantity(value, unit)
                 s.misses.append(f"{label} {shown} over the limit")
     found.sort(key=lambda s: (len(s.misses), round(s.max_abs_inl, 4), s.iref_max))
     for rank, s in enumerate(found[:top], start=1):
         head = "meets every limit" if not s.misses else "; ".join(s.misses)
-        s.reason = (f"#{rank}: {head}; snapping leaves max |INL| {s.max_abs_inl:.3g} LSB; reference "
-                    f"current {format_si(s.iref_max, 'A')}")
+        s.reason = (f"#{rank}: {head}; snapping leaves max |INL| "
+                    f"{format_quantity(s.max_abs_inl, 'LSB')}; reference current "
+                    f"{format_quantity(s.iref_max, 'A')}")
     return found[:top]
