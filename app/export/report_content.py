@@ -86,6 +86,7 @@ class ReviewData:
     version: str = ""
     search: Any = None
     made: str = ""
+    reasons: list[str] = field(default_factory=list)
 
     @property
     def plots(self) -> list[PlotSpec]:
@@ -156,10 +157,11 @@ def gather(doc: DesignFile, title: str = "Design review", with_stats: bool = Tru
                     cancel=cancel)
     colours = [c.colour for c in with_colours(doc.candidates, _colours(doc))]
     search = _search(doc, cancel) if with_stats else None
+    reasons = _nominal_reasons(doc, grades, cancel)
     return ReviewData(doc, evs, stats, rec, title, notes, grades, source, colours,
                       checksum(file_bytes if file_bytes is not None else dumps(doc)),
                       program_version(), search,
-                      _dt.datetime.now(_dt.UTC).strftime("%Y-%m-%d %H:%M UTC"))
+                      _dt.datetime.now(_dt.UTC).strftime("%Y-%m-%d %H:%M UTC"), reasons)
 
 
 def _colours(doc: DesignFile) -> list[str]:
@@ -281,14 +283,23 @@ def _grade_cells(data: ReviewData, i: int) -> list[str]:
             _decision(y.passed, y.trials, data.doc.targets.min_yield).yield_text()]
 
 
-def _nominal_reason(data: ReviewData, i: int) -> str:
-    g = data.grades[i] if i < len(data.grades) else None
-    if g is None or g[0] is not None:
-        return ""
+def _nominal_reasons(doc: DesignFile, grades: list[Any], cancel: Any) -> list[str]:
+    """Why a candidate that no grade helps already fails nominally (``""`` for the others);
+    worked out here on the worker, with a cancel check before each."""
     from rungwise.core.nominal_reason import nominal_failure
 
-    found = nominal_failure(data.doc.candidates[i], data.doc.targets)
-    return found.text() if found is not None else ""
+    out = []
+    for d, g in zip(doc.candidates, grades, strict=True):
+        if g is None or g[0] is not None or (cancel is not None and cancel.is_set()):
+            out.append("")
+            continue
+        found = nominal_failure(d, doc.targets)
+        out.append(found.text() if found is not None else "")
+    return out
+
+
+def _nominal_reason(data: ReviewData, i: int) -> str:
+    return data.reasons[i] if i < len(data.reasons) else ""
 
 
 def _label(key: str) -> str:
