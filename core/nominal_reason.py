@@ -181,13 +181,17 @@ def _failure(design: Design, targets: Targets, criterion: str, summary: dict[str
 
 def loosest_grade_words(design: Design, grade: float | None, tightest: float,
                         targets: Targets | None = None, criterion: str = "all",
-                        cancel: Any = None) -> str:
+                        cancel: Any = None, undecided_boards: int = 0) -> str:
     """The loosest-grade answer in words: ``"±0.1 %"``; when none passes, either the real reason
-    (the nominal design already fails: ``"none — The nominal design already fails …"``) or
-    ``"tighter than ±0.01 %"`` when the nominal design meets the targets."""
+    (the nominal design already fails: ``"none — The nominal design already fails …"``), or
+    "none decided within N boards" when ``undecided_boards`` > 0 (some grade's yield was left
+    undecided), or ``"tighter than ±0.01 %"``."""
     if grade is not None:
         return f"±{format_percent(grade)}"
     failure = nominal_failure(design, targets, criterion, cancel=cancel)
     if failure is not None:
         return "none — " + failure.text()
+    if undecided_boards:
+        return (f"none decided within {undecided_boards} boards per grade (more boards may "
+                "decide it; undecided is not 'meets')")
     return f"tighter than ±{format_percent(tightest)}"

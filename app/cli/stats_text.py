@@ -65,8 +65,10 @@ def grades_dict(curve: YieldCurve, target: float, targets: Any = None) -> dict[s
     ``reason``: when none passes, why in words (the nominal design's real reason when it already
     fails)."""
     loosest = curve.loosest(target)
+    open_ = any(d is not None and d.verdict == "undecided" for d in curve.decisions)
     reason = "" if loosest is not None else loosest_grade_words(
-        curve.design, None, float(min(curve.steps)), targets, curve.criterion)
+        curve.design, None, float(min(curve.steps)), targets, curve.criterion,
+        undecided_boards=curve.trials if open_ else 0)
     return {"criterion": curve.criterion, "target_yield": target,
             "curve": [{"tolerance": float(g), "yield": y.value, "stderr": y.stderr}
                       for g, y in zip(curve.steps, curve.yields, strict=True)],

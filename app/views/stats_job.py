@@ -106,9 +106,12 @@ def statistics_job(request: StatsRequest) -> Any:
             if cancel.is_set():
                 return
             if outcome.loosest(i) is None:
+                curve = outcome.curves[i]
+                open_ = curve is not None and any(d is not None and d.verdict == "undecided"
+                                                  for d in curve.decisions)
                 outcome.reasons[i] = loosest_grade_words(base, None, STANDARD_GRADES[0],
                                                          request.targets, request.criterion,
-                                                         cancel)
+                                                         cancel, request.trials if open_ else 0)
         yield outcome
 
     return job

@@ -21,7 +21,13 @@ def test_statistics_job_and_view_give_the_nominal_reason(qtbot):
     assert outcome.loosest(0) is None
     assert outcome.reasons[0].startswith("none — The nominal design already fails")
     assert "switch resistance" in outcome.reasons[0]
-    assert outcome.reasons[1] == ""  # a grade passes
+    # 40 boards cannot decide 99 % (0.05^(1/40) = 0.93, Clopper and Pearson 1934): undecided is
+    # said as such, not as "tighter than ±0.01 %"
+    assert outcome.loosest(1) is None
+    assert outcome.reasons[1].startswith("none decided within 40 boards per grade")
+    decided = run_sync(statistics_job(StatsRequest((CLEAN,), trials=1000)))
+    assert decided.loosest(0) is not None
+    assert decided.reasons[0] == ""
     pane = StatisticsPane()
     qtbot.addWidget(pane)
     text = pane._verdict(outcome)
