@@ -26,8 +26,9 @@ import numpy as np
 
 from ..network import Network
 from ..timing import Timing
-from .switching import CAP_FLOOR, Branches, branches, leg_skews, plain_node_count
-from .transient import Segments, dc_state, respond
+from . import string_taps
+from .switching import CAP_FLOOR, branches, leg_skews, plain_node_count
+from .transient import Segments, respond
 
 MAX_NODES = 64
 """Largest network (unknown nodes of its plain form) the dense transient solver takes."""
@@ -80,9 +81,10 @@ def sample_text(bits: int) -> str:
 
 def no_dynamics_reason(net: Network, timing: Timing) -> str | None:
     """Why glitch and settling mean nothing for these inputs, or ``None``."""
-    if plain_node_count(net) > MAX_NODES:
+    if plain_node_count(net) > MAX_NODES and not string_taps.applies(net, timing.node_c):
         return (f"not computed: the transient solver takes networks of up to {MAX_NODES} nodes "
-                f"and this one has {plain_node_count(net)} (a resistor string above 6 bits)")
+                f"and this one has {plain_node_count(net)} (a resistor string above 6 bits with "
+                "timing.node_c set)")
     out = net.output
     load = timing.load_c if out.kind == "node" and not out.buffered else 0.0
     load = load if load >= CAP_FLOOR else 0.0
@@ -216,18 +218,45 @@ def _figures(actual: Segments, sync: Segments, half_lsb: float
     return impulse, peak, settling
 
 
-def _endpoint_lsb(br: Branches, n_codes: int) -> float:
-    drive = np.asarray(br.decode(np.array([0, n_codes - 1])), bool)
-    _, y = dc_state(br, drive)
-    return float((y[1] - y[0]) / max(n_codes - 1, 1))
+class _Solver:
+    """The transient of one network: the dense branch form, or for a long string with no node
+    capacitance the three-node template (``string_taps.py``)."""
+
+    def __init__(self, net: Network, timing: Timing, method: str = "auto") -> None:
+        self.net, self.timing = net, timing
+        self.template = method == "auto" and string_taps.applies(net, timing.node_c)
+        if self.template:
+            self.br = string_taps.template(net, timing.load_c)
+            self.start = np.full(2, max(timing.skew, default=0.0))
+        else:
+            self.br = branches(net, timing.node_c, timing.load_c)
+            self.start = leg_skews(self.br, timing.skew)
+
+    def lsb(self) -> float:
+        """Endpoint LSB of the network, V (the exact static solver)."""
+        from ..solve import solve
+
+        v = solve(self.net, codes=np.array([0, self.net.n_codes - 1])).vout
+        return float((v[1] - v[0]) / max(self.net.n_codes - 1, 1))
+
+    def respond(self, from_codes: np.ndarray, to_codes: np.ndarray) -> tuple[Segments, Segments]:
+        tm = self.timing
+        if not self.template:
+            return respond(self.br, self.start, tm.rise, tm.fall, from_codes, to_codes)
+        low, high = np.minimum(from_codes, to_codes), np.maximum(from_codes, to_codes)
+        scale = string_taps.pair_scale(self.net, self.br, low, high)
+        first = (from_codes > to_codes).astype(np.int64)  # tap a is the template's code 0
+        return respond(self.br, self.start, tm.rise, tm.fall, first, 1 - first, scale=scale)
 
 
 def solve_transitions(net: Network, timing: Timing, from_codes: np.ndarray,
-                      to_codes: np.ndarray, cancel=None) -> TransitionFigures:
+                      to_codes: np.ndarray, cancel=None, method: str = "auto"
+                      ) -> TransitionFigures:
     """Glitch impulse, peak and settling of each change ``from_codes`` → ``to_codes``.
 
     Vectorised over transitions in chunks of :data:`CHUNK`; ``cancel`` (an event, optional) is
-    checked between chunks and stops the work with ``InterruptedError``.
+    checked between chunks and stops the work with ``InterruptedError``. ``method="dense"``
+    keeps a string off its three-node template (for checks).
     """
     from_codes = np.asarray(from_codes, dtype=np.int64)
     to_codes = np.asarray(to_codes, dtype=np.int64)
@@ -235,27 +264,24 @@ def solve_transitions(net: Network, timing: Timing, from_codes: np.ndarray,
     reason = no_dynamics_reason(net, timing)
     if reason is not None:
         return TransitionFigures(from_codes, to_codes, nan, nan.copy(), nan.copy(), np.nan, reason)
-    br = branches(net, timing.node_c, timing.load_c)
-    lsb = _endpoint_lsb(br, net.n_codes)
-    start = leg_skews(br, timing.skew)
+    solver = _Solver(net, timing, method)
+    lsb = solver.lsb()
     parts = []
     for s in range(0, to_codes.size, CHUNK):
         if cancel is not None and cancel.is_set():
             raise InterruptedError("cancelled")
         with np.errstate(over="ignore"):  # a mode far faster than the edges: its terms vanish
-            actual, sync = respond(br, start, timing.rise, timing.fall, from_codes[s:s + CHUNK],
-                                   to_codes[s:s + CHUNK])
+            actual, sync = solver.respond(from_codes[s:s + CHUNK], to_codes[s:s + CHUNK])
             parts.append(_figures(actual, sync, abs(lsb) / 2))
     cat = [np.concatenate(x) if parts else nan for x in zip(*parts, strict=True)] or [nan] * 3
     return TransitionFigures(from_codes, to_codes, *cat, lsb=lsb)
 
 
-def waveforms(net: Network, timing: Timing, from_code: int, to_code: int, times: np.ndarray
-              ) -> tuple[np.ndarray, np.ndarray]:
+def waveforms(net: Network, timing: Timing, from_code: int, to_code: int, times: np.ndarray,
+              method: str = "auto") -> tuple[np.ndarray, np.ndarray]:
     """The output of one change and its simultaneous-switching response at ``times`` (P,), V."""
-    br = branches(net, timing.node_c, timing.load_c)
+    solver = _Solver(net, timing, method)
     with np.errstate(over="ignore"):
-        actual, sync = respond(br, leg_skews(br, timing.skew), timing.rise, timing.fall,
-                               np.array([from_code]), np.array([to_code]))
+        actual, sync = solver.respond(np.array([from_code]), np.array([to_code]))
         t = np.asarray(times, float)[None, :]
         return actual.value(t)[0], sync.value(t)[0]

@@ -205,9 +205,11 @@ def _per_branch(br: Branches, per_leg: np.ndarray) -> np.ndarray:
     return out
 
 
-def dc_state(br: Branches, drive: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Settled node voltages (B, n) and output (B,) for drive states (B, L)."""
-    w = br.weights(drive)
+def dc_state(br: Branches, drive: np.ndarray, scale: np.ndarray | None = None
+             ) -> tuple[np.ndarray, np.ndarray]:
+    """Settled node voltages (B, n) and output (B,) for drive states (B, L); ``scale`` (B, K)
+    multiplies each branch's conductance per row (a template network's values)."""
+    w = br.weights(drive) * (1.0 if scale is None else scale)
     zero = np.zeros_like(w)
     G, r0, _, oc, d0, _ = _assemble(br, w, zero, zero)
     x = np.linalg.solve(G, r0[..., None])[..., 0] if br.n else np.zeros((w.shape[0], 0))
@@ -215,17 +217,20 @@ def dc_state(br: Branches, drive: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
 
 
 def respond(br: Branches, leg_start: np.ndarray, rise: float, fall: float,
-            from_codes: np.ndarray, to_codes: np.ndarray) -> tuple[Segments, Segments]:
+            from_codes: np.ndarray, to_codes: np.ndarray, scale: np.ndarray | None = None
+            ) -> tuple[Segments, Segments]:
     """The exact output of each change ``from_codes`` → ``to_codes`` (shape (B,)), and of the
     same change made by every switch at t = 0 as a step (the simultaneous-switching response).
 
     ``leg_start`` (L,) s: when each leg's edge starts. Both start settled at the old code.
+    ``scale`` (B, K) multiplies each branch's conductance per row (see :func:`dc_state`).
     """
     d_f = np.asarray(br.decode(np.asarray(from_codes)), bool)
     d_t = np.asarray(br.decode(np.asarray(to_codes)), bool)
     b = d_f.shape[0]
-    x0, _ = dc_state(br, d_f)
-    w_f, w_t = br.weights(d_f), br.weights(d_t)
+    x0, _ = dc_state(br, d_f, scale)
+    k = 1.0 if scale is None else scale
+    w_f, w_t = br.weights(d_f) * k, br.weights(d_t) * k
     edge = np.where(d_t, rise, fall)
     start = np.broadcast_to(leg_start, edge.shape)
     mid, end = start + edge / 2, start + edge

@@ -73,7 +73,7 @@ def test_capacitance_without_edges_settles_but_has_no_glitch_figure():
 
 
 def test_large_strings_are_refused_by_name():
-    d = Design(topology="string", bits=8, load_c=1e-12)
+    d = Design(topology="string", bits=8, load_c=1e-12, timing={"node_c": 1e-15})
     ev = evaluate(d)
     assert "64 nodes" in ev.dynamics.note
     assert math.isnan(ev.summary["glitch_major"])
@@ -152,8 +152,9 @@ def test_figure_meaning_names_the_reason_for_glitch_rows():
     assert "no capacitance" in not_meaningful(plain, "settling_worst_code")
     assert not_meaningful(plain.replace(timing={"skew": [0, 1e-9]}), "glitch_major") is None
     assert not_meaningful(plain.replace(load_c=1e-12), "settling_major") is None
-    assert "64 nodes" in not_meaningful(Design(topology="string", bits=7, load_c=1e-12),
-                                        "settling_major")
+    assert "64 nodes" in not_meaningful(Design(topology="string", bits=7, load_c=1e-12,
+                                               timing={"node_c": 1e-15}), "settling_major")
+    assert not_meaningful(Design(topology="string", bits=7, load_c=1e-12), "settling_major") is None
     assert not_meaningful(plain, "sinad_db") is None
 
 
@@ -216,3 +217,34 @@ def test_first_moment_identity_for_random_timing(topology, bits, ron, rise, fall
     assert np.all(np.isfinite(f.settling))
     assert np.all(f.settling >= 0)
     assert np.all(f.peak >= 0)
+
+
+@pytest.mark.parametrize("design", [
+    Design(topology="string", bits=5, ron_high=200, load_c=5e-12, ref_r=20,
+           timing={"rise": 3e-9, "fall": 1e-9, "skew": [0, 1e-9]}),
+    Design(topology="string", output="buffer", gain=2, bits=4, ron_high=200, load_c=5e-12,
+           load_r=1e5, timing={"rise": 1e-9, "fall": 3e-9}),
+], ids=["unbuffered", "buffered"])
+def test_string_template_matches_the_whole_string(design):
+    """With no node capacitance a string's change from tap a to tap b sees only three resistors
+    (below a, between, above b): the three-node template gives the whole network's figures."""
+    net, tm = build(design), timing_of(design)
+    codes = np.arange(1, 2**design.bits)
+    fc, tc = np.append(codes - 1, 0), np.append(codes, 2**design.bits - 1)  # and full scale
+    fast = solve_transitions(net, tm, fc, tc)
+    whole = solve_transitions(net, tm, fc, tc, method="dense")
+    for key in ("impulse", "peak", "settling"):  # tap 0's 1 mΩ stand-in for ground: 1e-7
+        np.testing.assert_allclose(getattr(fast, key), getattr(whole, key), rtol=1e-6,
+                                   atol=1e-6 * np.max(np.abs(getattr(whole, key))), err_msg=key)
+    t = np.linspace(0, 200e-9, 50)
+    np.testing.assert_allclose(waveforms(net, tm, 7, 8, t)[0],
+                               waveforms(net, tm, 7, 8, t, method="dense")[0], rtol=1e-7)
+
+
+def test_long_strings_without_node_capacitance_are_solved():
+    d = Design(topology="string", bits=12, ron_high=200, load_c=5e-12,
+               timing={"rise": 3e-9, "fall": 1e-9})
+    ev = evaluate(d)
+    assert ev.dynamics.note is None
+    assert np.all(np.isfinite(ev.dynamics.glitch))
+    assert np.all(ev.dynamics.settling[1:] > 0)
