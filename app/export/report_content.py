@@ -142,9 +142,12 @@ def gather(doc: DesignFile, title: str = "Design review", with_stats: bool = Tru
                         progress(f"statistics of {d.label} ({i + 1} of {len(evs)}): "
                                  f"{partial.done:,} of {trials:,} boards")
                 curve = None
+                # each grade stops once decided against the target yield (the rule the
+                # Statistics view and the design search use)
                 for curve in iter_yield_vs_tolerance(d, trials=min(trials, GRADE_TRIALS),
                                                      seed=doc.analysis.seed,
-                                                     targets=doc.targets, cancel=cancel):
+                                                     targets=doc.targets, cancel=cancel,
+                                                     target_yield=doc.targets.min_yield):
                     if progress is not None:
                         progress(f"tolerance grades of {d.label}: {len(curve.yields)} of "
                                  f"{len(curve.steps)}")
