@@ -13,15 +13,19 @@ from pathlib import Path
 from PySide6.QtCore import QByteArray, Qt, QTimer, Signal
 from PySide6.QtGui import QAction, QActionGroup, QCloseEvent, QGuiApplication, QKeySequence, QShowEvent
 from PySide6.QtWidgets import (
+    QApplication,
     QDockWidget,
     QFileDialog,
+    QGraphicsView,
     QGroupBox,
     QLabel,
     QMainWindow,
     QMessageBox,
     QProgressBar,
+    QProxyStyle,
     QPushButton,
     QScrollArea,
+    QStyle,
     QTabWidget,
     QVBoxLayout,
     QWidget,
@@ -55,6 +59,24 @@ STOPPED_TEXT = ("Stopped: the curves and figures are of earlier values; change a
 
 FILE_FILTER = "Rungwise designs (*.rwd.toml *.toml);;All files (*)"
 """File dialog filter for design files."""
+
+PLOT_MIN_HEIGHT = 180
+"""Smallest height of a plot in an analysis view, px."""
+
+TAB_SPACE = 10
+"""Space beside a tab's title, px (a little tighter than usual, so every view's tab fits beside a
+docked panel at 1366 px)."""
+
+
+class _TightTabs(QProxyStyle):
+    """The application's style with :data:`TAB_SPACE` beside each tab title (a style sheet
+    would stop the plots following palette changes)."""
+
+    def pixelMetric(self, metric, option=None, widget=None) -> int:
+        """Tab spacing of our own; every other measure from the base style."""
+        if metric == QStyle.PixelMetric.PM_TabBarTabHSpace:
+            return TAB_SPACE
+        return super().pixelMetric(metric, option, widget)
 
 WIDE_WINDOW = 1700
 """Window width, px, from which the figures panel sits beside the curves instead of sharing the
@@ -120,6 +142,8 @@ class MainWindow(QMainWindow):
         self.plots = CodePlotsView(self)
         self.tabs = QTabWidget(self, objectName="tabs_analysis")
         self.tabs.setMinimumWidth(420)
+        self._tab_style = _TightTabs(QApplication.style().name())
+        self.tabs.tabBar().setStyle(self._tab_style)
         self.tabs.addTab(self.plots, "Curves")
         for entry in VIEWS:
             self._add_view(entry)
@@ -196,6 +220,8 @@ class MainWindow(QMainWindow):
             view = QLabel(f"This view could not be opened:\n{type(exc).__name__}: {exc}")
             view.setAlignment(Qt.AlignmentFlag.AlignCenter)
         view.setObjectName(entry.key)
+        for plot in view.findChildren(QGraphicsView):  # the view scrolls rather than squash a plot
+            plot.setMinimumHeight(max(plot.minimumHeight(), PLOT_MIN_HEIGHT))
         holder = QScrollArea(self.tabs, objectName=f"scroll_{entry.key}")
         holder.setWidget(ViewFrame(view))  # a view's own minimum size must not squeeze the others
         holder.setWidgetResizable(True)

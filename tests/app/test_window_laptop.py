@@ -16,6 +16,7 @@ from PySide6.QtWidgets import (
     QAbstractSpinBox,
     QApplication,
     QComboBox,
+    QGraphicsView,
     QLabel,
     QLineEdit,
     QPushButton,
@@ -75,6 +76,9 @@ def test_every_view_fits_the_screen(window, qtbot, tmp_path, size):
         assert (QImage(str(path)).width(), QImage(str(path)).height()) == size
         if isinstance(holder, QScrollArea):
             assert not holder.horizontalScrollBar().isVisible(), title
+            for plot in holder.widget().findChildren(QGraphicsView):
+                if plot.isVisibleTo(holder.widget()):
+                    assert plot.height() >= 150, (title, plot.objectName())
             view = holder.widget()
             for w in (w for kind in INPUTS for w in view.findChildren(kind)):
                 if not w.isVisibleTo(view) or w.width() <= 1 or w.objectName().startswith("qt_"):
@@ -89,6 +93,9 @@ def test_every_view_fits_the_screen(window, qtbot, tmp_path, size):
             if table.isVisible() and policy != Qt.ScrollBarPolicy.ScrollBarAlwaysOff \
                     and table.objectName().startswith("table_"):
                 assert not table.horizontalScrollBar().isVisible(), (title, table.objectName())
+    # every view's tab is on screen (no scroll arrows on the tab bar)
+    bar = window.tabs.tabBar()
+    assert bar.tabRect(bar.count() - 1).right() <= bar.width(), size
     # the figures table shows every candidate's column without scrolling sideways
     window.dock_figures.raise_()
     QApplication.processEvents()
