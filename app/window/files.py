@@ -50,9 +50,11 @@ class FileFeatures(QObject):
     Signals
     -------
     report_written(object) — the review PDF (its ``Path``) was written.
+    netlist_written(object) — a netlist made on the worker (its ``Path``) was written.
     """
 
     report_written = Signal(object)
+    netlist_written = Signal(object)
 
     def __init__(self, window, folder: Path | None, autosave_folder: Path | None) -> None:
         super().__init__(window)
@@ -66,8 +68,9 @@ class FileFeatures(QObject):
         self.autosave = Autosave(autosave_folder) if autosave_folder is not None else None
         self._timer = QTimer(self, singleShot=True, interval=AUTOSAVE_DELAY_MS)
         self._timer.timeout.connect(self.write_crash_copy)
-        self.runner = None  # a JobRunner for the report, made on first use
+        self.runner = None  # a JobRunner for the report and netlists, made on first use
         self._report_path: Path | None = None
+        self._netlist_path: Path | None = None
         self._build_actions()
 
     # --- edits ---------------------------------------------------------------------------------
@@ -311,13 +314,7 @@ class FileFeatures(QObject):
         doc = self.document()
         title = f"Design review: {self.window.model.path.stem}" if self.window.model.path \
             else "Design review"
-        if self.runner is None:
-            from ..jobs.workers import JobRunner
-
-            self.runner = JobRunner(self, max_threads=1)
-            self.runner.finished.connect(self._on_report_ready)
-            self.runner.failed.connect(lambda _c, msg: self.window.show_problem(
-                f"Could not prepare the report:\n{msg}"))
+        self._jobs()
         self._report_path = Path(path)
         source = self.window.model.path.name if self.window.model.path else ""
         known = [self.window.live.evaluation_of(d) for d in doc.candidates]
@@ -325,6 +322,23 @@ class FileFeatures(QObject):
                                                            source=source, evaluations=known))
         self.window.status_text.setText(f"Preparing the report {Path(path).name}"
                                         + (" (statistics running)…" if with_stats else "…"))
+
+    def _jobs(self):
+        """The worker for the report and netlists (made on first use, one job at a time)."""
+        if self.runner is None:
+            from ..jobs.workers import JobRunner
+
+            self.runner = JobRunner(self, max_threads=1)
+            self.runner.finished.connect(self._on_job_done)
+            self.runner.failed.connect(lambda channel, msg: self.window.show_problem(
+                f"Could not prepare the {channel}:\n{msg}"))
+        return self.runner
+
+    def _on_job_done(self, channel: str, data) -> None:
+        if channel == "netlist":
+            self._on_netlist_ready(data)
+        else:
+            self._on_report_ready(channel, data)
 
     def _on_report_ready(self, _channel: str, data) -> None:
         from ..plots.report_pdf import write_report
@@ -372,6 +386,25 @@ class FileFeatures(QObject):
         design = self.window.model.state.current.design
         return self._run(str(path), lambda: write_netlist(path, design, code, source))
 
+    def write_netlist_in_background(self, path: Path, code: int | None) -> None:
+        """Make the edited candidate's netlist on the worker (a 16-bit string takes a second or
+        two), write it when it arrives (``netlist_written`` then)."""
+        from .netlist_export import netlist_text
+
+        source = self.window.model.path.name if self.window.model.path else ""
+        design = self.window.model.state.current.design
+        self._netlist_path = Path(path)
+        self._jobs().submit("netlist", lambda _cancel: netlist_text(design, code, source))
+        self.window.status_text.setText(f"Writing the netlist {Path(path).name}…")
+
+    def _on_netlist_ready(self, text: str) -> None:
+        from .netlist_export import save_text
+
+        path = self._netlist_path
+        if self._run(str(path), lambda: save_text(path, text)):
+            self.window.status_text.setText(f"Wrote the netlist {path.name}")
+            self.netlist_written.emit(path)
+
     def netlist_dialog(self) -> None:
         """Ask for the code and the file, then write the edited candidate's netlist."""
         from .netlist_export import NetlistDialog
@@ -383,7 +416,8 @@ class FileFeatures(QObject):
         stem = "".join(c if c.isalnum() else "-" for c in design.label).strip("-") or "candidate"
         path = self._ask("Write the netlist", f"{stem}.cir", "SPICE netlist (*.cir *.sp)")
         if path is not None:
-            self.export_netlist(path if path.suffix else path.with_suffix(".cir"), dialog.code)
+            self.write_netlist_in_background(path if path.suffix else path.with_suffix(".cir"),
+                                             dialog.code)
 
 
 def install(window: QWidget) -> FileFeatures:

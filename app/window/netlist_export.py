@@ -67,8 +67,17 @@ class NetlistDialog(QDialog):
         return None if self.check_all.isChecked() else self.spin_code.value()
 
 
+def netlist_text(design: Design, code: int | None, source: str = "") -> str:
+    """The netlist of ``design`` at ``code`` (every code when ``None``); a worker may call it."""
+    return spice_netlist(design, code=code, all_codes=code is None, version=program_version(),
+                         source=source)
+
+
+def save_text(path: Path, text: str) -> None:
+    """Write ``text`` to ``path`` atomically."""
+    write_atomically(Path(path), lambda tmp: Path(tmp).write_text(text, encoding="utf-8"))
+
+
 def write_netlist(path: Path, design: Design, code: int | None, source: str = "") -> None:
     """Write the netlist of ``design`` at ``code`` (every code when ``None``) to ``path``."""
-    text = spice_netlist(design, code=code, all_codes=code is None, version=program_version(),
-                         source=source)
-    write_atomically(Path(path), lambda tmp: Path(tmp).write_text(text, encoding="utf-8"))
+    save_text(path, netlist_text(design, code, source))

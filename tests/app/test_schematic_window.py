@@ -107,3 +107,14 @@ def test_schematic_of_every_candidate_matches_its_layout(compared):
         pane.combo.setCurrentIndex(i)
         pane.spin_code.setValue(3)
         assert pane.canvas.sheet.names() == schematic(d, 3).names()
+
+
+def test_netlist_made_on_the_worker_is_written_when_it_arrives(compared, qtbot, tmp_path: Path):
+    path = tmp_path / "every.cir"
+    with qtbot.waitSignal(compared.files.netlist_written, timeout=30000) as sig:
+        compared.files.write_netlist_in_background(path, None)
+    assert sig.args == [path]
+    text = path.read_text()
+    assert "dc VCODE 0 63 1" in text
+    assert "candidate 'ladder six'" in text
+    assert "Wrote the netlist every.cir" in compared.status_text.text()
