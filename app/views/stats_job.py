@@ -94,10 +94,10 @@ def statistics_job(request: StatsRequest) -> Any:
             if MismatchModel.of(base).model == "on-chip":
                 outcome.notes[i] = outcome.notes[i] or "on-chip area law: no tolerance grade"
                 continue
-            # the run at the chosen grade is that grade's point of the curve: not run twice
-            known = ({request.grade: (outcome.results[i], outcome.decisions[i])}
-                     if request.grade is not None and not note and outcome.results[i] is not None
-                     else None)
+            # the run made above is its grade's point of the curve: not run twice
+            same = [g for g in STANDARD_GRADES if with_tolerance(base, g) == design]
+            known = ({same[0]: (outcome.results[i], outcome.decisions[i])}
+                     if same and outcome.results[i] is not None else None)
             for curve in iter_yield_vs_tolerance(base, STANDARD_GRADES, request.trials, request.seed,
                                                  request.targets, request.criterion, cancel,
                                                  request.target_yield, known):
