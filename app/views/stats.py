@@ -120,6 +120,7 @@ class StatisticsPane(QWidget):
         self.progress = QProgressBar(objectName="progress_stats", minimum=0, maximum=1000, value=0)
         self.label_seed = QLabel("No run yet", objectName="label_stats_seed")
         self.label_status = QLabel("", objectName="label_stats_status")  # lines end in "\n"
+        self.label_status.setWordWrap(True)  # long verdicts wrap instead of running off the side
         self.label_status.setAlignment(Qt.AlignmentFlag.AlignTop | Qt.AlignmentFlag.AlignLeft)
         self.label_status.setMinimumHeight(4 * self.label_status.fontMetrics().lineSpacing())
         buttons = QHBoxLayout()
@@ -324,9 +325,10 @@ class StatisticsPane(QWidget):
             done = list(curve.yields)  # a running job may append while this reads
             steps = curve.steps[:len(done)]
             values = np.array([y.value for y in done])
-            pen = pg.mkPen(candidate_colour(self._colours, i), width=2)
-            self.plot_yield.plot(steps * 100, values * 100, pen=pen,
-                                 symbol="o", name=outcome.request.designs[i].label)
+            colour = candidate_colour(self._colours, i)
+            self.plot_yield.plot(steps * 100, values * 100, pen=pg.mkPen(colour, width=2),
+                                 symbol="o", symbolBrush=colour, symbolPen=colour,
+                                 name=outcome.request.designs[i].label)
         target = outcome.request.target_yield * 100
         dashed = pg.mkPen("#888", style=Qt.PenStyle.DashLine)
         self.plot_yield.addItem(pg.InfiniteLine(target, angle=0, pen=dashed))

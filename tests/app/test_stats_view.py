@@ -134,3 +134,20 @@ def test_object_names_are_unique_and_prefixed(pane):
 
     names = [w.objectName() for w in pane.findChildren(QWidget) if w.objectName().count("_stats")]
     assert len(names) == len(set(names)) == 17
+
+
+def test_plots_and_table_use_the_candidates_colours(qtbot, pane):
+    colours = ["#2f8f9d", "#c9733a"]
+    pane.set_colours(colours)
+    pane.set_candidates([LADDER, PER_BIT])
+    pane.spin_trials.setValue(100)
+    _run(qtbot, pane)
+    pane.combo_candidate.setCurrentIndex(1)
+    curves = [c for c in pane.plot_yield.listDataItems() if c.name()]
+    assert [c.opts["pen"].color().name() for c in curves] == colours
+    assert [c.opts["symbolBrush"] for c in curves] == colours
+    hist = pane.plot_hist.listDataItems()
+    assert {c.opts["pen"].color().name() for c in hist} == {colours[1]}
+    assert all(c.name().startswith("One per bit: ") for c in hist)
+    assert pane.table.item(1, 0).foreground().color().name() == colours[1]
+    assert pane.label_status.wordWrap()
