@@ -57,6 +57,13 @@ SETTINGS: dict[str, tuple[str, str]] = {
 """Settings this view edits: key → (label, tooltip)."""
 
 
+MODEL_NOTE = ("Each switch's driven end ramps between the rails over the rise or fall time, starting "
+              "at its bit's delay; its on-resistance changes at mid-edge. Node capacitance sits on "
+              "every network node, load capacitance on an unbuffered output. Amplifiers are taken "
+              "as ideal. Glitch impulse is measured against every switch moving at once.")
+"""The model in words, shown under the settings."""
+
+
 def setting_text(design: Design, key: str) -> str:
     """A timing or sine setting as typed text (empty when unset)."""
     table, sub = key.split(".")
@@ -163,6 +170,8 @@ class DynamicsPane(QWidget):
         form.addWidget(self.button_apply, 1, 6, 1, 2)
         self.message = QLabel(self, objectName="label_dynamics_message")
         self.message.setWordWrap(True)
+        self.model_note = QLabel(MODEL_NOTE, self, objectName="label_dynamics_model")
+        self.model_note.setWordWrap(True)
         self.plot_glitch = follow_palette(pg.PlotWidget(title="Net glitch impulse against code"))
         self.plot_glitch.setObjectName("plot_dynamics_glitch")
         self.plot_glitch.setLogMode(x=False, y=True)
@@ -188,6 +197,7 @@ class DynamicsPane(QWidget):
         layout = QVBoxLayout(self)
         layout.addLayout(row)
         layout.addLayout(form)
+        layout.addWidget(self.model_note)
         layout.addWidget(self.message)
         layout.addLayout(plots, 1)
         layout.addWidget(self.status)

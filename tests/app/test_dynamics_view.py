@@ -115,3 +115,7 @@ def test_the_window_applies_the_view_edit(window):
     assert window.model.state.designs[0].timing == {"rise": 2e-9}
     window.files.history.undo()  # an undoable edit like any other
     assert window.model.state.designs[0].timing == before.timing
+
+
+def test_the_model_is_stated(pane):
+    assert "Amplifiers are taken as ideal" in pane.model_note.text()
