@@ -16,6 +16,7 @@ from .evaluate import Evaluation
 from .formatting import format_percent, format_quantity
 from .parts.bom import bill_of_materials
 from .targets import Targets
+from .yield_decision import decide_yield
 
 SAFE_DC_VOLTS = 60.0
 """Volts DC above which the review adds a shock-hazard caution (from memory: the usual ripple-free
@@ -42,6 +43,9 @@ class Verdict:
     monotonic : bool
     yield_all : float or None
         Monte Carlo yield of all targets together (fraction), when statistics were computed.
+    yield_text : str
+        That yield in words: the one-sided lower bound when no board failed ("≥ 99.70 %"), else
+        the estimate with its bounds; "" when no statistics were computed.
     failures : list[str]
         One phrase per missed target, with the figure and the limit; empty when it passes.
     """
@@ -53,6 +57,7 @@ class Verdict:
     monotonic: bool
     yield_all: float | None
     failures: list[str] = field(default_factory=list)
+    yield_text: str = ""
 
     @property
     def passes(self) -> bool:
@@ -65,8 +70,14 @@ def part_count(summary: Mapping[str, Any]) -> int:
     return int(sum(int(summary.get(k, 0)) for k in ("n_resistors", "n_switches", "n_amplifiers")))
 
 
-def judge(ev: Evaluation, targets: Targets, yield_all: float | None = None) -> Verdict:
-    """Compare one candidate's figures (and its yield, if computed) with ``targets``."""
+def judge(ev: Evaluation, targets: Targets, yield_all: Any = None) -> Verdict:
+    """Compare one candidate's figures (and its yield, if computed) with ``targets``.
+
+    ``yield_all`` is a Monte Carlo yield with its counts (``passed``, ``trials``, as
+    ``stats_result.YieldFigure``): it meets the target only when decided above it at the stated
+    confidence (``yield_decision.decide_yield``); undecided counts as a miss, never as meeting.
+    A bare fraction (already decided by the caller) is compared as given.
+    """
     s = ev.summary
     inl = float(s[f"max_abs_inl_{targets.inl_line}"])
     dnl = float(s["max_abs_dnl"])
@@ -80,9 +91,29 @@ def judge(ev: Evaluation, targets: Targets, yield_all: float | None = None) -> V
         fails.append(f"max |DNL| {format_quantity(dnl, 'LSB')} > {format_quantity(targets.max_dnl_lsb)}")
     if targets.monotonic and not mono:
         fails.append("not monotonic")
-    if yield_all is not None and not yield_all >= targets.min_yield:
-        fails.append(f"yield {format_percent(yield_all)} < {format_percent(targets.min_yield)}")
-    return Verdict(ev.design.label, part_count(s), inl, dnl, mono, yield_all, fails)
+    value, text, miss = _judge_yield(yield_all, targets.min_yield)
+    if miss:
+        fails.append(miss)
+    return Verdict(ev.design.label, part_count(s), inl, dnl, mono, value, fails, text)
+
+
+def _judge_yield(yield_all: Any, target: float) -> tuple[float | None, str, str]:
+    """(fraction, words, failure phrase or "") for a yield against ``target``."""
+    if yield_all is None:
+        return None, "", ""
+    counts = getattr(yield_all, "trials", None)
+    if counts is None:  # a bare fraction, decided by the caller
+        value = float(yield_all)
+        miss = "" if value >= target else f"yield {format_percent(value)} < {format_percent(target)}"
+        return value, format_percent(value), miss
+    decision = decide_yield(int(yield_all.passed), int(yield_all.trials), target)
+    text = decision.yield_text()
+    if decision.verdict == "meets":
+        return decision.estimate, text, ""
+    if decision.verdict == "fails":
+        return decision.estimate, text, f"yield {text} < {format_percent(target)} [{decision.method}]"
+    return decision.estimate, text, (f"yield {text} undecided against {format_percent(target)} over "
+                                     f"{decision.trials} boards [{decision.method}]")
 
 
 def describe_targets(targets: Targets, with_yield: bool = False) -> str:
@@ -107,7 +138,7 @@ class Recommendation:
 
 
 def recommend(evs: Sequence[Evaluation], targets: Targets,
-              yields: Sequence[float | None] | None = None, cancel: Any = None) -> Recommendation:
+              yields: Sequence[Any] | None = None, cancel: Any = None) -> Recommendation:
     """The candidate that meets every target with the fewest parts, and a sentence saying why.
 
     Parameters
@@ -115,8 +146,9 @@ def recommend(evs: Sequence[Evaluation], targets: Targets,
     evs : sequence of Evaluation
         The candidates, in display order.
     targets : Targets
-    yields : sequence of float or None, optional
-        Monte Carlo yield of all targets together per candidate (fraction), ``None`` where not run.
+    yields : sequence, optional
+        Monte Carlo yield of all targets together per candidate (``YieldFigure`` with its counts,
+        decided at a stated confidence; or a fraction), ``None`` where not run.
     cancel : object with ``is_set()``, optional
         Stops the nominal-reason solves (the recommendation then leaves the reasons out).
     """
@@ -132,7 +164,7 @@ def recommend(evs: Sequence[Evaluation], targets: Targets,
     v = verdicts[best]
     figures = f"max |INL| {format_quantity(v.inl, 'LSB')}, max |DNL| {format_quantity(v.dnl, 'LSB')}"
     if v.yield_all is not None:
-        figures += f", yield {format_percent(v.yield_all)}"
+        figures += f", yield {v.yield_text}"
     others = len(passing) - 1
     if others:
         fewer = (f"the fewest parts ({v.parts}) of the {len(passing)} candidates that meet them"

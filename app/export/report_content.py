@@ -155,7 +155,7 @@ def gather(doc: DesignFile, title: str = "Design review", with_stats: bool = Tru
                     grades[i] = (curve.loosest(doc.targets.min_yield), curve)
             except DesignError as exc:
                 notes.append(f"{d.label}: statistics not run ({exc})")
-    yields = [float(s.yield_all) if s is not None else None for s in stats]
+    yields = [s.yield_all if s is not None else None for s in stats]
     rec = recommend(evs, doc.targets, yields if any(y is not None for y in yields) else None,
                     cancel=cancel)
     colours = [c.colour for c in with_colours(doc.candidates, _colours(doc))]

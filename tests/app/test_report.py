@@ -98,7 +98,7 @@ def test_report_text_matches_the_engine(report):
             assert line.designators in text
     from rungwise.core.montecarlo import monte_carlo
 
-    yields = [float(monte_carlo(d, 300, 4242, targets=doc.targets).yield_all)
+    yields = [monte_carlo(d, 300, 4242, targets=doc.targets).yield_all
               for d in doc.candidates]
     rec = recommend(evs, doc.targets, yields)
     flat = "".join(text.split())  # a line may break after "|": compare without spaces

@@ -2,11 +2,12 @@
 
 from __future__ import annotations
 
+import numpy as np
 import pytest
 
 from rungwise.core import evaluate
 from rungwise.core.demo import DEMO_BASE, demo_candidates
-from rungwise.core.formatting import format_quantity
+from rungwise.core.formatting import format_percent, format_quantity
 from rungwise.core.montecarlo import monte_carlo
 from rungwise.core.parts.bom import bill_of_materials
 from rungwise.core.review import (
@@ -141,3 +142,25 @@ def test_no_candidate_meets_because_the_nominal_design_fails_says_why():
     assert rec.chosen is None
     assert "Switched: The nominal design already fails before any part mismatch" in rec.text
     assert "switch resistance" in rec.text
+
+
+def test_yield_meets_only_when_decided_at_the_stated_confidence(evs):
+    """Counts are judged by the one-sided Clopper–Pearson bound (Clopper and Pearson 1934):
+    300 of 300 boards give a 95 % lower bound of 0.05^(1/300) = 99.00 %, so a 99 % target is met
+    and the words show that bound, never '100 %'; 297 of 300 at a 99 % target is undecided."""
+    from rungwise.core.stats_result import YieldFigure
+
+    t = Targets(min_yield=0.99)
+    all_pass = YieldFigure.of(np.ones(300, dtype=bool))
+    near = YieldFigure.of(np.arange(300) >= 3)  # 297 of 300
+    rec = recommend(evs, t, yields=[all_pass, near])
+    assert rec.chosen == 0
+    bound = 0.05 ** (1 / 300)  # Beta⁻¹(0.05; 300, 1), the bound the sentence must show
+    assert bound >= 0.99
+    assert f"yield ≥ {format_percent(bound)}" in rec.text
+    assert "yield 100 %" not in rec.text
+    miss = rec.verdicts[1].failures
+    assert len(miss) == 1
+    assert "undecided against 99 %" in miss[0]
+    assert "300 boards" in miss[0]
+    assert "Clopper–Pearson" in miss[0]
