@@ -1,8 +1,8 @@
 """The comparison window: curves and analysis views in the middle, the candidates and values and
 the figures table in dock panels that can be hidden, floated and put back (their places are
-remembered). On a window narrower than :data:`WIDE_WINDOW` the two panels share one side as tabs,
-so an analysis view keeps most of the width. Menus, files and remembered settings live here; each
-panel is its own module.
+remembered). On a window narrower than :data:`WIDE_WINDOW` the two panels share the left side,
+values above figures, so an analysis view keeps most of the width. Menus, files and remembered
+settings live here; each panel is its own module.
 """
 
 from __future__ import annotations
@@ -79,8 +79,8 @@ class _TightTabs(QProxyStyle):
         return super().pixelMetric(metric, option, widget)
 
 WIDE_WINDOW = 1700
-"""Window width, px, from which the figures panel sits beside the curves instead of sharing the
-left side with the values panel as a tab."""
+"""Window width, px, from which the figures panel sits right of the curves instead of below the
+values panel on the left."""
 
 DOCK_FEATURES = (QDockWidget.DockWidgetFeature.DockWidgetClosable
                  | QDockWidget.DockWidgetFeature.DockWidgetMovable
@@ -186,7 +186,7 @@ class MainWindow(QMainWindow):
 
     def arrange_panels(self) -> None:
         """Put the panels back in their default places for the window's width: side by side
-        around the curves on a wide window, else as two tabs on the left (figures in front)."""
+        around the curves on a wide window, else one above the other on the left."""
         self._user_sized = False
         for dock in (self.dock_values, self.dock_figures):
             dock.setFloating(False)
@@ -198,13 +198,14 @@ class MainWindow(QMainWindow):
                              [max(self._values_width(), int(self.width() * 0.2)),  # room for values
                               min(self._table_width(), int(self.width() * 0.4))],
                              Qt.Orientation.Horizontal)
-        else:
-            self.addDockWidget(Qt.DockWidgetArea.LeftDockWidgetArea, self.dock_figures)
-            self.tabifyDockWidget(self.dock_values, self.dock_figures)
-            self.dock_figures.raise_()
+        else:  # one column on the left, values above figures: both in sight, the views get the rest
+            self.splitDockWidget(self.dock_values, self.dock_figures, Qt.Orientation.Vertical)
             self.resizeDocks([self.dock_values], [min(max(self._table_width(), self._values_width()),
                                                       int(self.width() * 0.48))],
                              Qt.Orientation.Horizontal)
+            self.resizeDocks([self.dock_values, self.dock_figures],
+                             [int(self.height() * 0.4), int(self.height() * 0.6)],
+                             Qt.Orientation.Vertical)
 
     def _values_width(self) -> int:
         """Width of the values panel: a caption beside a field of a comfortable width."""

@@ -8,7 +8,7 @@ view's minimum size.
 
 from __future__ import annotations
 
-from PySide6.QtCore import QSize
+from PySide6.QtCore import QEvent, QObject, QSize
 from PySide6.QtGui import QResizeEvent
 from PySide6.QtWidgets import QWidget
 
@@ -20,6 +20,17 @@ class ViewFrame(QWidget):
         super().__init__(parent)
         self.view = view
         view.setParent(self)
+        view.installEventFilter(self)
+
+    def eventFilter(self, watched: QObject, event: QEvent) -> bool:
+        """When the view's layout grows (a table filled, a label wrapped), grow with it so its
+        widgets never overlap; the scroll area then scrolls."""
+        if watched is self.view and event.type() == QEvent.Type.LayoutRequest:
+            self.updateGeometry()
+            need = self.minimumSizeHint()
+            if self.height() < need.height() or self.width() < need.width():
+                self.resize(self.size().expandedTo(need))
+        return super().eventFilter(watched, event)
 
     def minimumSizeHint(self) -> QSize:
         """The view's own minimum."""

@@ -22,10 +22,11 @@ def test_panels_hide_float_and_come_back(window, qtbot):
     assert values.isVisible()
     assert figures.isVisible()
     assert not figures.isFloating()
-    # on a laptop-sized window the two panels share the left side as tabs
+    # on a laptop-sized window the two panels share the left side, values above figures
     assert window.width() < 1700
     assert window.dockWidgetArea(figures) == Qt.DockWidgetArea.LeftDockWidgetArea
-    assert figures in window.tabifiedDockWidgets(values)
+    assert not window.tabifiedDockWidgets(values)
+    assert values.geometry().bottom() < figures.geometry().top()
 
 
 def test_panel_places_are_remembered(qtbot, private_config):
