@@ -19,49 +19,9 @@ from .errors import DesignError
 from .mismatch import check_mismatch
 from .part_ids import part_ids
 from .parts.board import check_board
+from .ranges import FieldSpec
 from .timing import check_sine, check_timing
 from .types import MAX_ARRAY_BITS, MAX_BITS, OUTPUTS_BY_TOPOLOGY, SERIES, TOPOLOGIES
-from .units import parse_value
-
-
-@dataclass(frozen=True)
-class FieldSpec:
-    """What one numeric design field accepts.
-
-    ``low``/``high`` are inclusive unless ``low_open``; ``allow_inf`` admits +∞ (an open load);
-    ``zero_ok`` admits 0 below ``low`` (an ideal switch); ``min_abs`` > 0 makes a two-sided range
-    ``low … −min_abs`` or ``min_abs … high`` (a reference voltage, a gain: never 0).
-    """
-
-    label: str
-    unit: str
-    low: float
-    high: float
-    low_open: bool = False
-    allow_inf: bool = False
-    integer: bool = False
-    optional: bool = False
-    zero_ok: bool = False
-    min_abs: float = 0.0
-
-    def describe(self) -> str:
-        """The allowed range in words, e.g. ``"> 0 Ω and ≤ 1e+12 Ω, or open"``."""
-        u = f" {self.unit}" if self.unit else ""
-        low = f"> {self.low:g}{u}" if self.low_open else f"≥ {self.low:g}{u}"
-        text = f"{low} and ≤ {self.high:g}{u}"
-        if self.min_abs:
-            text = (f"{self.low:g} … {-self.min_abs:g}{u} or {self.min_abs:g} … {self.high:g}{u} "
-                    "(not 0)")
-        if self.zero_ok:
-            text = f"0 (ideal) or {text}"
-        if self.integer:
-            text = f"a whole number from {self.low:g} to {self.high:g}"
-        if self.allow_inf:
-            text += " (or 'open' for none)"
-        if self.optional:
-            text += " (or empty for the topology's default)"
-        return text
-
 
 MIN_OHMS = 1e-3
 """Smallest resistance of a part, a non-ideal switch, a reference or a load: 1 mΩ (a copper
@@ -70,20 +30,23 @@ trace; below it the network's conductances span more than double precision can s
 MAX_OHMS = 1e12
 """Largest resistance of a part: 1 TΩ (above it leakage of any real board dominates)."""
 
-PARTS_ALLOWED = f"≥ {MIN_OHMS:g} Ω and ≤ {MAX_OHMS:g} Ω"
+PART_SPEC = FieldSpec("As-built part value", "Ω", MIN_OHMS, MAX_OHMS)
+"""What an as-built ``parts`` value accepts."""
+
+PARTS_ALLOWED = PART_SPEC.describe()
 """The allowed range of an as-built ``parts`` value, in words."""
 
 FIELDS: dict[str, FieldSpec] = {
     "bits": FieldSpec("Resolution", "bits", 1, MAX_BITS, integer=True),
     "vref": FieldSpec("Reference voltage", "V", -1000.0, 1000.0, min_abs=1e-6),
     "unit_r": FieldSpec("Unit resistor R", "Ω", MIN_OHMS, MAX_OHMS),
-    "ron_high": FieldSpec("Switch resistance, bit = 1", "Ω", MIN_OHMS, 1e9, zero_ok=True),
-    "ron_low": FieldSpec("Switch resistance, bit = 0", "Ω", MIN_OHMS, 1e9, zero_ok=True),
-    "ref_r": FieldSpec("Reference output resistance", "Ω", MIN_OHMS, 1e9, zero_ok=True),
+    "ron_high": FieldSpec("Switch resistance, bit = 1", "Ω", MIN_OHMS, 1e9, zero_ok="ideal"),
+    "ron_low": FieldSpec("Switch resistance, bit = 0", "Ω", MIN_OHMS, 1e9, zero_ok="ideal"),
+    "ref_r": FieldSpec("Reference output resistance", "Ω", MIN_OHMS, 1e9, zero_ok="ideal"),
     "load_r": FieldSpec("Load resistance", "Ω", MIN_OHMS, 1e15, allow_inf=True),
     "gain": FieldSpec("Buffer gain", "V/V", -1e6, 1e6, min_abs=1e-3),
     "feedback_r": FieldSpec("Feedback resistor", "Ω", MIN_OHMS, MAX_OHMS, optional=True),
-    "load_c": FieldSpec("Load capacitance", "F", 0.0, 1.0),
+    "load_c": FieldSpec("Load capacitance", "F", 1e-15, 1.0, zero_ok="none"),
     "temperature_c": FieldSpec("Temperature", "°C", -273.15, 1000.0, low_open=True),
     "bandwidth": FieldSpec("Noise bandwidth", "Hz", 1e-3, 1e12),
     "thermometer_bits": FieldSpec("Segmented (thermometer) bits", "bits", 0, MAX_ARRAY_BITS,
@@ -93,37 +56,8 @@ FIELDS: dict[str, FieldSpec] = {
 """Numeric design fields with their display label, SI unit and allowed range."""
 
 
-def _parse(value: Any, field: str, allowed: str) -> float:
-    """``parse_value`` whose refusal also states the allowed range."""
-    try:
-        return parse_value(value, field)
-    except DesignError as exc:
-        raise DesignError(field, f"{exc.reason}; allowed: {allowed}") from None
-
-
-def _check_number(key: str, value: Any) -> float | None:
-    spec = FIELDS[key]
-    if value is None or (isinstance(value, str) and value.strip() in {"", "default"}):
-        if spec.optional:
-            return None
-        raise DesignError(key, f"a value is required: {spec.describe()}")
-    x = _parse(value, key, spec.describe())
-    if math.isnan(x):
-        raise DesignError(key, f"not a number; allowed: {spec.describe()}")
-    if math.isinf(x):
-        if spec.allow_inf and x > 0:
-            return math.inf
-        raise DesignError(key, f"must be finite; allowed: {spec.describe()}")
-    if spec.integer and x != int(x):
-        raise DesignError(key, f"{x:g} is not a whole number; allowed: {spec.describe()}")
-    if spec.min_abs and x == 0:
-        raise DesignError(key, f"must not be zero; allowed: {spec.describe()}")
-    if spec.zero_ok and x == 0:
-        return 0.0
-    too_low = x <= spec.low if spec.low_open else x < spec.low
-    if too_low or x > spec.high or abs(x) < spec.min_abs:
-        raise DesignError(key, f"{x:g} is out of range; allowed: {spec.describe()}")
-    return int(x) if spec.integer else x
+def _check_number(key: str, value: Any) -> float | int | None:
+    return FIELDS[key].check(key, value)
 
 
 DEFAULT_THERMOMETER_BITS = 3
@@ -237,10 +171,7 @@ class Design:
         if not isinstance(self.parts, Mapping):
             raise DesignError("parts", "must map part ids to ohms, e.g. {leg0 = 20.1e3}")
         for pid, ohms in self.parts.items():
-            x = _parse(ohms, f"parts.{pid}", PARTS_ALLOWED)
-            if not (math.isfinite(x) and MIN_OHMS <= x <= MAX_OHMS):
-                raise DesignError(f"parts.{pid}", f"{x:g} is out of range; allowed: {PARTS_ALLOWED}")
-            parts[str(pid)] = x
+            parts[str(pid)] = PART_SPEC.check(f"parts.{pid}", ohms)
         if parts:
             known = part_ids(self.topology, self.output, self.bits, self.thermometer_bits,
                              self.build)

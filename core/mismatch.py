@@ -37,7 +37,7 @@ from .build_style import unit_ohms
 from .errors import DesignError
 from .network import Network, PartArray, PartList
 from .part_ids import part_ids
-from .units import parse_value
+from .ranges import FRACTION, FieldSpec
 
 MismatchModelName = Literal["parts", "on-chip", "array"]
 """Where the random errors come from: discrete parts, an on-chip area law, a matched array."""
@@ -46,33 +46,15 @@ Distribution = Literal["gaussian", "uniform"]
 """Shape of a tolerance grade's errors (the first is the default)."""
 
 
-@dataclass(frozen=True)
-class SettingSpec:
-    """One numeric ``mismatch`` key: label, unit, default and inclusive range."""
-
-    label: str
-    unit: str
-    default: float
-    low: float
-    high: float
-    low_open: bool = False
-
-    def describe(self) -> str:
-        """The allowed range in words."""
-        u = f" {self.unit}" if self.unit else ""
-        low = f"> {self.low:g}{u}" if self.low_open else f"≥ {self.low:g}{u}"
-        return f"{low} and ≤ {self.high:g}{u}"
-
-
-NUMERIC_SETTINGS: dict[str, SettingSpec] = {
-    "tolerance": SettingSpec("Tolerance (± fraction)", "", 0.01, 0.0, 0.5),
-    "coverage_sigma": SettingSpec("Tolerance covers ± this many σ", "σ", 3.0, 0.5, 10.0),
-    "shared_tolerance": SettingSpec("Shared array tolerance (± fraction)", "", 0.0, 0.0, 0.5),
-    "area_coefficient": SettingSpec("Area coefficient A_R", "fraction·m", 1e-8, 0.0, 1e-5),
-    "unit_width": SettingSpec("Width W of a unit_r device", "m", 2e-6, 1e-9, 1e-2),
-    "unit_length": SettingSpec("Length L of a unit_r device", "m", 20e-6, 1e-9, 1e-2),
-    "tempco": SettingSpec("Temperature coefficient, every part", "1/K", 0.0, -0.01, 0.01),
-    "reference_c": SettingSpec("Reference temperature", "°C", 25.0, -273.15, 1000.0),
+NUMERIC_SETTINGS: dict[str, FieldSpec] = {
+    "tolerance": FieldSpec("Tolerance (±)", FRACTION, 0.0, 0.5, default=0.01),
+    "coverage_sigma": FieldSpec("Tolerance covers ± this many σ", "σ", 0.5, 10.0, default=3.0),
+    "shared_tolerance": FieldSpec("Shared array tolerance (±)", FRACTION, 0.0, 0.5, default=0.0),
+    "area_coefficient": FieldSpec("Area coefficient A_R", "fraction·m", 0.0, 1e-5, default=1e-8),
+    "unit_width": FieldSpec("Width W of a unit_r device", "m", 1e-9, 1e-2, default=2e-6),
+    "unit_length": FieldSpec("Length L of a unit_r device", "m", 1e-9, 1e-2, default=20e-6),
+    "tempco": FieldSpec("Temperature coefficient, every part", "1/K", -0.01, 0.01, default=0.0),
+    "reference_c": FieldSpec("Reference temperature", "°C", -273.15, 1000.0, default=25.0),
 }
 """Numeric ``mismatch`` keys with label, SI unit, default and allowed range."""
 
@@ -84,16 +66,6 @@ CHOICE_SETTINGS: dict[str, tuple[str, ...]] = {
 
 MISMATCH_KEYS = (*CHOICE_SETTINGS, *NUMERIC_SETTINGS, "tempco_parts")
 """Every key the ``mismatch`` table accepts."""
-
-
-def _number(key: str, value: Any, spec: SettingSpec) -> float:
-    x = parse_value(value, key)
-    if not math.isfinite(x):
-        raise DesignError(key, f"must be a finite number; allowed: {spec.describe()}")
-    too_low = x <= spec.low if spec.low_open else x < spec.low
-    if too_low or x > spec.high:
-        raise DesignError(key, f"{x:g} is out of range; allowed: {spec.describe()}")
-    return x
 
 
 def check_mismatch(data: Mapping[str, Any], design: Any) -> dict[str, Any]:
@@ -115,7 +87,7 @@ def check_mismatch(data: Mapping[str, Any], design: Any) -> dict[str, Any]:
                                   + ", ".join(CHOICE_SETTINGS[key]))
             out[key] = str(value)
         elif key in NUMERIC_SETTINGS:
-            out[key] = _number(name, value, NUMERIC_SETTINGS[key])
+            out[key] = NUMERIC_SETTINGS[key].check(name, value)
         elif key == "tempco_parts":
             out[key] = _check_tempcos(value, design)
         else:
@@ -134,7 +106,7 @@ def _check_tempcos(value: Any, design: Any) -> dict[str, float]:
         name = f"mismatch.tempco_parts.{pid}"
         if pid not in known:
             raise DesignError(name, f"unknown part id for {design.topology} with {design.bits} bits")
-        out[str(pid)] = _number(name, alpha, spec)
+        out[str(pid)] = spec.check(name, alpha)
     return out
 
 

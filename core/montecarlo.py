@@ -30,7 +30,7 @@ from .mismatch import MismatchModel, sample_ohms
 from .network import Network, PartList
 from .solve import CHUNK_ELEMENTS, solve
 from .stats_result import MonteCarloResult
-from .targets import MAX_SEED, MAX_TRIALS, Targets
+from .targets import RUN_SPECS, Targets
 from .topologies import build
 
 Engine = Literal["auto", "exact", "general"]
@@ -113,13 +113,10 @@ def check_run(trials: Any, seed: Any) -> tuple[int, int]:
     DesignError
         ``trials`` outside 1 … ``MAX_TRIALS`` or ``seed`` not a whole number in 0 … 2^63 − 1.
     """
-    if isinstance(trials, bool) or not isinstance(trials, int | np.integer) or not (
-            1 <= trials <= MAX_TRIALS):
-        raise DesignError("trials", f"{trials!r} is not allowed; a whole number from 1 to {MAX_TRIALS}")
+    trials = RUN_SPECS["trials"].check("trials", trials)
     if seed is None:
         seed = secrets.randbelow(2**32)
-    if isinstance(seed, bool) or not isinstance(seed, int | np.integer) or not (0 <= seed <= MAX_SEED):
-        raise DesignError("seed", f"{seed!r} is not allowed; a whole number from 0 to {MAX_SEED}")
+    seed = RUN_SPECS["seed"].check("seed", seed)
     return int(trials), int(seed)
 
 

@@ -6,12 +6,12 @@ from them); ``AnalysisSettings`` holds the trial count and seed so a statistics 
 
 from __future__ import annotations
 
-import math
 from collections.abc import Mapping
 from dataclasses import asdict, dataclass
 from typing import Any, Literal, get_args
 
 from .errors import DesignError
+from .ranges import FRACTION, FieldSpec
 
 InlLine = Literal["endpoint", "bestfit"]
 """Which reference line the INL target uses (IEEE Std 1241 terms: terminal-based or least squares)."""
@@ -25,22 +25,18 @@ MAX_TRIALS = 10_000_000
 """Largest Monte Carlo trial count accepted."""
 
 
-def _number(section: str, key: str, value: Any, low: float, high: float) -> float:
-    if isinstance(value, bool) or not isinstance(value, int | float):
-        raise DesignError(f"{section}.{key}", f"expected a number, got {value!r}")
-    x = float(value)
-    if not (math.isfinite(x) and low <= x <= high):
-        raise DesignError(f"{section}.{key}", f"{value!r} is out of range; allowed: {low:g} … {high:g}")
-    return x
+TARGET_SPECS: dict[str, FieldSpec] = {
+    "max_inl_lsb": FieldSpec("Largest |INL|", "LSB", 0.0, 1e9, default=0.5),
+    "max_dnl_lsb": FieldSpec("Largest |DNL|", "LSB", 0.0, 1e9, default=0.5),
+    "min_yield": FieldSpec("Smallest yield", FRACTION, 0.0, 1.0, default=0.99),
+}
+"""Numeric review targets."""
 
-
-def _whole(section: str, key: str, value: Any, low: int, high: int) -> int:
-    if isinstance(value, bool) or not isinstance(value, int):
-        raise DesignError(f"{section}.{key}", f"expected a whole number from {low} to {high}, got "
-                          f"{value!r}")
-    if not low <= value <= high:
-        raise DesignError(f"{section}.{key}", f"{value} is out of range; allowed: {low} … {high}")
-    return value
+RUN_SPECS: dict[str, FieldSpec] = {
+    "trials": FieldSpec("Monte Carlo trials", "", 1, MAX_TRIALS, default=1000, integer=True),
+    "seed": FieldSpec("Random seed", "", 0, MAX_SEED, default=1, integer=True),
+}
+"""How a statistics run is set up."""
 
 
 def _check_keys(section: str, data: Mapping[str, Any], known: tuple[str, ...]) -> None:
@@ -78,11 +74,9 @@ class Targets:
         """Validated targets from a file table; bad values raise ``DesignError("targets.key", …)``."""
         _check_keys(section, data, tuple(f for f in asdict(cls())))
         out: dict[str, Any] = {}
-        for key in ("max_inl_lsb", "max_dnl_lsb"):
+        for key, spec in TARGET_SPECS.items():
             if key in data:
-                out[key] = _number(section, key, data[key], 0.0, 1e9)
-        if "min_yield" in data:
-            out["min_yield"] = _number(section, "min_yield", data["min_yield"], 0.0, 1.0)
+                out[key] = spec.check(f"{section}.{key}", data[key])
         if "monotonic" in data:
             if not isinstance(data["monotonic"], bool):
                 raise DesignError(f"{section}.monotonic", f"expected true or false, got "
@@ -112,10 +106,9 @@ class AnalysisSettings:
         """Validated settings from a file table."""
         _check_keys(section, data, ("trials", "seed"))
         out: dict[str, Any] = {}
-        if "trials" in data:
-            out["trials"] = _whole(section, "trials", data["trials"], 1, MAX_TRIALS)
-        if "seed" in data:
-            out["seed"] = _whole(section, "seed", data["seed"], 0, MAX_SEED)
+        for key, spec in RUN_SPECS.items():
+            if key in data:
+                out[key] = spec.check(f"{section}.{key}", data[key])
         return cls(**out)
 
     def to_dict(self) -> dict[str, Any]:

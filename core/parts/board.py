@@ -23,37 +23,27 @@ from __future__ import annotations
 
 import math
 from collections.abc import Mapping
-from dataclasses import dataclass
 from typing import Any
 
 from ..errors import DesignError
-from ..units import parse_value
+from ..ranges import FRACTION, FieldSpec
 
-
-@dataclass(frozen=True)
-class BoardSpec:
-    """One ``board`` key: label, unit, default and inclusive range (``inf`` allowed if ``open``)."""
-
-    label: str
-    unit: str
-    default: float
-    low: float
-    high: float
-    open_ok: bool = False
-    integer: bool = False
-
-
-BOARD_KEYS: dict[str, BoardSpec] = {
-    "power_rating": BoardSpec("Resistor power rating", "W", 0.1, 1e-4, 1e4),
-    "derating": BoardSpec("Allowed fraction of the rating", "", 0.5, 0.01, 1.0),
-    "switch_limit": BoardSpec("Switch / pin current limit", "A", math.inf, 1e-9, 1e3, open_ok=True),
-    "array_size": BoardSpec("Elements per matched array (0 = discrete)", "", 0, 0, 64, integer=True),
-    "temp_low_c": BoardSpec("Temperature range, low end", "°C", 0.0, -273.15, 1000.0),
-    "temp_high_c": BoardSpec("Temperature range, high end", "°C", 70.0, -273.15, 1000.0),
-    "amp_offset": BoardSpec("Amplifier input offset", "V", 0.0, -1.0, 1.0),
-    "amp_open_loop": BoardSpec("Amplifier open-loop gain", "V/V", math.inf, 1.0, 1e12, open_ok=True),
-    "rail_low": BoardSpec("Amplifier output, lowest", "V", -math.inf, -1e4, 1e4, open_ok=True),
-    "rail_high": BoardSpec("Amplifier output, highest", "V", math.inf, -1e4, 1e4, open_ok=True),
+BOARD_KEYS: dict[str, FieldSpec] = {
+    "power_rating": FieldSpec("Resistor power rating", "W", 1e-4, 1e4, default=0.1),
+    "derating": FieldSpec("Allowed share of the rating", FRACTION, 0.01, 1.0, default=0.5),
+    "switch_limit": FieldSpec("Switch / pin current limit", "A", 1e-9, 1e3, default=math.inf,
+                              allow_inf=True),
+    "array_size": FieldSpec("Elements per matched array (0 = discrete)", "", 0, 64, default=0,
+                            integer=True),
+    "temp_low_c": FieldSpec("Temperature range, low end", "°C", -273.15, 1000.0, default=0.0),
+    "temp_high_c": FieldSpec("Temperature range, high end", "°C", -273.15, 1000.0, default=70.0),
+    "amp_offset": FieldSpec("Amplifier input offset", "V", -1.0, 1.0, default=0.0),
+    "amp_open_loop": FieldSpec("Amplifier open-loop gain", "V/V", 1.0, 1e12, default=math.inf,
+                               allow_inf=True),
+    "rail_low": FieldSpec("Amplifier output, lowest", "V", -1e4, 1e4, default=-math.inf,
+                          allow_inf=True, open_value=-math.inf),
+    "rail_high": FieldSpec("Amplifier output, highest", "V", -1e4, 1e4, default=math.inf,
+                           allow_inf=True),
 }
 """Every ``board`` key with label, SI unit, default and allowed range."""
 
@@ -74,18 +64,7 @@ def check_board(data: Mapping[str, Any]) -> dict[str, float]:
         spec = BOARD_KEYS.get(key)
         if spec is None:
             raise DesignError(name, "unknown board key; known keys: " + ", ".join(BOARD_KEYS))
-        x = parse_value(value, name)
-        allowed = f"{spec.low:g} … {spec.high:g} {spec.unit}".rstrip() + (
-            " (or 'open')" if spec.open_ok else "")
-        if math.isnan(x) or (math.isinf(x) and not spec.open_ok):
-            raise DesignError(name, f"must be a finite number; allowed: {allowed}")
-        if math.isfinite(x) and not spec.low <= x <= spec.high:
-            raise DesignError(name, f"{x:g} is out of range; allowed: {allowed}")
-        if spec.integer and x != int(x):
-            raise DesignError(name, f"{x:g} is not a whole number; allowed: {allowed}")
-        if math.isinf(x) and key == "rail_low":
-            x = -math.inf
-        out[str(key)] = int(x) if spec.integer else x
+        out[str(key)] = spec.check(name, value)
     lo = out.get("temp_low_c", BOARD_KEYS["temp_low_c"].default)
     hi = out.get("temp_high_c", BOARD_KEYS["temp_high_c"].default)
     if lo > hi:

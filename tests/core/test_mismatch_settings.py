@@ -11,8 +11,8 @@ from rungwise.core.topologies import build
 
 
 @pytest.mark.parametrize(("table", "value", "field", "words"), [
-    ("mismatch", {"tolerance": 0.7}, "mismatch.tolerance", "≤ 0.5"),
-    ("mismatch", {"tolerance": -0.01}, "mismatch.tolerance", "≥ 0"),
+    ("mismatch", {"tolerance": 0.7}, "mismatch.tolerance", "a fraction from 0 to 0.5 (0 % to 50 %)"),
+    ("mismatch", {"tolerance": -0.01}, "mismatch.tolerance", "-0.01 (-1 %) is out of range"),
     ("mismatch", {"coverage_sigma": 0}, "mismatch.coverage_sigma", "≥ 0.5 σ"),
     ("mismatch", {"distribution": "normal"}, "mismatch.distribution", "uniform"),
     ("mismatch", {"model": "chip"}, "mismatch.model", "on-chip"),

@@ -53,7 +53,7 @@ def _board_value(spec) -> st.SearchStrategy[float]:
     if spec.integer:
         return st.integers(int(spec.low), int(spec.high)).map(float)
     values = in_range(spec.low, spec.high) if spec.low >= 0 else st.floats(spec.low, spec.high)
-    return st.one_of(values, st.just(spec.default)) if spec.open_ok else values
+    return st.one_of(values, st.just(spec.default)) if spec.allow_inf else values
 
 
 @st.composite
