@@ -563,15 +563,21 @@ def _virtual_ground_output(st: _Stamps, cols, voltage: _NodeVoltages, shape):
 
 
 def _reference_current(st: _Stamps, cols, voltage: _NodeVoltages) -> np.ndarray:
-    """Current the source node delivers: the sum over every element touching it."""
+    """Current the source node delivers: the sum over every element touching it — or, when the
+    source feeds one node through ``ref_r`` only, the sum of the currents leaving that node
+    (KCL there keeps its digits where (vsrc − v)/ref_r over a sub-ohm ``ref_r`` would not)."""
     source = st.net.source
+    feed = _fed_node(st.net)
     iref = np.zeros(())
+    leaving_feed = np.zeros(())
     for na, nb, g in _elements(st, cols):
-        if source == na:
-            iref = iref + (voltage(na) - voltage(nb)) * g
-        elif source == nb:
-            iref = iref - (voltage(na) - voltage(nb)) * g
-    return iref
+        if source in (na, nb):
+            iref = iref + (voltage(na) - voltage(nb)) * g * (1 if source == na else -1)
+            if feed not in (na, nb):
+                feed = None  # the source also drives something else: no single node to sum at
+        elif feed in (na, nb):
+            leaving_feed = leaving_feed + (voltage(na) - voltage(nb)) * g * (1 if feed == na else -1)
+    return leaving_feed if feed is not None else iref
 
 
 def _finish(st: _Stamps, cols, volts, shape, keep_nodes, use_super, vout_only=False) -> Solution:
@@ -599,6 +605,18 @@ def _finish(st: _Stamps, cols, volts, shape, keep_nodes, use_super, vout_only=Fa
         method="superposition" if use_super else "general",
         node_voltages=nodes,
     )
+
+
+def _fed_node(net: Network) -> str | None:
+    """The one solved node the reference source reaches through resistors only (its ``ref_r``),
+    or None (no ``ref_r``, a leg on the source, or the node is the loaded output)."""
+    if any(net.source in (leg.high, leg.low) for leg in net.legs):
+        return None
+    others = {r.b if r.a == net.source else r.a for r in net.resistors if net.source in (r.a, r.b)}
+    if len(others) != 1:
+        return None
+    (node,) = others
+    return None if node in net.fixed or node == net.output.node else node
 
 
 def _elements(st: _Stamps, cols):

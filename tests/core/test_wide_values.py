@@ -89,3 +89,26 @@ def test_parts_spanning_the_whole_range_give_finite_figures(design):
     assert np.all(np.isfinite(ev.vout))
     assert np.isfinite(ev.summary["power_total_max"])
     assert ev.summary["power_total_max"] > 0
+
+
+SUB_OHM_REFERENCE = [
+    Design(topology="r2r-voltage", bits=6, unit_r=10e3, ref_r=1e-3, ron_high=5, ron_low=3),
+    Design(topology="r2r-current", bits=6, unit_r=10e3, ref_r=2e-3),
+    Design(topology="binary-weighted", bits=5, unit_r=1e3, ref_r=1e-3, ron_high=1, ron_low=2),
+    Design(topology="string", bits=4, unit_r=1e3, ref_r=1e-3, ron_high=3),
+    Design(topology="segmented", bits=6, thermometer_bits=2, unit_r=1e4, ref_r=1e-3, ron_high=2),
+]
+
+
+@pytest.mark.parametrize("design", SUB_OHM_REFERENCE, ids=lambda d: d.topology)
+@pytest.mark.parametrize("method", ["general", "auto"])
+def test_reference_current_through_a_sub_ohm_ref_r_keeps_its_digits(design, method):
+    # exact: the current through ref_r from the exact node voltages (KCL, common practice);
+    # the drop across 1 mΩ is 1e-7 of vref, so (vsrc − v)/ref_r in floats would keep 9 digits
+    net = plain_equivalent(build(design))
+    sol = solve(net, method=method)
+    (ref,) = [r for r in net.resistors if r.role == "reference"]
+    for code in range(net.n_codes):
+        exact = _exact_node_voltages(net, code)
+        want = float((exact[ref.a] - exact[ref.b]) / Fraction(ref.ohms))
+        assert float(sol.iref[code]) == pytest.approx(want, rel=1e-13), code
