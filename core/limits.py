@@ -9,6 +9,7 @@ INL/DNL, part powers) and the solver's working arrays at once; measured peak use
 from __future__ import annotations
 
 import os
+import sys
 
 from .errors import DesignError
 
@@ -23,11 +24,35 @@ FALLBACK_MEMORY = 8 * 2**30
 
 
 def machine_memory() -> int:
-    """Physical memory of this machine, bytes (``FALLBACK_MEMORY`` when unknown)."""
+    """Physical memory of this machine, bytes: ``sysconf`` on Linux and macOS, the Win32
+    ``GlobalMemoryStatusEx`` on Windows, ``FALLBACK_MEMORY`` when neither answers."""
     try:
         return int(os.sysconf("SC_PAGE_SIZE")) * int(os.sysconf("SC_PHYS_PAGES"))
     except (AttributeError, ValueError, OSError):
-        return FALLBACK_MEMORY
+        pass
+    return _windows_memory() or FALLBACK_MEMORY
+
+
+def _windows_memory() -> int | None:
+    """Total physical memory from Windows, bytes; None elsewhere or on failure."""
+    if sys.platform != "win32":
+        return None
+    import ctypes
+
+    class _Status(ctypes.Structure):
+        _fields_ = [("length", ctypes.c_ulong), ("load", ctypes.c_ulong),
+                    ("total_phys", ctypes.c_ulonglong), ("avail_phys", ctypes.c_ulonglong),
+                    ("total_page", ctypes.c_ulonglong), ("avail_page", ctypes.c_ulonglong),
+                    ("total_virtual", ctypes.c_ulonglong), ("avail_virtual", ctypes.c_ulonglong),
+                    ("avail_extended", ctypes.c_ulonglong)]
+
+    status = _Status()
+    status.length = ctypes.sizeof(_Status)
+    try:
+        ok = ctypes.windll.kernel32.GlobalMemoryStatusEx(ctypes.byref(status))  # type: ignore[attr-defined]
+    except (AttributeError, OSError):
+        return None
+    return int(status.total_phys) if ok and status.total_phys else None
 
 
 def _gb(n: float) -> str:

@@ -83,3 +83,15 @@ def test_exact_batches_shrink_with_the_work_of_a_trial():
         per_trial = (bits + 1) * work_nodes(build(design))
         assert plan.batch_trials == min(EXACT_BATCH_TRIALS, EXACT_BATCH_WORK // per_trial)
     assert plan.batch_trials * per_trial <= EXACT_BATCH_WORK
+
+
+def test_memory_falls_back_where_sysconf_does_not_answer(monkeypatch):
+    import os
+    import sys
+
+    assert limits.machine_memory() > 2**28  # this machine answers (Linux: sysconf)
+    monkeypatch.delattr(os, "sysconf")  # as on Windows
+    monkeypatch.setattr(sys, "platform", "linux")
+    assert limits.machine_memory() == limits.FALLBACK_MEMORY
+    monkeypatch.setattr(sys, "platform", "win32")  # the Win32 call is absent here: still a figure
+    assert limits.machine_memory() == limits.FALLBACK_MEMORY
