@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import dataclasses
 import math
+import re
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 from types import MappingProxyType
@@ -230,6 +231,9 @@ class Design:
                 n = None  # the new design reports it
             if n is not None:
                 data["thermometer_bits"] = min(int(data["thermometer_bits"]), int(n))
+        if {"topology", "output"} & set(changes) and "name" not in changes and (
+                self.named_after_network):
+            data["name"] = ""  # the program's name follows the network; a typed one stays
         data.update(changes)
         return Design.from_dict(data)
 
@@ -264,6 +268,14 @@ class Design:
     def label(self) -> str:
         """The name shown for this candidate."""
         return self.name or network_name(self.topology, self.output)
+
+    @property
+    def named_after_network(self) -> bool:
+        """Whether the name is the program's: empty, or its network's name (a number may follow
+        to tell two apart, ``… 2``). Such a name follows the network when it changes."""
+        autos = (network_name(self.topology, self.output), f"{self.topology} ({self.output})")
+        return not self.name or any(re.fullmatch(re.escape(a) + r"( \d+)?", self.name)
+                                    for a in autos)
 
 
 def _id_summary(ids: list[str]) -> str:

@@ -103,3 +103,20 @@ def test_a_file_from_before_the_ranges_were_narrowed_is_refused_by_key_or_loads(
         designfile.loads(old.format(vref=3.3, unit_r=1e3))
     good = designfile.loads(old.format(vref=3.3, unit_r=1e3).replace("1e-9", "1e-3"))
     assert good.candidates[0].ron_high == 1e-3
+
+
+def test_a_name_the_program_gave_follows_the_network_and_a_typed_one_stays():
+    unnamed = Design(topology="binary-weighted", bits=6)
+    assert unnamed.label == "binary-weighted (divider)"
+    assert unnamed.replace(topology="segmented").label == "segmented (unbuffered)"
+    given = unnamed.replace(name="binary-weighted (divider) 2")
+    assert given.named_after_network
+    moved = given.replace(topology="segmented")
+    assert moved.name == ""
+    assert moved.label == "segmented (unbuffered)"
+    assert given.replace(output="summing-amp").label == "binary-weighted (summing-amp)"
+    typed = unnamed.replace(name="Bias trim, rev C")
+    assert not typed.named_after_network
+    assert typed.replace(topology="string").label == "Bias trim, rev C"
+    assert typed.replace(bits=8).label == "Bias trim, rev C"
+    assert given.replace(bits=8).name == "binary-weighted (divider) 2"  # not a network change
