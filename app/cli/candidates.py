@@ -43,7 +43,15 @@ def load_document(path: str | None) -> DesignFile:
 def apply_choices(base: list[Design], settings: dict[str, str], topologies: list[str] | None
                   ) -> list[Design]:
     """Apply ``--set`` to every candidate; ``--topology T[:OUTPUT]`` replaces the candidate list
-    with one candidate per choice built from the first candidate's values."""
+    with one candidate per choice built from the first candidate's values, named after its
+    network. ``--set topology=`` / ``output=`` are refused: a candidate's name must not
+    contradict its network, so the network is chosen with ``--topology``."""
+    for key in ("topology", "output"):
+        if key in settings:
+            raise DesignError(key, f"--set cannot change a candidate's network (its name would "
+                              f"no longer match); use --topology TOPOLOGY[:OUTPUT], e.g. "
+                              f"--topology {settings[key] if key == 'topology' else 'r2r-voltage'}"
+                              + ("" if key == "topology" else f":{settings[key]}"))
     if topologies:
         first = base[0]
         chosen = []

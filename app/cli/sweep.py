@@ -10,13 +10,17 @@ import json
 import sys
 from pathlib import Path
 
+from rungwise.core.mismatch import NUMERIC_SETTINGS
+from rungwise.core.ranges import FRACTION, FieldSpec
 from rungwise.core.sweep import SWEEP_KEYS, SweepResult, SweepStatistics, iter_sweep, sweep_values
 from rungwise.core.sweep_answer import answer_lines
-from rungwise.core.units import parse_value
 
 from .candidates import apply_choices, load_candidates, parse_settings
 from .compute import _plain
 from .progress import StderrProgress
+
+TARGET_YIELD = FieldSpec("Target yield", FRACTION, 0.0, 1.0, low_open=True)
+"""What ``--target-yield`` accepts."""
 
 NAME = "sweep"
 HELP = ("Sweep the bit count N or a segmented design's thermometer bits M and write every figure "
@@ -80,19 +84,10 @@ def run(args: argparse.Namespace) -> int:
     if args.tolerance is not None:
         from rungwise.core.montecarlo import check_run
 
-        tol = parse_value(args.tolerance, "tolerance")
-        if not 0 <= tol <= 0.5:
-            from rungwise.core.errors import DesignError
-
-            raise DesignError("tolerance", f"{tol:g} is out of range; allowed: 0 … 0.5 (50 %)")
+        tol = NUMERIC_SETTINGS["tolerance"].check("tolerance", args.tolerance)
         trials, seed = check_run(args.trials, args.seed)
         stats = SweepStatistics(tol, trials, seed)
-        target = parse_value(args.target_yield, "target-yield")
-        if not 0 < target <= 1:
-            from rungwise.core.errors import DesignError
-
-            raise DesignError("target-yield", f"{args.target_yield} is out of range; allowed: "
-                              "above 0 and at most 100 %")
+        target = TARGET_YIELD.check("target-yield", args.target_yield)
     total = len(designs) * len(values)
     with StderrProgress() as progress:
         for result in iter_sweep(designs, args.over, values, stats):

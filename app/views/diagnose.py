@@ -24,7 +24,6 @@ from PySide6.QtWidgets import (
     QLabel,
     QPushButton,
     QSizePolicy,
-    QSpinBox,
     QSplitter,
     QTableWidget,
     QTableWidgetItem,
@@ -50,6 +49,7 @@ from rungwise.core.formatting import format_percent, format_quantity, yes_no
 
 from ..jobs.workers import JobRunner
 from ..plots.theme import follow_palette
+from ..window.number_box import NumberBox
 from .diagnose_repair import RepairPanel
 
 CHANNEL = "diagnose"
@@ -178,7 +178,7 @@ class DiagnosePane(QWidget):
         self.check_absolute.setToolTip("Calibrated meter and reference: blame offset and gain "
                                        "errors on parts too")
         self.check_absolute.toggled.connect(self._recompute)
-        self.spin_levels = QSpinBox()
+        self.spin_levels = NumberBox(label="Levels")
         self.spin_levels.setObjectName("spin_levels")
         self.spin_levels.setRange(0, 1 << 24)
         self.spin_levels.setSpecialValueText("one per code")

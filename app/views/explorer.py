@@ -14,13 +14,11 @@ from PySide6.QtCore import Signal
 from PySide6.QtWidgets import (
     QCheckBox,
     QComboBox,
-    QDoubleSpinBox,
     QFormLayout,
     QHBoxLayout,
     QLabel,
     QProgressBar,
     QPushButton,
-    QSpinBox,
     QVBoxLayout,
     QWidget,
 )
@@ -43,6 +41,7 @@ from rungwise.core.types import MAX_ARRAY_BITS
 
 from ..jobs.workers import Progress, runner_for
 from ..plots.theme import candidate_colour, follow_palette
+from ..window.number_box import DecimalBox, NumberBox
 
 CHANNEL = "explorer"
 """JobRunner channel of this view."""
@@ -125,8 +124,10 @@ class ExplorerPane(QWidget):
         for key, label in OVER.items():
             self.combo_over.addItem(label, key)
         self.combo_over.currentIndexChanged.connect(self._over_changed)
-        self.spin_from = QSpinBox(objectName="spin_from", minimum=0, maximum=MAX_ARRAY_BITS, value=4)
-        self.spin_to = QSpinBox(objectName="spin_to", minimum=0, maximum=MAX_ARRAY_BITS, value=12)
+        self.spin_from = NumberBox(objectName="spin_from", minimum=0, maximum=MAX_ARRAY_BITS, value=4,
+                                   label="From")
+        self.spin_to = NumberBox(objectName="spin_to", minimum=0, maximum=MAX_ARRAY_BITS, value=12,
+                                 label="To")
         span = QHBoxLayout()
         span.addWidget(self.spin_from)
         span.addWidget(QLabel("to"))
@@ -137,11 +138,13 @@ class ExplorerPane(QWidget):
         for g in STANDARD_GRADES:
             self.combo_grade.addItem(f"±{format_percent(g)}", g)
         self.combo_grade.setCurrentIndex(self.combo_grade.findData(0.001))
-        self.spin_trials = QSpinBox(objectName="spin_trials", minimum=10, maximum=100_000, value=500,
-                                    singleStep=100)
-        self.spin_seed = QSpinBox(objectName="spin_seed", minimum=0, maximum=2**31 - 1, value=1)
-        self.spin_target = QDoubleSpinBox(objectName="spin_target", minimum=50.0, maximum=99.99,
-                                          decimals=2, value=99.0, suffix=" %", singleStep=0.5)
+        self.spin_trials = NumberBox(objectName="spin_trials", minimum=10, maximum=100_000, value=500,
+                                     singleStep=100, label="Boards per point")
+        self.spin_seed = NumberBox(objectName="spin_seed", minimum=0, maximum=2**31 - 1, value=1,
+                                   label="Seed")
+        self.spin_target = DecimalBox(objectName="spin_target", minimum=50.0, maximum=99.99,
+                                      decimals=2, value=99.0, suffix=" %", singleStep=0.5,
+                                      label="Target yield", unit="%")
         self.spin_target.setToolTip("Monotonic-board yield each candidate should reach; the line "
                                     "under Run says where it first does and at what part count.")
         self.spin_target.valueChanged.connect(self._update_answer)
@@ -182,7 +185,8 @@ class ExplorerPane(QWidget):
         self.label_rule = QLabel(f"Segmented sizing: {SIZING_RULE}; with a {UNIT_SIZING_RULE}.",
                                  objectName="label_rule", wordWrap=True)
         self.combo_candidate = QComboBox(objectName="combo_candidate")
-        self.spin_value = QSpinBox(objectName="spin_value", minimum=0, maximum=MAX_ARRAY_BITS)
+        self.spin_value = NumberBox(objectName="spin_value", minimum=0, maximum=MAX_ARRAY_BITS,
+                                    label="Point")
         self.button_add = QPushButton("Add as candidate", objectName="button_add")
         self.button_add.clicked.connect(self.add_point)
         pick = QHBoxLayout()

@@ -8,6 +8,7 @@ runs on ``workers.JobRunner`` channels ``parts`` and ``suggest``.
 
 from __future__ import annotations
 
+import re
 from pathlib import Path
 
 from PySide6.QtCore import Qt, Signal
@@ -168,16 +169,19 @@ class PartsPane(QWidget):
         span.addStretch(1)
 
     def _drift_choices(self) -> tuple[dict[str, float], float | None, float | None]:
-        """Typed coefficients (1/K; a bare number is ppm/K) and range ends (°C, None = design's)."""
-        from rungwise.core.units import parse_value
+        """Typed coefficients (1/K; a bare number is ppm/K) and range ends (°C, None = design's),
+        each checked by its field's range."""
+        from rungwise.core.mismatch import NUMERIC_SETTINGS
+        from rungwise.core.parts.board import BOARD_KEYS
 
         tcs = {}
         for role, edit in self.tempco_edits.items():
             text = edit.text().strip()
             if text:
-                tcs[role] = (parse_value(text, f"tempco of {role}") if "ppm" in text or "e" in text
-                             else float(parse_value(text, f"tempco of {role}")) * 1e-6)
-        ends = [parse_value(e.text(), name) if e.text().strip() else None
+                plain = re.fullmatch(r"[+-]?(\d+\.?\d*|\.\d+)", text)  # a bare number: ppm/K
+                tcs[role] = NUMERIC_SETTINGS["tempco"].check(f"tempco of {role}",
+                                                             f"{text} ppm/K" if plain else text)
+        ends = [BOARD_KEYS[name].check(name, e.text()) if e.text().strip() else None
                 for e, name in ((self.edit_temp_low, "temp_low_c"), (self.edit_temp_high, "temp_high_c"))]
         return tcs, ends[0], ends[1]
 

@@ -125,13 +125,10 @@ SUGGEST_COLUMNS = ("Unit R", "Ref. current", "Output R", "Settling", "Noise (LSB
 
 
 def limits_from_text(texts: dict[str, str]) -> Limits:
-    """Limits from typed fields (empty = no limit); engineering notation accepted."""
-    from rungwise.core.units import parse_value
+    """Limits from typed fields (empty = no limit), each read in its unit and checked by its range."""
+    from rungwise.core.parts.suggest import LIMIT_SPECS
 
-    values: dict[str, Any] = {}
-    for key, text in texts.items():
-        text = text.strip()
-        values[key] = parse_value(text, key) if text else None
+    values: dict[str, Any] = {key: LIMIT_SPECS[key].check(key, text) for key, text in texts.items()}
     return Limits(**values)
 
 

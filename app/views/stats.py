@@ -14,7 +14,6 @@ from PySide6.QtGui import QBrush, QColor
 from PySide6.QtWidgets import (
     QCheckBox,
     QComboBox,
-    QDoubleSpinBox,
     QFormLayout,
     QGridLayout,
     QHBoxLayout,
@@ -23,7 +22,6 @@ from PySide6.QtWidgets import (
     QLineEdit,
     QProgressBar,
     QPushButton,
-    QSpinBox,
     QTableWidget,
     QTableWidgetItem,
     QVBoxLayout,
@@ -37,6 +35,7 @@ from rungwise.core.targets import MAX_SEED
 
 from ..jobs.workers import Progress, runner_for
 from ..plots.theme import candidate_colour, follow_palette
+from ..window.number_box import DecimalBox, NumberBox
 from .stats_job import StatsOutcome, StatsRequest, statistics_job
 
 CHANNEL = "statistics"
@@ -96,10 +95,11 @@ class StatisticsPane(QWidget):
         self.combo_criterion = QComboBox(objectName="combo_stats_criterion")
         for key, label in CRITERIA.items():
             self.combo_criterion.addItem(label, key)
-        self.spin_target = QDoubleSpinBox(objectName="spin_stats_target", decimals=2, minimum=1.0,
-                                          maximum=99.99, value=99.0, suffix=" %")
-        self.spin_trials = QSpinBox(objectName="spin_stats_trials", minimum=10, maximum=1_000_000,
-                                    value=2000, singleStep=1000)
+        self.spin_target = DecimalBox(objectName="spin_stats_target", decimals=2, minimum=1.0,
+                                      maximum=99.99, value=99.0, suffix=" %",
+                                      label="Target yield", unit="%")
+        self.spin_trials = NumberBox(objectName="spin_stats_trials", minimum=10, maximum=1_000_000,
+                                     value=2000, singleStep=1000, label="Boards")
         self.edit_seed = QLineEdit("1", objectName="edit_stats_seed")
         self.button_new_seed = QPushButton("New seed", objectName="button_stats_new_seed")
         self.button_new_seed.clicked.connect(self._new_seed)

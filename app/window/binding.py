@@ -24,7 +24,7 @@ from rungwise.core.build_style import build_choice
 from rungwise.core.design import FIELDS, Design
 from rungwise.core.errors import DesignError
 from rungwise.core.formatting import EDIT_DIGITS, format_quantity, format_si
-from rungwise.core.units import parse_value
+from rungwise.core.units import parse_quantity
 
 INPUT_PREFIXES = ("spin_", "edit_", "combo_")
 """Object-name prefixes of bound input widgets."""
@@ -37,7 +37,7 @@ def unit_in_text(unit: str) -> bool:
     if unit in {"", "bits"}:
         return False
     try:
-        return parse_value(format_si(4700.0, unit, digits=EDIT_DIGITS)) == 4700.0
+        return parse_quantity(format_si(4700.0, unit, digits=EDIT_DIGITS), unit) == 4700.0
     except DesignError:
         return False
 
@@ -97,7 +97,11 @@ class FieldBinder(QObject):
         for key, w in self.inputs.items():
             if isinstance(w, QSpinBox):
                 w.valueChanged.connect(lambda v, k=key: self._changing(k, str(v)))
-                w.editingFinished.connect(lambda k=key, s=w: self._finished(k, str(s.value())))
+                refused = getattr(w, "refused", None)  # a NumberBox: out-of-range typing goes
+                if refused is not None:                # to the design, which says why
+                    refused.connect(lambda typed, _why, k=key: self._refused_number(k, typed))
+                w.editingFinished.connect(lambda k=key, s=w: None if getattr(s, "refusing", False)
+                                          else self._finished(k, str(s.value())))
             elif isinstance(w, QLineEdit):
                 w.editingFinished.connect(lambda k=key, e=w: self._finished(k, e.text()))
             elif isinstance(w, QComboBox):
@@ -180,6 +184,10 @@ class FieldBinder(QObject):
     def _changing(self, key: str, text: str) -> None:
         if not self._quiet:
             self.entry_changing.emit(key, text)
+
+    def _refused_number(self, key: str, typed: str) -> None:
+        if not self._quiet:
+            self.entry_finished.emit(key, typed)
 
     def _finished(self, key: str, text: str) -> None:
         if self._quiet:

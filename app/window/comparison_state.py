@@ -11,7 +11,7 @@ from collections.abc import Callable, Sequence
 from dataclasses import dataclass, replace
 from typing import Literal
 
-from rungwise.core.design import Design
+from rungwise.core.design import Design, network_label
 from rungwise.core.types import OUTPUTS_BY_TOPOLOGY, TOPOLOGIES
 
 Change = Literal["candidates", "selection"]
@@ -27,10 +27,15 @@ hues that read on both light and dark backgrounds; the first four are handed out
 
 @dataclass(frozen=True)
 class Candidate:
-    """One compared design with the colour it is drawn in (``#rrggbb``); its name is ``design.label``."""
+    """One compared design with the colour it is drawn in (``#rrggbb``); its name is ``design.label``.
+
+    ``given``: the name is the program's (the demo's, or made on Add), so it follows the network
+    when the network changes; a name the person typed (or read from a file) stays.
+    """
 
     design: Design
     colour: str
+    given: bool = False
 
     @property
     def name(self) -> str:
@@ -46,13 +51,16 @@ def next_colour(used: Sequence[str]) -> str:
     return CANDIDATE_COLOURS[len(used) % len(CANDIDATE_COLOURS)]
 
 
-def with_colours(designs: Sequence[Design], colours: Sequence[str] = ()) -> list[Candidate]:
-    """Candidates for ``designs``, using ``colours`` in order where given and valid."""
+def with_colours(designs: Sequence[Design], colours: Sequence[str] = (),
+                 named_by_program: bool = False) -> list[Candidate]:
+    """Candidates for ``designs``, using ``colours`` in order where given and valid; their names
+    are the program's when ``named_by_program`` (the demo) or named after their network."""
     out: list[Candidate] = []
     for i, d in enumerate(designs):
-        given = colours[i] if i < len(colours) else ""
-        ok = isinstance(given, str) and len(given) == 7 and given.startswith("#")
-        out.append(Candidate(d, given if ok else next_colour([c.colour for c in out])))
+        colour = colours[i] if i < len(colours) else ""
+        ok = isinstance(colour, str) and len(colour) == 7 and colour.startswith("#")
+        out.append(Candidate(d, colour if ok else next_colour([c.colour for c in out]),
+                             named_by_program or d.named_after_network))
     return out
 
 
@@ -139,9 +147,16 @@ class ComparisonState:
 
     # --- common edits, all through apply_edit --------------------------------------------------
     def set_design(self, index: int, design: Design, description: str) -> bool:
-        """Replace one candidate's design."""
+        """Replace one candidate's design; a name the program gave follows a new network."""
         cands = list(self._candidates)
-        cands[index] = replace(cands[index], design=design)
+        old = cands[index]
+        moved = (design.topology, design.output) != (old.design.topology, old.design.output)
+        if moved and old.given and design.name in (old.design.name, ""):
+            taken = [c.name for i, c in enumerate(cands) if i != index]
+            auto = network_label(design.topology, design.output)
+            wanted = unique_name(auto, taken)
+            design = design.replace(name="" if wanted == auto else wanted)
+        cands[index] = replace(old, design=design)
         return self.apply_edit(cands, description)
 
     def set_colour(self, index: int, colour: str) -> bool:
@@ -153,21 +168,26 @@ class ComparisonState:
     def rename(self, index: int, name: str) -> bool:
         """Rename one candidate (an empty name falls back to the topology)."""
         design = self._candidates[index].design.replace(name=name.strip())
-        return self.set_design(index, design, f"rename to {design.label}")
+        cands = list(self._candidates)
+        cands[index] = replace(cands[index], design=design, given=not name.strip())
+        return self.apply_edit(cands, f"rename to {design.label}")
 
     def can_add(self) -> bool:
         """Whether another candidate fits."""
         return len(self._candidates) < MAX_CANDIDATES
 
-    def add(self, design: Design | None = None) -> bool:
-        """Add ``design`` (default: the edited candidate's values on a topology not yet compared)."""
+    def add(self, design: Design | None = None, given: bool = True) -> bool:
+        """Add ``design`` (default: the edited candidate's values on a topology not yet compared),
+        named uniquely; ``given``: the name is the program's (it follows the network)."""
         if not self.can_add():
             return False
         if design is None:
             design = self._fresh_design()
         taken = [c.name for c in self._candidates]
-        design = design.replace(name=unique_name(design.label, taken))
-        cand = Candidate(design, next_colour([c.colour for c in self._candidates]))
+        wanted = unique_name(design.label, taken)
+        design = design.replace(name="" if wanted == design.label and given and
+                                design.named_after_network else wanted)
+        cand = Candidate(design, next_colour([c.colour for c in self._candidates]), given)
         return self.apply_edit([*self._candidates, cand], f"add {design.label}",
                                selected=len(self._candidates))
 
@@ -175,7 +195,8 @@ class ComparisonState:
         """Add a copy of one candidate, to vary its values."""
         if not self.can_add():
             return False
-        return self.add(self._candidates[index].design)
+        source = self._candidates[index]
+        return self.add(source.design, given=source.given)
 
     def remove(self, index: int) -> bool:
         """Remove one candidate (the last one stays)."""

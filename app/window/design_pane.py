@@ -14,7 +14,6 @@ from PySide6.QtWidgets import (
     QHBoxLayout,
     QLabel,
     QLineEdit,
-    QSpinBox,
     QVBoxLayout,
     QWidget,
 )
@@ -27,6 +26,7 @@ from rungwise.core.field_use import unused_fields
 from rungwise.core.types import OUTPUTS_BY_TOPOLOGY, TOPOLOGIES
 
 from .binding import FieldBinder, bound_inputs, unit_in_text
+from .number_box import REFUSED_STYLE, NumberBox
 from .skew_panel import SkewPanel
 
 COMMIT_DELAY_MS = 450
@@ -63,8 +63,6 @@ CAPTION_WIDTH_TEXT = "Reference voltage"
 FIELD_WIDTH_TEXT = "0.000000 kΩ"
 """Entry fields are at least this wide."""
 
-REFUSED_STYLE = "*[refused=\"true\"] { border: 2px solid #c23b3b; border-radius: 3px; }"
-"""How a field holding a refused entry is marked."""
 
 
 class DesignPane(QWidget):
@@ -115,7 +113,7 @@ class DesignPane(QWidget):
             self._add_row(form, key, label, combo, "")
         for key, spec in FIELDS.items():
             if spec.integer:
-                w: QWidget = QSpinBox(self, objectName=f"spin_{key}")
+                w: QWidget = NumberBox(self, objectName=f"spin_{key}", label=key, unit=spec.unit)
                 w.setRange(int(spec.low), int(spec.high))
                 w.setKeyboardTracking(False)
                 unit = spec.unit

@@ -105,7 +105,8 @@ class MainWindow(QMainWindow):
         self.ask_before_closing = True
         self._sizes_pending = False
         self._user_sized = False
-        self.model = ComparisonModel(candidates or with_colours(demo_candidates()), self)
+        self.model = ComparisonModel(
+            candidates or with_colours(demo_candidates(), named_by_program=True), self)
         self.live = LiveResults(self)
         self.views: dict[str, QWidget] = {}
         self._build()
@@ -368,7 +369,7 @@ class MainWindow(QMainWindow):
         cands = self.model.state.candidates
         if len(cands) != len(result.results):
             return  # a newer request is on its way
-        shown = [Candidate(r.design, c.colour) for c, r in zip(cands, result.results, strict=True)]
+        shown = [Candidate(r.design, c.colour, c.given) for c, r in zip(cands, result.results, strict=True)]
         self.plots.set_results(shown, result.results)
         self.table.set_results(shown, result.results)
         why = reasons_text(shown, result.results)
@@ -435,7 +436,8 @@ class MainWindow(QMainWindow):
     # --- files ----------------------------------------------------------------------------------------
     def new_from_demo(self) -> None:
         """Start again from the built-in demo comparison."""
-        self.model.replace_all(with_colours(demo_candidates()), None, "new comparison from the demo")
+        self.model.replace_all(with_colours(demo_candidates(), named_by_program=True), None,
+                               "new comparison from the demo")
         self.files.opened(None, None)
 
     def open_dialog(self) -> None:

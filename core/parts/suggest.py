@@ -18,6 +18,7 @@ import numpy as np
 from ..build_style import unit_ohms
 from ..formatting import format_quantity
 from ..metrics import linearity, noise, settling
+from ..ranges import FieldSpec
 from ..solve import CHUNK_ELEMENTS, solve
 from ..topologies import build
 from .eseries import HIGHEST_OHMS, LOWEST_OHMS, snap, values
@@ -40,6 +41,15 @@ class Limits:
     rout_max: float | None = None
     settling_max: float | None = None
     noise_lsb_max: float | None = None
+
+
+LIMIT_SPECS: dict[str, FieldSpec] = {
+    "iref_max": FieldSpec("Largest reference current", "A", 0.0, 1e3, low_open=True, optional=True),
+    "rout_max": FieldSpec("Largest output resistance", "Ω", 0.0, 1e15, low_open=True, optional=True),
+    "settling_max": FieldSpec("Longest settling time", "s", 0.0, 1e6, low_open=True, optional=True),
+    "noise_lsb_max": FieldSpec("Largest noise", "LSB", 0.0, 1e6, low_open=True, optional=True),
+}
+"""What each limit accepts (empty: no limit)."""
 
 
 @dataclass

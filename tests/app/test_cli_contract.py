@@ -247,3 +247,56 @@ def test_bad_value_in_a_design_file_names_the_candidate_and_field(tmp_path, caps
     assert out == ""
     assert "candidate[0].bits" in err
     assert "1 to 24" in err
+
+
+@pytest.mark.parametrize(("setting", "hint"), [("topology=r2r-voltage", "--topology r2r-voltage"),
+                                               ("output=buffer", "--topology r2r-voltage:buffer")])
+def test_set_cannot_change_the_network_and_points_to_topology(setting, hint, capsys):
+    assert run_cli(["compute", "--set", setting, "--format", "table"]) == 2
+    out, err = capsys.readouterr()
+    assert out == ""
+    assert setting.split("=")[0] in err
+    assert hint in err
+
+
+def test_topology_choices_are_named_after_their_network(capsys):
+    assert run_cli(["compute", "--topology", "r2r-voltage", "--topology", "string",
+                    "--format", "json"]) == 0
+    results = json.loads(capsys.readouterr().out)["results"]
+    assert [(r["name"], r["topology"]) for r in results] == [
+        ("r2r-voltage (unbuffered)", "r2r-voltage"), ("string (unbuffered)", "string")]
+
+
+@pytest.mark.parametrize(("setting", "field", "words"), [
+    ("vref=5 A", "vref", "volts (V)"), ("unit_r=10 V", "unit_r", "ohms (Ω)"),
+    ("ron_high=40 F", "ron_high", "ohms (Ω)"), ("vref=5 mA", "vref", "volts (V)"),
+    ("unit_r=10 kV", "unit_r", "ohms (Ω)"), ("unit_r=1 %", "unit_r", "a percentage"),
+    ("load_c=3 Hz", "load_c", "farads (F)"), ("bandwidth=2 s", "bandwidth", "hertz (Hz)"),
+    ("mismatch.tolerance=1", "mismatch.tolerance", "a fraction from 0 to 0.5 (0 % to 50 %)"),
+    ("mismatch.tolerance=5 V", "mismatch.tolerance", "a fraction"),
+    ("board.derating=150 %", "board.derating", "(150 %) is out of range"),
+    ("board.power_rating=1 A", "board.power_rating", "watts (W)"),
+    ("temperature_c=300 V", "temperature_c", "Celsius"),
+])
+def test_a_wrong_unit_exits_2_naming_the_field(setting, field, words, capsys):
+    assert run_cli(["compute", "--set", setting, "--format", "json"]) == 2
+    out, err = capsys.readouterr()
+    assert out == ""
+    assert err.startswith(f"rungwise: error: {field}: ")
+    assert words in err
+    assert "Traceback" not in err
+
+
+@pytest.mark.parametrize(("setting", "key", "value"), [
+    ("unit_r=4R7", "unit_r", 4.7), ("unit_r=4r7", "unit_r", 4.7), ("unit_r=10meg", "unit_r", 10e6),
+    ("unit_r=10 kohm", "unit_r", 10e3), ("unit_r=2k2 Ohm", "unit_r", 2.2e3), ("vref=3V3", "vref", 3.3),
+    ("vref=2.5v", "vref", 2.5), ("temperature_c=300 K", "temperature_c", 26.85),
+])
+def test_the_spellings_engineers_use_are_read(setting, key, value, capsys):
+    from rungwise.app.cli.candidates import apply_choices, parse_settings
+    from rungwise.core.design import Design
+
+    (design,) = apply_choices([Design()], parse_settings([setting]), None)
+    assert getattr(design, key) == pytest.approx(value, rel=1e-12)
+    assert run_cli(["compute", "--set", setting, "--format", "json"]) == 0
+    assert capsys.readouterr().err == ""

@@ -26,7 +26,7 @@ def test_new_and_compute_with_a_unit_array_section(tmp_path: Path, capsys):
 
 
 def test_unknown_section_is_refused_by_name(capsys):
-    assert run_cli(["compute", "--set", "topology=segmented",
+    assert run_cli(["compute", "--topology", "segmented",
                     "--set", "build.lsb_section=ladder"]) == 2
     err = capsys.readouterr().err
     assert "build.lsb_section" in err

@@ -57,6 +57,39 @@ def test_add_picks_an_uncompared_network_and_a_free_colour():
     assert state.selected == 2
 
 
+def _network(state: ComparisonState, index: int, topology: str) -> None:
+    """Change a candidate's network as the design pane does (the typed value applied)."""
+    state.set_design(index, state.designs[index].with_settings({"topology": topology}), "network")
+
+
+def test_a_name_the_program_gave_follows_the_network():
+    state = ComparisonState(with_colours(demo_candidates(), named_by_program=True))
+    _network(state, 0, "string")  # the demo's own name: the program's
+    assert state.candidates[0].name == "string (unbuffered)"
+    state.add()  # Add names the new candidate after its network …
+    added = state.candidates[-1]
+    assert added.given
+    assert added.name == f"{added.design.topology} ({added.design.output})"
+    _network(state, 3, "string")  # … and that name follows it, told apart from the first
+    assert state.candidates[3].name == "string (unbuffered) 2"
+    _network(state, 3, "r2r-current")
+    assert state.candidates[3].name == "r2r-current (transimpedance)"
+    assert [c.name for c in state.candidates[1:3]] == [d.name for d in demo_candidates()[1:]]
+
+
+def test_a_name_the_person_typed_stays_with_the_network():
+    state = ComparisonState(with_colours(demo_candidates(), named_by_program=True))
+    state.rename(1, "Bias trim, rev C")
+    _network(state, 1, "string")
+    assert state.candidates[1].name == "Bias trim, rev C"
+    assert not state.candidates[1].given
+    state.rename(1, "")  # an emptied name is the program's again
+    _network(state, 1, "segmented")
+    assert state.candidates[1].name.startswith("segmented (unbuffered)")
+    from_file = with_colours([demo_candidates()[0]])  # a name read from a file is the person's
+    assert not from_file[0].given
+
+
 def test_limits_and_selection_after_remove():
     state, _ = _state()
     while state.can_add():

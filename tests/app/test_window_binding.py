@@ -128,3 +128,50 @@ def test_lsb_section_choice_only_for_segmented_designs(window, qtbot):
     assert combo.currentData() == "r2r"
     state.select(0)
     assert combo.currentData() == "unit-array"
+
+
+@pytest.mark.parametrize(("typed", "words"), [("99", "99 bits is out of range"),
+                                              ("-5", "-5 bits is out of range")])
+def test_a_number_box_refuses_out_of_range_typing_visibly(window, qtbot, typed, words):
+    pane, state = window.pane, window.model.state
+    before = state.current.design.bits
+    spin = pane.findChild(QSpinBox, "spin_bits")
+    spin.setFocus()
+    spin.selectAll()
+    qtbot.keyClicks(spin, typed)
+    assert spin.lineEdit().text() == typed  # typed as it is, not clamped to 9 or 5
+    qtbot.keyClick(spin, Qt.Key.Key_Return)
+    assert state.current.design.bits == before  # the last good value stays
+    assert spin.value() == before
+    message = pane.binder.error_label("bits")
+    assert message.isVisibleTo(pane)
+    assert f"Resolution: {words}; allowed: a whole number from 1 to 24 bits" == message.text()
+    assert spin.property("refused") is True
+    spin.selectAll()
+    qtbot.keyClicks(spin, "10")
+    qtbot.keyClick(spin, Qt.Key.Key_Return)
+    pane.commit_pending()
+    assert state.current.design.bits == 10
+    assert not message.isVisibleTo(pane)
+    assert spin.property("refused") is False
+
+
+def test_every_number_box_of_the_views_refuses_instead_of_clamping(window, qtbot):
+    from PySide6.QtWidgets import QAbstractSpinBox
+
+    from rungwise.app.window.number_box import DecimalBox, NumberBox
+
+    boxes = window.findChildren(QAbstractSpinBox)
+    assert len(boxes) >= 8
+    assert all(isinstance(b, NumberBox | DecimalBox) for b in boxes), [
+        b.objectName() for b in boxes if not isinstance(b, NumberBox | DecimalBox)]
+    trials = window.findChild(QAbstractSpinBox, "spin_stats_trials")
+    heard = []
+    trials.refused.connect(lambda typed, why: heard.append((typed, why)))
+    before = trials.value()
+    trials.lineEdit().setText("5")
+    qtbot.keyClick(trials, Qt.Key.Key_Return)
+    assert trials.value() == before
+    assert heard == [("5", "Boards: 5 is out of range; allowed: a whole number from 10 to 1000000")]
+    assert trials.toolTip() == heard[0][1]
+    assert trials.property("refused") is True

@@ -32,8 +32,8 @@ from rungwise.core.errors import DesignError
 from rungwise.core.targets import MAX_SEED
 
 GOOD = {
-    "vref": ["3.3", "2.5 V", "5V", "-1.2", "1.024", "10"],
-    "unit_r": ["4k7", "10 kΩ", "1k", "22k", "100", "2M2", "47 kohm"],
+    "vref": ["3.3", "2.5 V", "5V", "-1.2", "1.024", "10", "3V3", "2.5v"],
+    "unit_r": ["4k7", "10 kΩ", "1k", "22k", "100", "2M2", "47 kohm", "4R7", "4r7", "1meg", "2k2 Ohm"],
     "ron_high": ["0", "40", "25 Ω", "1k", "0.5"],
     "ron_low": ["0", "25", "12.5", "100m"],
     "ref_r": ["0", "1", "50 Ω", "2k"],
@@ -41,13 +41,14 @@ GOOD = {
     "gain": ["1", "2", "-1", "0.5"],
     "feedback_r": ["", "10k", "4k7", "default"],
     "load_c": ["0", "10p", "1n", "100 pF"],
-    "temperature_c": ["27", "-40", "85", "125"],
+    "temperature_c": ["27", "-40", "85", "125", "300 K", "25 °C"],
     "bandwidth": ["1M", "10k", "100 kHz", "20e3"],
     "series_ratio": ["1", "1.02", "1.1", "0.98"],
 }
 """Entries each field accepts (a valid design follows)."""
 
-BAD = ["", "abc", "-5k", "1e30", "nan", "0", "--1", "4k7k", "1 %%", "-inf", "1e400", "  ", "½"]
+BAD = ["", "abc", "-5k", "1e30", "nan", "0", "--1", "4k7k", "1 %%", "-inf", "1e400", "  ", "½",
+       "5 A", "10 kV", "40 F", "1 %", "3 Hz"]  # the last ones: units of other fields
 """Entries most fields refuse (some are valid for a few fields: the design decides)."""
 
 NAMES = ["Option A", "", "  padded  ", "Ladder Ω", "x" * 60, "Segmented 6+6", "Option A"]
@@ -323,6 +324,15 @@ class Soak:
             self.pane.commit_pending()  # the pause after the last step
         else:
             roll = self.rng.random()
+            if roll < 0.12:  # typed outside the box's range: refused visibly, never clamped
+                target = self.rng.choice([spin.maximum() + self.rng.randint(1, 80),
+                                          spin.minimum() - self.rng.randint(1, 9)])
+                how = "typed"
+                spin.selectAll()
+                self.qtbot.keyClicks(spin, str(target))
+                assert spin.lineEdit().text() == str(target), "the box changed the typing"
+                self.qtbot.keyClick(spin, Qt.Key.Key_Return)
+                return f"{key} {how} {target} " + self._check_outcome(key, before, None)
             if key == "bits" and before.topology == "string" and roll < 0.3:
                 high = 20  # past a string's 16 bits: refused with its range
             else:
