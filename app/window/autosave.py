@@ -31,11 +31,15 @@ DAMAGED_PREFIX = "damaged-"
 
 
 def _running(pid: int) -> bool:
-    """Whether a process with this id exists (POSIX: signal 0 probes without disturbing it)."""
+    """Whether a process with this id exists (POSIX: signal 0 probes without disturbing it;
+    Windows: the process's exit code is still "active"; elsewhere every copy left behind counts
+    as an orphan)."""
     if pid == os.getpid():
         return True
+    if os.name == "nt":
+        return _running_on_windows(pid)
     if os.name != "posix":
-        return False  # no cheap probe here: every copy left behind counts as an orphan
+        return False
     try:
         os.kill(pid, 0)
     except ProcessLookupError:
@@ -45,6 +49,25 @@ def _running(pid: int) -> bool:
     except OSError:
         return False
     return True
+
+
+def _running_on_windows(pid: int) -> bool:
+    import ctypes
+
+    still_active, query_limited, access_denied = 259, 0x1000, 5
+    try:
+        kernel32 = ctypes.WinDLL("kernel32", use_last_error=True)  # type: ignore[attr-defined]
+    except (AttributeError, OSError):
+        return False
+    handle = kernel32.OpenProcess(query_limited, False, pid)
+    if not handle:
+        return ctypes.get_last_error() == access_denied  # it exists, owned by someone else
+    try:
+        code = ctypes.c_ulong()
+        return bool(kernel32.GetExitCodeProcess(handle, ctypes.byref(code))) and (
+            code.value == still_active)
+    finally:
+        kernel32.CloseHandle(handle)
 
 
 @dataclass

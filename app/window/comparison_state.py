@@ -74,6 +74,17 @@ def unique_name(wanted: str, taken: Sequence[str]) -> str:
     return f"{wanted} {i}"
 
 
+def follow_network(old: Candidate, design: Design, taken: Sequence[str]) -> Design:
+    """``design`` (``old`` edited) with a name the program gave following a changed network:
+    the network's own label, told apart from the ``taken`` names (``… 2``)."""
+    moved = (design.topology, design.output) != (old.design.topology, old.design.output)
+    if not (moved and old.given and design.name in (old.design.name, "")):
+        return design
+    auto = network_label(design.topology, design.output)
+    wanted = unique_name(auto, taken)
+    return design.replace(name="" if wanted == auto else wanted)
+
+
 class ComparisonState:
     """The compared candidates (1 … :data:`MAX_CANDIDATES`) and the index of the one being edited."""
 
@@ -149,14 +160,8 @@ class ComparisonState:
     def set_design(self, index: int, design: Design, description: str) -> bool:
         """Replace one candidate's design; a name the program gave follows a new network."""
         cands = list(self._candidates)
-        old = cands[index]
-        moved = (design.topology, design.output) != (old.design.topology, old.design.output)
-        if moved and old.given and design.name in (old.design.name, ""):
-            taken = [c.name for i, c in enumerate(cands) if i != index]
-            auto = network_label(design.topology, design.output)
-            wanted = unique_name(auto, taken)
-            design = design.replace(name="" if wanted == auto else wanted)
-        cands[index] = replace(old, design=design)
+        taken = [c.name for i, c in enumerate(cands) if i != index]
+        cands[index] = replace(cands[index], design=follow_network(cands[index], design, taken))
         return self.apply_edit(cands, description)
 
     def set_colour(self, index: int, colour: str) -> bool:

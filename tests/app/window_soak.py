@@ -24,6 +24,7 @@ from PySide6.QtGui import QAction, QKeyEvent
 from PySide6.QtWidgets import QApplication, QComboBox, QLineEdit, QMessageBox, QSpinBox
 
 from rungwise.app.window.binding import design_value, display_text
+from rungwise.app.window.comparison_state import follow_network
 from rungwise.app.window.edit_history import UNDO_LIMIT
 from rungwise.app.window.main_window import STOPPED_TEXT
 from rungwise.core.design import FIELDS, Design
@@ -253,12 +254,16 @@ class Soak:
 
     # --- the values pane ------------------------------------------------------------------------
     def _expect(self, key: str, text: str) -> Design | None:
+        current = self.state.current
         try:
             if key == "topology":
-                return self.state.current.design.replace(topology=text)
-            return self.state.current.design.with_settings({key: text})
+                design = current.design.replace(topology=text)
+            else:
+                design = current.design.with_settings({key: text})
         except DesignError:
             return None
+        taken = [c.name for c in self.state.candidates if c is not current]
+        return follow_network(current, design, taken)  # a name the program gave follows
 
     def _check_outcome(self, key: str, before: Design, expected: Design | None) -> str:
         after = self.state.current.design
@@ -464,7 +469,9 @@ class Soak:
             return f"saved {path.name}"
         assert self.w.open_file(path)
         self._fresh_history = True
-        assert self.state.candidates == saved  # designs, names and colours as saved
+        # designs, names and colours as saved (a name read from a file counts as the person's)
+        assert [(c.design, c.colour) for c in self.state.candidates] == [
+            (c.design, c.colour) for c in saved]
         assert not self.w.model.modified
         return f"saved and opened {path.name}"
 
