@@ -15,7 +15,6 @@ from PySide6.QtWidgets import (
     QHBoxLayout,
     QLabel,
     QSizePolicy,
-    QSpinBox,
     QVBoxLayout,
     QWidget,
 )
@@ -27,6 +26,7 @@ from rungwise.core.schematic import Schematic, schematic
 
 from ..plots.schematic_paint import paint_schematic
 from ..plots.theme import candidate_colour
+from ..window.number_box import NumberBox
 
 
 class SchematicCanvas(QWidget):
@@ -66,7 +66,7 @@ class SchematicPane(QWidget):
         self.code_chosen = False  # the person picked a code: keep it across edits
         self.combo = QComboBox(self, objectName="combo_schematic_candidate")
         self.combo.setSizeAdjustPolicy(QComboBox.SizeAdjustPolicy.AdjustToContents)
-        self.spin_code = QSpinBox(self, objectName="spin_schematic_code")
+        self.spin_code = NumberBox(self, objectName="spin_schematic_code", label="Code")
         self.spin_code.setKeyboardTracking(False)
         self.code_label = QLabel(self, objectName="label_schematic_code")
         self.status = QLabel(self, objectName="label_schematic_status")

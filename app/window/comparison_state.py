@@ -11,7 +11,8 @@ from collections.abc import Callable, Sequence
 from dataclasses import dataclass, replace
 from typing import Literal
 
-from rungwise.core.design import Design, network_label
+from rungwise.core.design import Design
+from rungwise.core.display_names import network_name
 from rungwise.core.types import OUTPUTS_BY_TOPOLOGY, TOPOLOGIES
 
 Change = Literal["candidates", "selection"]
@@ -80,7 +81,7 @@ def follow_network(old: Candidate, design: Design, taken: Sequence[str]) -> Desi
     moved = (design.topology, design.output) != (old.design.topology, old.design.output)
     if not (moved and old.given and design.name in (old.design.name, "")):
         return design
-    auto = network_label(design.topology, design.output)
+    auto = network_name(design.topology, design.output)
     wanted = unique_name(auto, taken)
     return design.replace(name="" if wanted == auto else wanted)
 

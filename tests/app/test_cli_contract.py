@@ -264,7 +264,8 @@ def test_topology_choices_are_named_after_their_network(capsys):
                     "--format", "json"]) == 0
     results = json.loads(capsys.readouterr().out)["results"]
     assert [(r["name"], r["topology"]) for r in results] == [
-        ("r2r-voltage (unbuffered)", "r2r-voltage"), ("string (unbuffered)", "string")]
+        ("R-2R ladder, voltage out (unbuffered)", "r2r-voltage"),
+        ("Resistor string (unbuffered)", "string")]
 
 
 @pytest.mark.parametrize(("setting", "field", "words"), [

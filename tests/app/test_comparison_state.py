@@ -14,6 +14,7 @@ from rungwise.app.window.comparison_state import (
     with_colours,
 )
 from rungwise.core.demo import demo_candidates
+from rungwise.core.display_names import network_name
 
 
 def _state() -> tuple[ComparisonState, list[str]]:
@@ -65,15 +66,15 @@ def _network(state: ComparisonState, index: int, topology: str) -> None:
 def test_a_name_the_program_gave_follows_the_network():
     state = ComparisonState(with_colours(demo_candidates(), named_by_program=True))
     _network(state, 0, "string")  # the demo's own name: the program's
-    assert state.candidates[0].name == "string (unbuffered)"
+    assert state.candidates[0].name == "Resistor string (unbuffered)"
     state.add()  # Add names the new candidate after its network …
     added = state.candidates[-1]
     assert added.given
-    assert added.name == f"{added.design.topology} ({added.design.output})"
+    assert added.name == network_name(added.design.topology, added.design.output)
     _network(state, 3, "string")  # … and that name follows it, told apart from the first
-    assert state.candidates[3].name == "string (unbuffered) 2"
+    assert state.candidates[3].name == "Resistor string (unbuffered) 2"
     _network(state, 3, "r2r-current")
-    assert state.candidates[3].name == "r2r-current (transimpedance)"
+    assert state.candidates[3].name == "R-2R ladder, current out (into an amplifier)"
     assert [c.name for c in state.candidates[1:3]] == [d.name for d in demo_candidates()[1:]]
 
 
@@ -85,7 +86,7 @@ def test_a_name_the_person_typed_stays_with_the_network():
     assert not state.candidates[1].given
     state.rename(1, "")  # an emptied name is the program's again
     _network(state, 1, "segmented")
-    assert state.candidates[1].name.startswith("segmented (unbuffered)")
+    assert state.candidates[1].name.startswith("Segmented ladder (unbuffered)")
     from_file = with_colours([demo_candidates()[0]])  # a name read from a file is the person's
     assert not from_file[0].given
 

@@ -107,16 +107,18 @@ def test_a_file_from_before_the_ranges_were_narrowed_is_refused_by_key_or_loads(
 
 def test_a_name_the_program_gave_follows_the_network_and_a_typed_one_stays():
     unnamed = Design(topology="binary-weighted", bits=6)
-    assert unnamed.label == "binary-weighted (divider)"
-    assert unnamed.replace(topology="segmented").label == "segmented (unbuffered)"
-    given = unnamed.replace(name="binary-weighted (divider) 2")
+    assert unnamed.label == "Binary-weighted (divider, open)"
+    assert unnamed.replace(topology="segmented").label == "Segmented ladder (unbuffered)"
+    given = unnamed.replace(name="Binary-weighted (divider, open) 2")
     assert given.named_after_network
     moved = given.replace(topology="segmented")
     assert moved.name == ""
-    assert moved.label == "segmented (unbuffered)"
-    assert given.replace(output="summing-amp").label == "binary-weighted (summing-amp)"
+    assert moved.label == "Segmented ladder (unbuffered)"
+    assert given.replace(output="summing-amp").label == "Binary-weighted (summing amplifier)"
     typed = unnamed.replace(name="Bias trim, rev C")
     assert not typed.named_after_network
     assert typed.replace(topology="string").label == "Bias trim, rev C"
     assert typed.replace(bits=8).label == "Bias trim, rev C"
-    assert given.replace(bits=8).name == "binary-weighted (divider) 2"  # not a network change
+    assert given.replace(bits=8).name == "Binary-weighted (divider, open) 2"  # not a network change
+    older = unnamed.replace(name="binary-weighted (divider)")  # as earlier versions named it
+    assert older.replace(topology="string").label == "Resistor string (unbuffered)"
