@@ -38,7 +38,7 @@ from .grades import CRITERIA
 from .parts.eseries import HIGHEST_OHMS, LOWEST_OHMS, mantissas
 from .targets import MAX_SEED, MAX_TRIALS
 from .types import MAX_ARRAY_BITS, OUTPUTS_BY_TOPOLOGY, SERIES, TOPOLOGIES
-from .units import parse_value
+from .units import parse_quantity, parse_value
 from .yield_decision import METHODS
 
 DEFAULT_GRADES: tuple[float, ...] = (0.01, 0.005, 0.0025, 0.001, 0.0005)
@@ -120,12 +120,12 @@ def series_values(low: float, high: float, series: str) -> tuple[float, ...]:
 def parse_unit_r(text: Any, series: str) -> tuple[float, ...]:
     """``"1k-100k"`` → the series' values in that range; ``"4k7,10k"`` or a list → those values."""
     if isinstance(text, Sequence) and not isinstance(text, str):
-        values = tuple(parse_value(v, "unit_r") for v in text)
+        values = tuple(parse_quantity(v, "Ω", "unit_r") for v in text)
     else:
         s = str(text).replace(" ", "")
         if "-" in s.lstrip("-") and "," not in s:
             a, _, b = s.partition("-")
-            lo, hi = parse_value(a, "unit_r"), parse_value(b, "unit_r")
+            lo, hi = parse_quantity(a, "Ω", "unit_r"), parse_quantity(b, "Ω", "unit_r")
             if not (LOWEST_OHMS <= lo <= hi <= HIGHEST_OHMS):
                 raise DesignError("unit_r", f"{text!r} is out of range; allowed: a range within "
                                   f"{LOWEST_OHMS:g} … {HIGHEST_OHMS:g} Ω, low first")
@@ -133,7 +133,7 @@ def parse_unit_r(text: Any, series: str) -> tuple[float, ...]:
             if not values:
                 raise DesignError("unit_r", f"no {series} value lies in {text}")
         else:
-            values = tuple(parse_value(v, "unit_r") for v in s.split(","))
+            values = tuple(parse_quantity(v, "Ω", "unit_r") for v in s.split(","))
     for v in values:
         if not (LOWEST_OHMS <= v <= HIGHEST_OHMS):
             raise DesignError("unit_r", f"{v:g} Ω is out of range; allowed: {LOWEST_OHMS:g} … "
@@ -326,9 +326,12 @@ class SearchQuestion:
             for key in ("criterion", "method"):
                 if key in data:
                     kw[key] = str(data[key])
-            for key in ("target_yield", "confidence", *LIMIT_KEYS):
+            for key in ("target_yield", "confidence"):
                 if key in data:
                     kw[key] = parse_value(data[key], key)
+            for key, (_what, unit, _figure) in LIMIT_KEYS.items():
+                if key in data:  # read in the limit's unit: "2 mA", "10 kΩ"
+                    kw[key] = parse_quantity(data[key], unit, key)
             for key in ("trials", "seed"):
                 if key in data:
                     if isinstance(data[key], bool) or not isinstance(data[key], int):

@@ -27,60 +27,34 @@ from dataclasses import dataclass
 from typing import Any
 
 from .errors import DesignError
-from .parts.board import BoardSpec
+from .ranges import FRACTION, FieldSpec
 from .types import MAX_BITS
-from .units import parse_value
 
-KeySpec = BoardSpec
-"""One table key: label, SI unit, default and inclusive range (the ``board`` table's kind)."""
-
-
-def _allowed(spec: KeySpec) -> str:
-    """The allowed range in words."""
-    if spec.integer:
-        return f"a whole number from {spec.low:g} to {spec.high:g}"
-    return f"{spec.low:g} … {spec.high:g} {spec.unit}".rstrip()
-
-
-TIMING_KEYS: dict[str, KeySpec] = {
-    "rise": KeySpec("Switch rise time", "s", 0.0, 0.0, 1.0),
-    "fall": KeySpec("Switch fall time", "s", 0.0, 0.0, 1.0),
-    "skew": KeySpec("Bit edge delay (each, LSB first)", "s", 0.0, 0.0, 1.0),
-    "node_c": KeySpec("Capacitance of every node", "F", 0.0, 0.0, 1.0),
+TIMING_KEYS: dict[str, FieldSpec] = {
+    "rise": FieldSpec("Switch rise time", "s", 1e-15, 1.0, default=0.0, zero_ok="ideal"),
+    "fall": FieldSpec("Switch fall time", "s", 1e-15, 1.0, default=0.0, zero_ok="ideal"),
+    "skew": FieldSpec("Bit edge delay (each, LSB first)", "s", 1e-15, 1.0, default=0.0,
+                      zero_ok="none"),
+    "node_c": FieldSpec("Capacitance of every node", "F", 1e-18, 1.0, default=0.0, zero_ok="none"),
 }
-"""Every ``timing`` key (``skew``: the range of each entry)."""
+"""Every ``timing`` key (``skew``: the range of each entry). The smallest non-zero values (1 fs,
+1 aF) are practical floors: below them the times and capacitances span more than double
+precision can solve."""
 
-SINE_KEYS: dict[str, KeySpec] = {
-    "samples": KeySpec("Test sine: samples", "", 4096, 16, 2**20, integer=True),
-    "cycles": KeySpec("Test sine: whole cycles", "", 67, 1, 2**19 - 1, integer=True),
-    "amplitude": KeySpec("Test sine: amplitude", "of full scale", 1.0, 1e-6, 1.0),
+SINE_KEYS: dict[str, FieldSpec] = {
+    "samples": FieldSpec("Test sine: samples", "", 16, 2**20, default=4096, integer=True),
+    "cycles": FieldSpec("Test sine: whole cycles", "", 1, 2**19 - 1, default=67, integer=True),
+    "amplitude": FieldSpec("Test sine: amplitude (of full scale)", FRACTION, 1e-6, 1.0,
+                           default=1.0),
 }
 """Every ``sine`` key."""
 
 
-SMALLEST: dict[str, float] = {"rise": 1e-15, "fall": 1e-15, "skew": 1e-15, "node_c": 1e-18}
-"""Smallest non-zero value of a timing key (1 fs, 1 aF): below it the times and capacitances
-span more than double precision can solve."""
+def _number(table: str, key: str, spec: FieldSpec, value: Any) -> float:
+    return spec.check(f"{table}.{key}", value)
 
 
-def _number(table: str, key: str, spec: KeySpec, value: Any) -> float:
-    name = f"{table}.{key}"
-    x = parse_value(value, name)
-    floor = SMALLEST.get(key, 0.0) if table == "timing" else 0.0
-    allowed = _allowed(spec) if not floor else (
-        f"0 or {floor:g} … {spec.high:g} {spec.unit}")
-    if not math.isfinite(x):
-        raise DesignError(name, f"must be a finite number; allowed: {allowed}")
-    if not spec.low <= x <= spec.high or 0 < x < floor:
-        raise DesignError(name, f"{x:g} is out of range; allowed: {allowed}")
-    if spec.integer:
-        if x != int(x):
-            raise DesignError(name, f"{x:g} is not a whole number; allowed: {_allowed(spec)}")
-        return int(x)
-    return x
-
-
-def _table(data: Any, table: str, keys: dict[str, KeySpec], example: str) -> Mapping[str, Any]:
+def _table(data: Any, table: str, keys: dict[str, FieldSpec], example: str) -> Mapping[str, Any]:
     if not isinstance(data, Mapping):
         raise DesignError(table, f"must be a table, e.g. {example}")
     for key in data:

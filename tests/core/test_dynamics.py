@@ -21,15 +21,15 @@ TIMING = {"rise": 3e-9, "fall": 1e-9, "skew": [0, 2e-9, 0, 1e-9], "node_c": 2e-1
 
 
 @pytest.mark.parametrize(("settings", "key", "words"), [
-    ({"timing.rise": "-1n"}, "timing.rise", "0 or 1e-15 … 1 s"),
-    ({"timing.node_c": "2"}, "timing.node_c", "0 or 1e-18 … 1 F"),
-    ({"timing.fall": "1e-20"}, "timing.fall", "0 or 1e-15 … 1 s"),
-    ({"timing.skew": "1n, 2"}, "timing.skew", "0 or 1e-15 … 1 s"),
+    ({"timing.rise": "-1n"}, "timing.rise", "0 (ideal) or ≥ 1e-15 s and ≤ 1 s"),
+    ({"timing.node_c": "2"}, "timing.node_c", "0 (none) or ≥ 1e-18 F and ≤ 1 F"),
+    ({"timing.fall": "1e-20"}, "timing.fall", "0 (ideal) or ≥ 1e-15 s and ≤ 1 s"),
+    ({"timing.skew": "1n, 2"}, "timing.skew", "0 (none) or ≥ 1e-15 s and ≤ 1 s"),
     ({"timing.width": "1n"}, "timing.width", "known keys: rise, fall, skew, node_c"),
     ({"sine.cycles": "64"}, "sine.cycles", "coprime"),
     ({"sine.cycles": "2049"}, "sine.cycles", "below half of sine.samples"),
     ({"sine.samples": "8"}, "sine.samples", "from 16 to"),
-    ({"sine.amplitude": "1.5"}, "sine.amplitude", "of full scale"),
+    ({"sine.amplitude": "1.5"}, "sine.amplitude", "(150 %) is out of range; allowed: a fraction"),
 ])
 def test_refusals_name_the_key_and_range(settings, key, words):
     with pytest.raises(DesignError) as err:

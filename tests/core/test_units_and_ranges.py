@@ -11,8 +11,10 @@ from rungwise.core import Design, DesignError
 from rungwise.core.design import FIELDS, PART_SPEC
 from rungwise.core.mismatch import NUMERIC_SETTINGS
 from rungwise.core.parts.board import BOARD_KEYS
+from rungwise.core.parts.suggest import LIMIT_SPECS
 from rungwise.core.ranges import FRACTION, FieldSpec
 from rungwise.core.targets import RUN_SPECS, TARGET_SPECS
+from rungwise.core.timing import SINE_KEYS, TIMING_KEYS
 from rungwise.core.units import PREFIXES, SPELLINGS, parse_quantity
 
 EVERY_SPEC: dict[str, FieldSpec] = {
@@ -21,6 +23,9 @@ EVERY_SPEC: dict[str, FieldSpec] = {
     **{f"board.{k}": s for k, s in BOARD_KEYS.items()},
     **{f"targets.{k}": s for k, s in TARGET_SPECS.items()},
     **{f"analysis.{k}": s for k, s in RUN_SPECS.items()},
+    **{f"timing.{k}": s for k, s in TIMING_KEYS.items()},
+    **{f"sine.{k}": s for k, s in SINE_KEYS.items()},
+    **{f"limits.{k}": s for k, s in LIMIT_SPECS.items()},
 }
 
 
