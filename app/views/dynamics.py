@@ -20,7 +20,6 @@ from PySide6.QtWidgets import (
     QLineEdit,
     QProgressBar,
     QPushButton,
-    QSpinBox,
     QVBoxLayout,
     QWidget,
 )
@@ -34,6 +33,7 @@ from rungwise.core.topologies import build
 
 from ..jobs.workers import Progress, runner_for
 from ..plots.theme import candidate_colour, follow_palette
+from ..window.number_box import NumberBox
 from .dynamics_job import CandidateDynamics, dynamics_job
 
 CHANNEL = "dynamics"
@@ -139,7 +139,7 @@ class DynamicsPane(QWidget):
 
     def _build(self) -> None:
         self.combo = QComboBox(self, objectName="combo_dynamics_candidate")
-        self.spin_code = QSpinBox(self, objectName="spin_dynamics_code")
+        self.spin_code = NumberBox(self, objectName="spin_dynamics_code", label="Transition")
         self.spin_code.setKeyboardTracking(False)
         self.spin_code.setToolTip("Transition c is the change from code c − 1 to code c")
         self.progress = QProgressBar(self, objectName="progress_dynamics", minimum=0, maximum=1)

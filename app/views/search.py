@@ -16,7 +16,6 @@ import pyqtgraph as pg
 from PySide6.QtCore import Signal
 from PySide6.QtWidgets import (
     QComboBox,
-    QDoubleSpinBox,
     QFormLayout,
     QHBoxLayout,
     QHeaderView,
@@ -24,7 +23,6 @@ from PySide6.QtWidgets import (
     QLineEdit,
     QProgressBar,
     QPushButton,
-    QSpinBox,
     QTableWidget,
     QTableWidgetItem,
     QVBoxLayout,
@@ -44,6 +42,7 @@ from rungwise.core.targets import MAX_SEED, Targets
 
 from ..jobs.workers import Progress, runner_for
 from ..plots.theme import follow_palette
+from ..window.number_box import DecimalBox, NumberBox
 from .search_job import question_from_fields, search_job
 
 CHANNEL = "search"
@@ -111,21 +110,22 @@ class SearchPane(QWidget):
         self.combo_criterion = QComboBox(objectName="combo_criterion")
         for c in CRITERIA:
             self.combo_criterion.addItem(c, c)
-        self.spin_target = QDoubleSpinBox(objectName="spin_target", minimum=50.0, maximum=99.99,
-                                          decimals=2, value=99.0, suffix=" %", singleStep=0.5)
-        self.spin_inl = QDoubleSpinBox(objectName="spin_inl", minimum=0.01, maximum=100.0,
-                                       decimals=2, value=0.5, suffix=" LSB")
-        self.spin_dnl = QDoubleSpinBox(objectName="spin_dnl", minimum=0.01, maximum=100.0,
-                                       decimals=2, value=0.5, suffix=" LSB")
+        self.spin_target = DecimalBox(objectName="spin_target", minimum=50.0, maximum=99.99,
+                                      decimals=2, value=99.0, suffix=" %", singleStep=0.5,
+                                      label="Target yield", unit="%")
+        self.spin_inl = DecimalBox(objectName="spin_inl", minimum=0.01, maximum=100.0,
+                                   decimals=2, value=0.5, suffix=" LSB", label="|INL|", unit="LSB")
+        self.spin_dnl = DecimalBox(objectName="spin_dnl", minimum=0.01, maximum=100.0,
+                                   decimals=2, value=0.5, suffix=" LSB", label="|DNL|", unit="LSB")
         goal = QHBoxLayout()
         for w in (self.combo_criterion, QLabel("on"), self.spin_target, QLabel("|INL| ≤"),
                   self.spin_inl, QLabel("|DNL| ≤"), self.spin_dnl):
             goal.addWidget(w)
         form.addRow("Boards must meet", goal)
-        self.spin_trials = QSpinBox(objectName="spin_trials", minimum=100, maximum=1_000_000,
-                                    value=4000, singleStep=500)
-        self.spin_seed = QSpinBox(objectName="spin_seed", minimum=0, maximum=min(MAX_SEED, 2**31 - 1),
-                                  value=1)
+        self.spin_trials = NumberBox(objectName="spin_trials", minimum=100, maximum=1_000_000,
+                                     value=4000, singleStep=500, label="Boards")
+        self.spin_seed = NumberBox(objectName="spin_seed", minimum=0, maximum=min(MAX_SEED, 2**31 - 1),
+                                   value=1, label="Seed")
         boards = QHBoxLayout()
         boards.addWidget(self.spin_trials, 1)
         boards.addWidget(QLabel("Seed"))

@@ -14,7 +14,6 @@ from PySide6.QtWidgets import (
     QDialogButtonBox,
     QFormLayout,
     QLabel,
-    QSpinBox,
     QWidget,
 )
 
@@ -22,6 +21,8 @@ from rungwise.core.atomic import write_atomically
 from rungwise.core.design import Design
 from rungwise.core.netlist import code_text, spice_netlist
 from rungwise.core.version import program_version
+
+from .number_box import NumberBox
 
 
 def mid_scale(design: Design) -> int:
@@ -37,7 +38,7 @@ class NetlistDialog(QDialog):
         self.setWindowTitle(f"Netlist of {design.label}")
         self.design = design
         top = 2**design.bits - 1
-        self.spin_code = QSpinBox(self, objectName="spin_netlist_code")
+        self.spin_code = NumberBox(self, objectName="spin_netlist_code", label="Code")
         self.spin_code.setRange(0, min(top, 2**31 - 1))
         self.spin_code.setValue(mid_scale(design))
         self.check_all = QCheckBox("Every code, as a dc sweep of a code voltage", self,
