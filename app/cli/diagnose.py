@@ -222,9 +222,9 @@ def _extras(args: argparse.Namespace) -> Extras:
                             "its load")
     load = math.nan
     if args.load_ohms is not None:
-        from rungwise.core.units import parse_value
+        from rungwise.core.units import parse_quantity
 
-        load = parse_value(args.load_ohms, "load-ohms")
+        load = parse_quantity(args.load_ohms, "Ω", "load-ohms")
         if not (math.isfinite(load) and load > 0):
             raise DesignError("load-ohms", "must be a resistance above 0 Ω, e.g. 10k")
     return Extras(rout=read_rout(args.rout),

@@ -12,7 +12,6 @@ from PySide6.QtCore import Signal
 from PySide6.QtWidgets import (
     QCheckBox,
     QComboBox,
-    QDoubleSpinBox,
     QFileDialog,
     QGridLayout,
     QLabel,
@@ -30,9 +29,10 @@ from rungwise.core.diagnose.repair import DEFAULT_SERIES, DEFAULT_TARGET_INL
 from rungwise.core.diagnose.saving import as_built_file
 from rungwise.core.errors import DesignError, RungwiseError
 from rungwise.core.parts.eseries import TOLERANCE
-from rungwise.core.units import parse_value
+from rungwise.core.units import parse_quantity
 
 from ..cli.diagnose import explanation_lines, repair_lines
+from ..window.number_box import DecimalBox
 
 
 def panel_text(d: Diagnosis) -> str:
@@ -67,7 +67,8 @@ class RepairPanel(QWidget):
         self.combo_series.addItems(list(TOLERANCE))
         self.combo_series.setCurrentText(DEFAULT_SERIES)
         self.combo_series.setToolTip("Preferred-value series of the new parts")
-        self.spin_target = QDoubleSpinBox(self, objectName="spin_repair_target")
+        self.spin_target = DecimalBox(self, objectName="spin_repair_target", label="|INL| target",
+                                      unit="LSB")
         self.spin_target.setRange(0.01, 100.0)
         self.spin_target.setDecimals(3)
         self.spin_target.setSingleStep(0.05)
@@ -135,7 +136,7 @@ class RepairPanel(QWidget):
             return Extras(rout=rout)
         if not load_text:
             raise DesignError("load", "give the load of the loaded curve, e.g. 10k")
-        load = parse_value(load_text, "load")
+        load = parse_quantity(load_text, "Ω", "load")
         if not (load > 0 and load < float("inf")):
             raise DesignError("load", "must be a resistance above 0 Ω, e.g. 10k")
         return Extras(rout=rout, loaded=self._loaded, load_ohms=load)

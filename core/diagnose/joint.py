@@ -460,14 +460,14 @@ def _note(explanations, fitting, any_fit, confounded, rank, n_parts, extras) -> 
 
 def read_rout(items: list[str]) -> dict[int, float]:
     """``CODE=OHMS`` strings (e.g. ``"128=10.02k"``) → {code: ohms}."""
-    from ..units import parse_value
+    from ..units import parse_quantity
 
     out: dict[int, float] = {}
     for text in items:
         code, _, ohms = text.partition("=")
         try:
             c = int(code.strip(), 0)
-            r = parse_value(ohms, "rout")
+            r = parse_quantity(ohms, "Ω", "rout")
         except (ValueError, TypeError) as exc:
             raise MeasurementError(f"output resistance {text!r}: expected CODE=OHMS, e.g. "
                                    "128=10.02k") from exc
