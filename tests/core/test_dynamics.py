@@ -184,7 +184,7 @@ _times = st.one_of(st.just(0.0), st.floats(1e-15, 20e-9))
        bits=st.integers(1, 5), ron=st.one_of(st.just(0.0), st.floats(1e-3, 500.0)),
        rise=_times, fall=_times,
        skew=st.lists(_times, max_size=5), node_c=st.one_of(st.just(0.0), st.floats(1e-18, 5e-12)),
-       load_c=st.floats(0.0, 50e-12))
+       load_c=st.one_of(st.just(0.0), st.floats(1e-15, 50e-12)))  # 0 or ≥ 1 fF (FIELDS)
 def test_first_moment_identity_for_random_timing(topology, bits, ron, rise, fall, skew, node_c,
                                                  load_c):
     """Equal on-resistances, any edges and capacitances: every transition's net impulse is
