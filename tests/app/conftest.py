@@ -53,7 +53,7 @@ def window(qtbot):
     win.resize(1366, 768)
     win.show()
     qtbot.waitUntil(lambda: win.live.latest is not None and not win.live.is_busy()
-                    and not win.plots.is_drawing(), timeout=10000)
+                    and not win.plots.is_drawing(), timeout=60000)
     yield win
     win.close()
     assert win.live.runner.active_count() == 0

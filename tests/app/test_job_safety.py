@@ -54,15 +54,15 @@ def test_a_job_that_raises_is_shown_and_the_window_stays_usable(window, qtbot, m
     shown: list[str] = []
     window.problem_shown.connect(shown.append)
     state = window.model.state
-    with qtbot.waitSignal(window.problem_shown, timeout=10000):
+    with qtbot.waitSignal(window.problem_shown, timeout=60000):
         state.set_design(state.selected, state.current.design.replace(bits=7), "bits")
     assert "simulated fault in the engine" in shown[0]
     assert "simulated fault" in window.status_text.text()
     assert not window.live.is_busy()
     monkeypatch.undo()
-    with qtbot.waitSignal(window.live.results_changed, timeout=20000):
+    with qtbot.waitSignal(window.live.results_changed, timeout=60000):
         state.set_design(state.selected, state.current.design.replace(bits=6), "bits")
-    qtbot.waitUntil(lambda: not window.live.is_busy(), timeout=20000)
+    qtbot.waitUntil(lambda: not window.live.is_busy(), timeout=60000)
     results = window.live.latest.results
     assert [r.design.bits for r in results if r.design == state.current.design] == [6]
     assert all(r.evaluation is not None for r in results)
@@ -96,7 +96,7 @@ def test_garbage_is_never_collected_on_a_worker_thread(qtbot):
             runner.submit("garbage", _cycles)
             runner.submit("more garbage", _cycles)
         assert blocker.args[1] == 200_000
-        qtbot.waitUntil(lambda: runner.active_count() == 0 and gc.isenabled(), timeout=10000)
+        qtbot.waitUntil(lambda: runner.active_count() == 0 and gc.isenabled(), timeout=60000)
     finally:
         gc.callbacks.remove(note)
         runner.shutdown()
@@ -122,10 +122,10 @@ def test_a_refusal_in_a_job_reads_as_words(qtbot):
         raise ValueError("internal")
 
     runner = JobRunner()
-    with qtbot.waitSignal(runner.failed, timeout=10000) as blocker:
+    with qtbot.waitSignal(runner.failed, timeout=60000) as blocker:
         runner.submit("a", refused)
     assert blocker.args == ["a", "series (bit0): 4.9e+08 Ω lies outside the E96 values offered"]
-    with qtbot.waitSignal(runner.failed, timeout=10000) as blocker:
+    with qtbot.waitSignal(runner.failed, timeout=60000) as blocker:
         runner.submit("b", broken)
     # an internal failure says what it was
     assert blocker.args == ["b", "ValueError: internal (an internal fault; details were written to "
@@ -138,7 +138,7 @@ def test_an_internal_fault_without_words_shows_no_traceback(qtbot, capsys):
         raise AssertionError
 
     runner = JobRunner()
-    with qtbot.waitSignal(runner.failed, timeout=10000) as blocker:
+    with qtbot.waitSignal(runner.failed, timeout=60000) as blocker:
         runner.submit("c", bare)
     shown = blocker.args[1]
     assert shown.startswith("AssertionError (an internal fault")

@@ -24,9 +24,14 @@ def _designs() -> list[Design]:
 
 
 @pytest.fixture
-def compared(window):
+def compared(window, qtbot):
+    """The window on two candidates of its own, their results in (so no late result rewrites the
+    status line a test reads)."""
     window.model.replace_all(with_colours(_designs(), ["#aa3311", "#1177aa"]), None, "test")
     window.model.state.select(0)
+    qtbot.waitUntil(lambda: window.live.latest is not None and not window.live.is_busy()
+                    and [r.design for r in window.live.latest.results] == list(window.model.state.designs)
+                    and not window.plots.is_drawing(), timeout=60000)
     return window
 
 
@@ -73,7 +78,7 @@ def test_hover_card_shows_the_schematic_of_the_row(compared, qtbot):
     event = QHelpEvent(QEvent.Type.ToolTip, rect.center(), lst.viewport().mapToGlobal(rect.center()))
     QApplication.sendEvent(lst.viewport(), event)
     card = pane.card.card
-    qtbot.waitUntil(card.isVisible, timeout=3000)
+    qtbot.waitUntil(card.isVisible, timeout=60000)
     assert "string ten" in card.title.text()
     pix = card.picture.pixmap()
     assert not pix.isNull()

@@ -24,7 +24,7 @@ def test_search_shows_the_cost_and_apply_edits_the_design(pane, qtbot):
     edits = []
     pane.design_edited.connect(lambda d, text: edits.append((d, text)))
     pane.skew.find()
-    qtbot.waitUntil(lambda: pane.skew.button_apply.isEnabled(), timeout=20000)
+    qtbot.waitUntil(lambda: pane.skew.button_apply.isEnabled(), timeout=60000)
     answer = ratio_for_monotonic(design)
     assert pane.skew.label.text() == answer_text(design, answer)
     assert "Cost: max |INL|" in pane.skew.label.text()
@@ -41,7 +41,7 @@ def test_an_answer_for_another_design_is_dropped(pane, qtbot):
     pane.skew.find()
     pane.set_design(Design(topology="string", bits=4, name="b"))
     qtbot.wait(50)
-    qtbot.waitUntil(lambda: not pane.skew.runner.is_busy("skew"), timeout=20000)
+    qtbot.waitUntil(lambda: not pane.skew.runner.is_busy("skew"), timeout=60000)
     assert not pane.skew.button_apply.isEnabled()
     assert pane.skew.label.text() == ""
 

@@ -81,7 +81,7 @@ def test_cancel_stops_the_run_and_leaves_no_worker(qtbot, pane):
     with qtbot.waitSignal(pane.runner.progress, timeout=30000):
         pane.button_run.click()
     assert pane.button_cancel.isEnabled()
-    with qtbot.waitSignal(pane.runner.busy_changed, timeout=5000):
+    with qtbot.waitSignal(pane.runner.busy_changed, timeout=60000):
         pane.button_cancel.click()
     assert pane.label_status.text() == "Cancelled"
     assert not pane.button_cancel.isEnabled()

@@ -81,7 +81,7 @@ def test_widgets_to_model(window, qtbot):
     assert state.current.design.output == "buffer"
     # the new results arrive and reach the table
     qtbot.waitUntil(lambda: window.table.item(window.table.keys.index("n_amplifiers"), 0).text()
-                    .startswith("1"), timeout=10000)
+                    .startswith("1"), timeout=60000)
 
 
 @pytest.mark.parametrize(("key", "text", "words"), [

@@ -26,7 +26,7 @@ def test_add_and_remove_update_curves_and_table(window, qtbot):
     n = len(demo_candidates())
     assert _curve_count(window) == n
     assert window.table.columnCount() == n
-    with qtbot.waitSignal(window.plots.drawn, timeout=10000):
+    with qtbot.waitSignal(window.plots.drawn, timeout=60000):
         window.candidates_pane.button_add.click()
     assert len(state.candidates) == n + 1
     assert state.selected == n
@@ -39,7 +39,7 @@ def test_add_and_remove_update_curves_and_table(window, qtbot):
     assert curve.opts["pen"].color().name() == added.colour
     x, _y = curve.getOriginalDataset()
     assert len(x) == 2 ** added.design.bits
-    with qtbot.waitSignal(window.plots.drawn, timeout=10000):
+    with qtbot.waitSignal(window.plots.drawn, timeout=60000):
         window.candidates_pane.button_remove.click()
     assert _curve_count(window) == n
     assert window.table.columnCount() == n
@@ -59,7 +59,7 @@ def test_at_most_four_candidates(window, qtbot):
     assert not window.candidates_pane.button_add.isEnabled()
     assert len({c.name for c in state.candidates}) == MAX_CANDIDATES
     assert len({c.colour for c in state.candidates}) == MAX_CANDIDATES
-    qtbot.waitUntil(lambda: window.table.columnCount() == MAX_CANDIDATES, timeout=10000)
+    qtbot.waitUntil(lambda: window.table.columnCount() == MAX_CANDIDATES, timeout=60000)
 
 
 def test_superseded_results_are_dropped(qtbot):
@@ -70,7 +70,7 @@ def test_superseded_results_are_dropped(qtbot):
     new = [d.replace(bits=5) for d in demo_candidates()]
     live.request(old, now=True)
     live.request(new, now=True)
-    qtbot.waitUntil(lambda: not live.runner.is_busy(CHANNEL), timeout=10000)
+    qtbot.waitUntil(lambda: not live.runner.is_busy(CHANNEL), timeout=60000)
     assert live.shutdown()
     assert len(got) == 1
     assert [r.design.bits for r in got[0].results] == [5] * len(new)

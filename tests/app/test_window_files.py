@@ -28,7 +28,7 @@ def win(qtbot, private_config):
     w.ask_before_closing = False
     qtbot.addWidget(w)
     w.show()
-    qtbot.waitUntil(lambda: w.live.latest is not None and not w.live.is_busy(), timeout=10000)
+    qtbot.waitUntil(lambda: w.live.latest is not None and not w.live.is_busy(), timeout=60000)
     yield w
     w.close()
 
@@ -112,7 +112,7 @@ def test_crash_copy_is_written_and_restored(win, qtbot, private_config):
     state = win.model.state
     state.set_design(0, state.designs[0].replace(unit_r=4.7e3), "unit R")
     copy = win.files.autosave.path
-    qtbot.waitUntil(copy.exists, timeout=5000)  # written shortly after the edit
+    qtbot.waitUntil(copy.exists, timeout=60000)  # written shortly after the edit
     crashed = copy.with_name(f"autosave-{_dead_pid()}.toml")
     shutil.copy(copy, crashed)  # as if that program had died
     designs = state.designs

@@ -14,14 +14,14 @@ def test_plots_follow_a_palette_change(window, qtbot):
     try:
         app.setPalette(dark_palette())
         qtbot.waitUntil(lambda: window.plots.widgets["output"].backgroundBrush().color().name()
-                        == dark_palette().color(QPalette.ColorRole.Base).name(), timeout=5000)
+                        == dark_palette().color(QPalette.ColorRole.Base).name(), timeout=60000)
         axis = window.plots.plots["output"].getAxis("left")
         assert axis.textPen().color().name() == dark_palette().color(QPalette.ColorRole.Text).name()
         assert is_dark(window.plots.palette())
     finally:
         app.setPalette(old)
     qtbot.waitUntil(lambda: window.plots.widgets["output"].backgroundBrush().color().name()
-                    == old.color(QPalette.ColorRole.Base).name(), timeout=5000)
+                    == old.color(QPalette.ColorRole.Base).name(), timeout=60000)
 
 
 def test_readout_lists_every_candidate_at_the_code(window):

@@ -48,7 +48,7 @@ def test_panel_places_are_remembered(qtbot, private_config):
 
 def test_no_meaning_is_said_in_the_table(window, qtbot):
     state = window.model.state
-    with qtbot.waitSignal(window.live.results_changed, timeout=10000):
+    with qtbot.waitSignal(window.live.results_changed, timeout=60000):
         state.set_design(0, state.designs[0].replace(load_c=0.0), "no capacitance")
     row = window.table.keys.index("settling_time")
     item = window.table.item(row, 0)

@@ -24,7 +24,7 @@ def test_stop_says_the_figures_are_of_earlier_values_and_compute_again_updates(w
     assert not window.live.is_busy()
     assert _shown_designs(window) == before
     assert window.status_text.text() == STOPPED_TEXT
-    with qtbot.waitSignal(window.live.results_changed, timeout=10000):
+    with qtbot.waitSignal(window.live.results_changed, timeout=60000):
         window.findChild(QAction, "action_compute").trigger()
     assert _shown_designs(window) == edited
     assert window.status_text.text().startswith(f"{len(edited)} candidates, 8 bits, solved in")

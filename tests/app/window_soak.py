@@ -391,7 +391,7 @@ class Soak:
         """Bring the window to the front (a closed message box leaves no active window offscreen)."""
         if QApplication.activeWindow() is not self.w:
             self.w.activateWindow()
-            self.qtbot.waitUntil(lambda: QApplication.activeWindow() is self.w, timeout=2000)
+            self.qtbot.waitUntil(lambda: QApplication.activeWindow() is self.w, timeout=60000)
 
     def add(self) -> str:
         n, could = len(self.state.candidates), self.state.can_add()
@@ -440,7 +440,7 @@ class Soak:
             type_text(self.qtbot, editor, name)
         self.qtbot.keyClick(editor, Qt.Key.Key_Return)
         self.qtbot.waitUntil(lambda: not any(e.isVisible() for e in lst.findChildren(QLineEdit)),
-                             timeout=2000)
+                             timeout=60000)
         assert self.state.candidates[index].name == want
         return f"{index} to {name!r}"
 
