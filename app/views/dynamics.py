@@ -42,8 +42,10 @@ CHANNEL = "dynamics"
 WAVE_POINTS = 800
 """Points of the drawn waveform."""
 
-PLOT_MIN_HEIGHT = 230
+PLOT_MIN_HEIGHT = 180
 """Smallest height of a plot of this view, px."""
+PLOT_MIN_WIDTH = 220
+"""Smallest width of a plot of this view, px (two sit side by side on a laptop screen)."""
 
 SETTINGS: dict[str, tuple[str, str]] = {
     "timing.rise": ("Rise", "time for a switch's driven end to reach the high rail, e.g. 5n"),
@@ -183,14 +185,18 @@ class DynamicsPane(QWidget):
         self.plot_wave.setLabel("bottom", "time after the code change", units="s")
         self.plot_wave.setLabel("left", "output", units="V")
         self.plot_wave.addLegend()
-        self.plot_spectrum = follow_palette(pg.PlotWidget(title="Spectrum of the test sine"))
+        self.plot_spectrum = follow_palette(pg.PlotWidget(title="Test sine spectrum (0 dB = largest bin)"))
         self.plot_spectrum.setObjectName("plot_dynamics_spectrum")
         self.plot_spectrum.setLabel("bottom", "DFT bin")
-        self.plot_spectrum.setLabel("left", "power below the largest bin (dB)")
+        self.plot_spectrum.setLabel("left", "level (dB)")
         self.plot_spectrum.getAxis("left").enableAutoSIPrefix(False)
         for plot in (self.plot_glitch, self.plot_wave, self.plot_spectrum):
             plot.setMinimumHeight(PLOT_MIN_HEIGHT)
+            # an explicit minimum width stops a long title from forcing the plots to overlap
+            plot.setMinimumWidth(PLOT_MIN_WIDTH)
         plots = QGridLayout()
+        plots.setColumnStretch(0, 1)
+        plots.setColumnStretch(1, 1)
         plots.addWidget(self.plot_glitch, 0, 0, 1, 2)
         plots.addWidget(self.plot_wave, 1, 0)
         plots.addWidget(self.plot_spectrum, 1, 1)
@@ -331,7 +337,7 @@ class DynamicsPane(QWidget):
                             name="every switch at once")
         g = cd.dynamics.glitch[code]
         text = "no meaning" if not np.isfinite(g) else format_si(float(g), "V·s")
-        self.plot_wave.setTitle(f"Output during {code - 1} → {code} (net glitch impulse {text})")
+        self.plot_wave.setTitle(f"{code - 1} → {code}: net impulse {text}")
 
     def _draw_spectrum(self) -> None:
         self.plot_spectrum.clear()
