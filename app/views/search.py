@@ -11,6 +11,7 @@ from __future__ import annotations
 import math
 from collections.abc import Callable
 from concurrent.futures import Executor
+from dataclasses import replace
 
 import pyqtgraph as pg
 from PySide6.QtCore import Signal
@@ -90,6 +91,8 @@ class SearchPane(QWidget):
         self.setObjectName("search_pane")
         self._designs: list[Design] = []
         self.cost = CostTable()
+        self.file_targets = Targets()
+        """The opened file's ``[targets]``: the fields start from them; line and monotonic kept."""
         self.result: SearchResult | None = None
         self.make_executor: Callable[[], Executor] | None = None
         """Makes the executor of a run's points (``None``: a process pool on this machine)."""
@@ -196,6 +199,10 @@ class SearchPane(QWidget):
         """Take an opened file's prices and search question into the fields (the demo: examples)."""
         self.cost = doc.cost if doc is not None and doc.cost is not None else CostTable()
         self._show_prices()
+        self.file_targets = doc.targets if doc is not None else Targets()
+        self.spin_inl.setValue(self.file_targets.max_inl_lsb)
+        self.spin_dnl.setValue(self.file_targets.max_dnl_lsb)
+        self.spin_target.setValue(self.file_targets.min_yield * 100)
         q = doc.search if doc is not None else None
         if q is None:
             return
@@ -221,9 +228,9 @@ class SearchPane(QWidget):
 
     # --- actions -------------------------------------------------------------------------------
     def targets(self) -> Targets:
-        """The per-board targets the fields describe."""
-        return Targets(max_inl_lsb=self.spin_inl.value(), max_dnl_lsb=self.spin_dnl.value(),
-                       min_yield=self.spin_target.value() / 100)
+        """The per-board targets the fields describe (the file's INL line and monotonic rule kept)."""
+        return replace(self.file_targets, max_inl_lsb=self.spin_inl.value(),
+                       max_dnl_lsb=self.spin_dnl.value(), min_yield=self.spin_target.value() / 100)
 
     def run(self) -> None:
         """Start the search the fields describe (a bad entry is named in the status line)."""

@@ -162,3 +162,20 @@ def test_default_process_pool_from_the_worker_thread(qtbot, pane):
     q = question_from_fields({k: e.text() for k, e in pane.edits.items()}, "monotonic", 0.99, 800, 1)
     inline = search(BASE, q, pane.targets(), pane.cost, InlineExecutor())
     assert [p.to_dict() for p in pooled.decided] == [p.to_dict() for p in inline.decided]
+
+
+def test_the_files_targets_are_the_searchs_targets(qtbot, pane):
+    """A file's [targets] (limits, line, monotonic rule, yield) are what the view searches for."""
+    from rungwise.core.designfile import DesignFile
+    from rungwise.core.targets import Targets
+
+    wanted = Targets(max_inl_lsb=0.25, max_dnl_lsb=0.75, monotonic=False, inl_line="bestfit",
+                     min_yield=0.95)
+    pane.load_file_tables(DesignFile([BASE], targets=wanted))
+    assert (pane.spin_inl.value(), pane.spin_dnl.value(), pane.spin_target.value()) == (0.25, 0.75, 95.0)
+    assert pane.targets() == wanted
+    pane.spin_inl.setValue(0.4)  # a field edited after opening wins over the file
+    assert pane.targets().max_inl_lsb == 0.4
+    assert pane.targets().inl_line == "bestfit"
+    pane.load_file_tables(None)
+    assert pane.targets() == Targets()
