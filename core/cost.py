@@ -23,7 +23,6 @@ listed one); a grade tighter than every listed one is refused.
 
 from __future__ import annotations
 
-import math
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 from typing import Any
@@ -32,8 +31,8 @@ import numpy as np
 
 from .errors import DesignError
 from .network import Network, PartList
+from .ranges import FRACTION, FieldSpec
 from .types import SERIES
-from .units import parse_value
 
 EXAMPLE_RESISTOR = {0.05: 0.002, 0.02: 0.003, 0.01: 0.004, 0.005: 0.02, 0.0025: 0.05, 0.001: 0.09,
                     0.0005: 0.25, 0.0002: 0.6, 0.0001: 1.2}
@@ -54,14 +53,14 @@ EXAMPLE_NOTE = "invented example prices, not quotes"
 MAX_PRICE = 1e9
 
 
+PRICE = FieldSpec("Price", "", 0.0, MAX_PRICE)
+"""Any price or area weight: 0 … MAX_PRICE, in the table's own money."""
+GRADE = FieldSpec("Tolerance grade", FRACTION, 0.0, 0.5)
+"""A grade key of a price table, e.g. "0.1%"."""
+
+
 def _price(where: str, value: Any) -> float:
-    try:
-        x = parse_value(value, where)
-    except DesignError as exc:
-        raise DesignError(where, f"{exc.reason}; allowed: a price 0 … {MAX_PRICE:g}") from None
-    if not (math.isfinite(x) and 0 <= x <= MAX_PRICE):
-        raise DesignError(where, f"{value!r} is out of range; allowed: a price 0 … {MAX_PRICE:g}")
-    return x
+    return float(PRICE.check(where, value))
 
 
 def _grade_table(where: str, data: Any) -> dict[float, float]:
@@ -69,12 +68,7 @@ def _grade_table(where: str, data: Any) -> dict[float, float]:
         raise DesignError(where, "must be a table of prices by grade, e.g. {\"0.1%\" = 0.09}")
     out = {}
     for key, value in data.items():
-        try:
-            grade = parse_value(key, f"{where}.{key}")
-        except DesignError:
-            raise DesignError(f"{where}.{key}", "not a tolerance grade; write it like \"0.1%\"") from None
-        if not 0 <= grade <= 0.5:
-            raise DesignError(f"{where}.{key}", "grade out of range; allowed: 0 … 50 %")
+        grade = GRADE.check(f"{where}.{key}", key)
         out[grade] = _price(f"{where}.{key}", value)
     return out
 

@@ -36,10 +36,22 @@ from .design import Design
 from .errors import DesignError
 from .grades import CRITERIA
 from .parts.eseries import HIGHEST_OHMS, LOWEST_OHMS, mantissas
+from .ranges import FRACTION, FieldSpec
 from .targets import MAX_SEED, MAX_TRIALS
 from .types import MAX_ARRAY_BITS, OUTPUTS_BY_TOPOLOGY, SERIES, TOPOLOGIES
 from .units import parse_quantity, parse_value
 from .yield_decision import METHODS
+
+QUESTION_SPECS = {
+    "target_yield": FieldSpec("Target yield", FRACTION, 0.0, 0.9999, low_open=True),
+    "trials": FieldSpec("Boards per point, at most", "", 10, MAX_TRIALS, integer=True),
+    "seed": FieldSpec("Random seed", "", 0, MAX_SEED, integer=True),
+    "confidence": FieldSpec("Confidence of a decision", FRACTION, 0.5, 0.9999),
+}
+"""The search question's numeric settings (the one range check and its wording)."""
+
+LIMIT_SPEC = FieldSpec("Limit", "", 0.0, math.inf, low_open=True, allow_inf=True)
+"""Every optional limit (reference current, output resistance, settling …): above 0, or none."""
 
 DEFAULT_GRADES: tuple[float, ...] = (0.01, 0.005, 0.0025, 0.001, 0.0005)
 """Tolerance grades tried when none are given, fraction (1 % … 0.05 %)."""
@@ -237,19 +249,12 @@ class SearchQuestion:
             raise DesignError("criterion", f"{self.criterion!r} is not one of " + ", ".join(CRITERIA))
         if self.method not in METHODS:
             raise DesignError("method", f"{self.method!r} is not one of " + ", ".join(METHODS))
-        if self.target_yield is not None and not 0 < self.target_yield < 1:
-            raise DesignError("target_yield", f"{self.target_yield!r} is out of range; allowed: "
-                              "above 0 and below 100 %")
-        if isinstance(self.trials, bool) or not 10 <= int(self.trials) <= MAX_TRIALS:
-            raise DesignError("trials", f"{self.trials!r} is out of range; allowed: 10 … {MAX_TRIALS}")
-        if isinstance(self.seed, bool) or not 0 <= int(self.seed) <= MAX_SEED:
-            raise DesignError("seed", f"{self.seed!r} is out of range; allowed: 0 … {MAX_SEED}")
-        if not 0.5 <= self.confidence < 1:
-            raise DesignError("confidence", f"{self.confidence!r} is out of range; allowed: 0.5 … "
-                              "below 1")
+        for key, spec in QUESTION_SPECS.items():
+            value = getattr(self, key)
+            if value is not None:
+                object.__setattr__(self, key, spec.check(key, value))
         for key in LIMIT_KEYS:
-            if not getattr(self, key) > 0:
-                raise DesignError(key, f"{getattr(self, key)!r} is out of range; allowed: above 0")
+            object.__setattr__(self, key, LIMIT_SPEC.check(key, getattr(self, key)))
 
     # --- the space ---------------------------------------------------------------------------
     def network_choices(self, base: Design) -> tuple[tuple[str, str], ...]:
