@@ -28,6 +28,16 @@ def test_new_writes_the_demo_with_changes(tmp_path: Path, capsys):
     assert "seed 77" in capsys.readouterr().err
 
 
+def test_new_dash_writes_the_file_to_standard_output(tmp_path: Path, capsys, monkeypatch):
+    monkeypatch.chdir(tmp_path)
+    assert run_cli(["new", "-", "--seed", "5"]) == 0
+    text = capsys.readouterr().out
+    assert not (tmp_path / "-").exists()
+    doc = designfile.loads(text, "stdout")
+    assert doc.candidates == demo_candidates()
+    assert doc.analysis.seed == 5
+
+
 def test_new_refuses_to_overwrite_without_force(tmp_path: Path, capsys):
     path = tmp_path / "d.toml"
     path.write_text("mine")
