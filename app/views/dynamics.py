@@ -34,6 +34,7 @@ from rungwise.core.topologies import build
 from ..jobs.workers import Progress, runner_for
 from ..plots.theme import candidate_colour, follow_palette
 from ..window.number_box import NumberBox
+from .candidate_combo import refill_candidates
 from .dynamics_job import CandidateDynamics, dynamics_job
 
 CHANNEL = "dynamics"
@@ -213,13 +214,8 @@ class DynamicsPane(QWidget):
     # --- the view protocol ---------------------------------------------------------------------
     def set_candidates(self, designs: list[Design]) -> None:
         """Solve the compared candidates in the background (the newest request wins)."""
-        keep = self.combo.currentIndex()
         self.designs = list(designs)
-        self.combo.blockSignals(True)
-        self.combo.clear()
-        self.combo.addItems([d.label for d in self.designs])
-        self.combo.setCurrentIndex(min(max(keep, 0), len(self.designs) - 1))
-        self.combo.blockSignals(False)
+        refill_candidates(self.combo, self.designs)
         self._set_code_range()
         self._show_settings()
         self.status.setText("Solving every transition…")

@@ -27,6 +27,7 @@ from rungwise.core.schematic import Schematic, schematic
 from ..plots.schematic_paint import paint_schematic
 from ..plots.theme import candidate_colour
 from ..window.number_box import NumberBox
+from .candidate_combo import refill_candidates
 
 
 class SchematicCanvas(QWidget):
@@ -90,13 +91,8 @@ class SchematicPane(QWidget):
     # --- the view protocol ---------------------------------------------------------------------
     def set_candidates(self, designs: list[Design]) -> None:
         """Show the compared candidates (keeps the chosen one and its code when it still fits)."""
-        keep = self.combo.currentIndex()
         self.designs = list(designs)
-        self.combo.blockSignals(True)
-        self.combo.clear()
-        self.combo.addItems([d.label for d in self.designs])
-        self.combo.setCurrentIndex(min(max(keep, 0), len(self.designs) - 1))
-        self.combo.blockSignals(False)
+        refill_candidates(self.combo, self.designs)
         self._on_candidate(self.combo.currentIndex(), keep_code=True)
 
     def set_colours(self, colours: list[str]) -> None:
