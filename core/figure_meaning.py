@@ -101,6 +101,17 @@ def shown(reason: str) -> str:
     return f"{NO_MEANING_TEXT}: {reason}"
 
 
+def numbered(reason: str, notes: dict[str, int]) -> str:
+    """``"no meaning (n)"`` for a table cell, numbering each distinct reason once in ``notes``
+    (reason → n) so the table lists it once beneath (:func:`note_line`) instead of in every cell."""
+    return f"{NO_MEANING_TEXT} ({notes.setdefault(reason, len(notes) + 1)})"
+
+
+def note_line(reason: str, n: int) -> str:
+    """The line under a table for the cells numbered ``n``: ``"(n) No meaning: <reason>."``."""
+    return f"({n}) No meaning: {reason}."
+
+
 def figure_note(design: Any, key: str) -> str:
     """What belongs beside a meaningful figure: ``"at 70 °C"`` for a drift row, else ``""``."""
     if key in DRIFT_KEYS:

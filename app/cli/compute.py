@@ -14,7 +14,7 @@ import numpy as np
 
 from rungwise.core import SUMMARY_KEYS, Evaluation, MonteCarloResult, evaluate, iter_monte_carlo
 from rungwise.core.errors import RungwiseError
-from rungwise.core.figure_meaning import shown
+from rungwise.core.figure_meaning import note_line, numbered
 from rungwise.core.formatting import format_quantity
 from rungwise.core.grades import CRITERIA
 from rungwise.core.metrics.spectrum import percentiles, spectrum_trials
@@ -106,25 +106,28 @@ def _label_unit(key: str) -> tuple[str, str]:
     return SUMMARY_KEYS.get(key, (key, ""))
 
 
-def _cell(key: str, value: Any, reason: str | None = None) -> str:
-    unit = _label_unit(key)[1]
+def _cell(key: str, value: Any, reason: str | None, notes: dict[str, int]) -> str:
+    """A figure's text; one with no meaning for the inputs is ``no meaning (n)``, its reason listed
+    once under the table (a reason in every cell would make every column as wide as a sentence)."""
     if reason:
-        return shown(reason)
-    return format_quantity(value, unit)
+        return numbered(reason, notes)
+    return format_quantity(value, _label_unit(key)[1])
 
 
 def render_table(evs: list[Evaluation]) -> str:
     """Aligned text: one row per summary figure, one column per candidate."""
     rows = [["", *[e.design.label for e in evs]]]
     keys = [k for k in evs[0].summary if all(k in e.summary for e in evs)]
+    reasons: dict[str, int] = {}
     for key in keys:
         label = _label_unit(key)[0]
-        rows.append([label, *[_cell(key, e.summary[key], e.no_meaning.get(key)) for e in evs]])
+        rows.append([label, *[_cell(key, e.summary[key], e.no_meaning.get(key), reasons) for e in evs]])
     widths = [max(len(r[i]) for r in rows) for i in range(len(rows[0]))]
     table = "\n".join("  ".join(c.ljust(w) for c, w in zip(r, widths, strict=True)).rstrip()
                       for r in rows)
-    notes = [f"{e.design.label}: {_label_unit(k)[0].strip()}: {text}"
-             for e in evs for k, text in e.notes.items()]
+    notes = [note_line(reason, n) for reason, n in reasons.items()]
+    notes += [f"{e.design.label}: {_label_unit(k)[0].strip()}: {text}"
+              for e in evs for k, text in e.notes.items()]
     return table + ("\n\n" + "\n".join(notes) if notes else "")
 
 

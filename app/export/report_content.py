@@ -188,11 +188,11 @@ def _swatches(data: ReviewData, first: int) -> dict[int, str]:
 def _cell(ev: Evaluation, key: str, notes: dict[str, int] | None = None) -> str:
     """A figure's cell; a figure with no meaning for the inputs says so — with ``notes`` given,
     as ``no meaning (n)`` whose reason is listed once under the table (:func:`_note_lines`)."""
-    from rungwise.core.figure_meaning import NO_MEANING_TEXT, shown
+    from rungwise.core.figure_meaning import numbered, shown
 
     reason = ev.no_meaning.get(key)
     if reason and notes is not None:
-        return f"{NO_MEANING_TEXT} ({notes.setdefault(reason, len(notes) + 1)})"
+        return numbered(reason, notes)
     if reason:
         return shown(reason)
     label, unit = SUMMARY_KEYS.get(key, (key, ""))
@@ -376,7 +376,9 @@ def _comparison_section(data: ReviewData) -> list[Block]:
 
 def _note_lines(notes: dict[str, int]) -> list[Block]:
     """The reasons behind ``no meaning (n)`` cells, one line each."""
-    return [Paragraph(f"({n}) No meaning: {reason}.", "small") for reason, n in notes.items()]
+    from rungwise.core.figure_meaning import note_line
+
+    return [Paragraph(note_line(reason, n), "small") for reason, n in notes.items()]
 
 
 def _search_section(data: ReviewData) -> list[Block]:

@@ -149,7 +149,7 @@ def test_csv_parses_back(design_file, expected):
 def _table_number(cell: str, unit: str) -> float | bool:
     """A table cell read back: yes/no, —, ∞ and an engineering prefix before the figure's unit."""
     cell = cell.strip()
-    if cell == "—" or cell.startswith("no meaning: "):  # core/figure_meaning.py
+    if cell == "—" or cell.startswith("no meaning"):  # core/figure_meaning.py
         return math.nan
     if cell in ("yes", "no"):
         return cell == "yes"
