@@ -26,7 +26,7 @@ import numpy as np
 
 from ..network import Network
 from ..timing import Timing
-from . import string_taps
+from . import string_laplace, string_taps
 from .switching import CAP_FLOOR, branches, leg_skews, plain_node_count
 from .transient import Segments, respond
 
@@ -79,12 +79,27 @@ def sample_text(bits: int) -> str:
             f"{ALL_TRANSITION_BITS} bits); the others are not computed")
 
 
+def _uses_laplace(net: Network, timing: Timing, method: str) -> bool:
+    """Whether a string with node capacitance goes to the Laplace-domain solution: when asked,
+    or (``auto``) when it is too large for the dense solver and the solution holds."""
+    if method == "laplace":
+        return True
+    return (method == "auto" and plain_node_count(net) > MAX_NODES
+            and string_laplace.applies(net, timing))
+
+
 def no_dynamics_reason(net: Network, timing: Timing) -> str | None:
     """Why glitch and settling mean nothing for these inputs, or ``None``."""
-    if plain_node_count(net) > MAX_NODES and not string_taps.applies(net, timing.node_c):
-        return (f"not computed: the transient solver takes networks of up to {MAX_NODES} nodes "
-                f"and this one has {plain_node_count(net)} (a resistor string above 6 bits with "
-                "timing.node_c set)")
+    if (plain_node_count(net) > MAX_NODES and not string_taps.applies(net, timing.node_c)
+            and not string_laplace.applies(net, timing)):
+        why = ("its tap switches make before they break (timing.rise < timing.fall)"
+               if timing.rise < timing.fall else
+               "its output has a load resistor and the tap switches break before they make "
+               "(timing.rise > timing.fall)")
+        return (f"not computed: {why}. A resistor string with timing.node_c set is solved above "
+                f"{MAX_NODES} nodes only when the old tap opens and the new one closes at the "
+                "same instant (rise = fall), or break before make on an output without a load "
+                f"resistor (this one has {plain_node_count(net)} nodes)")
     out = net.output
     load = timing.load_c if out.kind == "node" and not out.buffered else 0.0
     load = load if load >= CAP_FLOOR else 0.0
@@ -256,7 +271,8 @@ def solve_transitions(net: Network, timing: Timing, from_codes: np.ndarray,
 
     Vectorised over transitions in chunks of :data:`CHUNK`; ``cancel`` (an event, optional) is
     checked between chunks and stops the work with ``InterruptedError``. ``method="dense"``
-    keeps a string off its three-node template (for checks).
+    keeps a string off its three-node template and its Laplace-domain solution (for checks);
+    ``method="laplace"`` takes a string with node capacitance to the latter at any size.
     """
     from_codes = np.asarray(from_codes, dtype=np.int64)
     to_codes = np.asarray(to_codes, dtype=np.int64)
@@ -264,6 +280,12 @@ def solve_transitions(net: Network, timing: Timing, from_codes: np.ndarray,
     reason = no_dynamics_reason(net, timing)
     if reason is not None:
         return TransitionFigures(from_codes, to_codes, nan, nan.copy(), nan.copy(), np.nan, reason)
+    if _uses_laplace(net, timing, method):
+        lsb = string_laplace.StringTransitions(net, timing, to_codes[:0], to_codes[:0]).lsb()
+        with np.errstate(over="ignore", under="ignore"):
+            figs = string_laplace.transition_figures(net, timing, from_codes, to_codes,
+                                                     abs(lsb) / 2, cancel=cancel)
+        return TransitionFigures(from_codes, to_codes, *figs, lsb=lsb)
     solver = _Solver(net, timing, method)
     lsb = solver.lsb()
     parts = []
@@ -280,6 +302,9 @@ def solve_transitions(net: Network, timing: Timing, from_codes: np.ndarray,
 def waveforms(net: Network, timing: Timing, from_code: int, to_code: int, times: np.ndarray,
               method: str = "auto") -> tuple[np.ndarray, np.ndarray]:
     """The output of one change and its simultaneous-switching response at ``times`` (P,), V."""
+    if _uses_laplace(net, timing, method):
+        with np.errstate(over="ignore", under="ignore"):
+            return string_laplace.waveforms(net, timing, from_code, to_code, times)
     solver = _Solver(net, timing, method)
     with np.errstate(over="ignore"):
         actual, sync = solver.respond(np.array([from_code]), np.array([to_code]))

@@ -86,9 +86,9 @@ class Branches:
 
 
 def plain_node_count(net: Network) -> int:
-    """Unknown nodes of the plain equivalent (what the dense transient solver must handle)."""
-    n = net.unknown_count()
-    return n + sum(max(c.size - 1, 0) for c in net.chains)
+    """Unknown nodes of the plain equivalent (what the dense transient solver must handle); a
+    chain's interior nodes are counted once (``Network.unknown_count`` holds them)."""
+    return net.unknown_count()
 
 
 def branches(net: Network, node_c: float, load_c: float) -> Branches:

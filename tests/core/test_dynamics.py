@@ -72,11 +72,20 @@ def test_capacitance_without_edges_settles_but_has_no_glitch_figure():
     assert np.all(ev.dynamics.settling[1:] > 0)
 
 
-def test_large_strings_are_refused_by_name():
-    d = Design(topology="string", bits=8, load_c=1e-12, timing={"node_c": 1e-15})
+def test_large_make_before_break_strings_are_refused_by_name():
+    """Above the dense solver's 64 nodes a string with node capacitance is solved in the Laplace
+    domain when its taps change over together or break first; make-before-break is refused."""
+    d = Design(topology="string", bits=8, ron_high=100, load_c=1e-12,
+               timing={"node_c": 1e-15, "rise": 1e-9, "fall": 3e-9})
     ev = evaluate(d)
-    assert "64 nodes" in ev.dynamics.note
+    assert "make before they break (timing.rise < timing.fall)" in ev.dynamics.note
+    assert "rise = fall" in ev.dynamics.note
+    assert "256 nodes" in ev.dynamics.note  # 255 taps and the output
     assert math.isnan(ev.summary["glitch_major"])
+    assert math.isnan(ev.summary["settling_major"])
+    loaded = d.replace(load_r=1e5, timing={"node_c": 1e-15, "rise": 3e-9, "fall": 1e-9})
+    assert "load resistor" in evaluate(loaded).dynamics.note
+    assert evaluate(d.replace(timing={"node_c": 1e-15})).dynamics.note is None
 
 
 def test_per_code_layout_and_summary():
@@ -152,8 +161,11 @@ def test_figure_meaning_names_the_reason_for_glitch_rows():
     assert "no capacitance" in not_meaningful(plain, "settling_worst_code")
     assert not_meaningful(plain.replace(timing={"skew": [0, 1e-9]}), "glitch_major") is None
     assert not_meaningful(plain.replace(load_c=1e-12), "settling_major") is None
-    assert "64 nodes" in not_meaningful(Design(topology="string", bits=7, load_c=1e-12,
-                                               timing={"node_c": 1e-15}), "settling_major")
+    assert "make before they break" in not_meaningful(
+        Design(topology="string", bits=7, load_c=1e-12,
+               timing={"node_c": 1e-15, "rise": 1e-9, "fall": 2e-9}), "settling_major")
+    assert not_meaningful(Design(topology="string", bits=7, load_c=1e-12,
+                                 timing={"node_c": 1e-15}), "settling_major") is None
     assert not_meaningful(Design(topology="string", bits=7, load_c=1e-12), "settling_major") is None
     assert not_meaningful(plain, "sinad_db") is None
 

@@ -84,6 +84,37 @@ def test_glitch_agrees_with_ngspice(design):
         assert mine.settling[0] == pytest.approx(_settling(t, y, half), abs=2 * T_MAX), c
 
 
+STRING_DESIGNS = [
+    Design(topology="string", bits=7, unit_r=100, ron_high=300, load_c=3e-12, load_r=2e4,
+           ref_r=50, timing={"rise": 4e-9, "fall": 4e-9, "skew": [0, 0, 1e-9], "node_c": 2e-13}),
+    Design(topology="string", output="buffer", gain=2, bits=7, unit_r=100, ron_high=300,
+           timing={"rise": 6e-9, "fall": 2e-9, "node_c": 2e-13}),
+]
+
+
+@pytest.mark.ngspice
+@pytest.mark.parametrize("design", STRING_DESIGNS, ids=["loaded", "buffered-break-first"])
+def test_long_string_agrees_with_ngspice(design):
+    """A 7-bit string with node capacitance (128 nodes: beyond the dense solver, so the
+    Laplace-domain one) against ngspice's transient of the whole circuit."""
+    net, tm = build(design), timing_of(design)
+    start = leg_skews(branches(net, tm.node_c, tm.load_c), tm.skew)
+    t_stop = 2e-7
+    for a, b in ((63, 64), (0, 127)):
+        mine = solve_transitions(net, tm, np.array([a]), np.array([b]))
+        assert mine.reason is None
+        t, y = transient(net, a, b, start, tm.rise, tm.fall, tm.node_c, tm.load_c, t_stop, T_MAX)
+        ts, ys = transient(net, a, b, np.zeros_like(start), 0.0, 0.0, tm.node_c, tm.load_c,
+                           t_stop, T_MAX)
+        # tolerances as in test_glitch_agrees_with_ngspice (ngspice's step ≤ T_MAX, 1 ps edges)
+        area = _area(t, y) - _area(ts, ys)
+        assert mine.impulse[0] == pytest.approx(area, rel=1e-3, abs=abs(design.vref) * 1e-12)
+        diff = np.abs(y - np.interp(t, ts, ys))
+        step = max(np.max(np.abs(np.diff(y))), np.max(np.abs(np.diff(ys))))
+        assert abs(mine.peak[0] - np.max(diff)) <= step + 1e-6 * abs(y[-1] - y[0])
+        assert mine.settling[0] == pytest.approx(_settling(t, y, abs(mine.lsb) / 2), abs=2 * T_MAX)
+
+
 @pytest.mark.parametrize("design", SPICE_DESIGNS, ids=lambda d: d.topology)
 def test_first_moment_identity(design):
     """With equal on-resistances the net impulse is −Σ_k ΔV_k·(skew_k + edge_k/2) exactly
