@@ -11,6 +11,10 @@ Run on demand (pytest does not collect this folder)::
 * baseline: the same transitions one at a time (the solver called per transition, no
   vectorisation; timed on 64 and scaled), and scipy ``solve_ivp`` (Radau, rtol 1e-8) of one
   transition's ODE, scaled to all — with the largest difference of its glitch impulse from ours;
+* ``long string``: all 4,095 transitions (and the full-scale step) of a 12-bit resistor string
+  with node capacitance and a load resistor, by the Laplace-domain solution; baseline: the dense
+  solver on the same string at 6 bits (63 transitions; the largest it takes at once), per
+  transition, scaled by its O(n³) to 12 bits — and the Laplace solution at 6 bits beside it;
 * ``spectrum``: the 16,384-sample sine of a 16-bit ladder (``spectrum_figures``).
 """
 
@@ -102,6 +106,30 @@ def _ode_impulse(design: Design, code: int) -> tuple[float, float]:
     return area, time.perf_counter() - w
 
 
+STRING = Design(topology="string", bits=12, unit_r=10, ron_high=200, load_c=2e-12, load_r=1e5,
+                timing={"node_c": 1e-13, "rise": 2e-9, "fall": 2e-9})
+
+
+def _long_string(repeat: int) -> None:
+    """The Laplace-domain string solution against the dense solver's cost, scaled."""
+    def every(design: Design, method: str) -> tuple[float, int]:
+        net, tm = build(design), timing_of(design)
+        codes = np.arange(1, 2**design.bits)
+        fc, tc = np.append(codes - 1, 0), np.append(codes, 2**design.bits - 1)
+        wall, _, _ = _timed(lambda: solve_transitions(net, tm, fc, tc, method=method), repeat)
+        return wall, fc.size
+
+    small = STRING.replace(bits=6)
+    dense6, count6 = every(small, "dense")
+    laplace6, _ = every(small, "laplace")
+    laplace12, count12 = every(STRING, "auto")
+    scaled = dense6 / count6 * (4096 / 64) ** 3 * count12
+    print(f"string, 6 bits, all {count6} transitions: dense {dense6:.2f} s, Laplace "
+          f"{laplace6:.2f} s (×{dense6 / laplace6:.1f})")
+    print(f"string, 12 bits, all {count12} transitions: Laplace {laplace12:.2f} s; the dense "
+          f"solver scaled by O(n³) a transition: {scaled:.0f} s (×{scaled / laplace12:.0f})")
+
+
 def main() -> None:
     parser = argparse.ArgumentParser()
     parser.add_argument("--repeat", type=int, default=2)
@@ -128,6 +156,7 @@ def main() -> None:
             print(f"{'':16s} scipy Radau, one transition: {secs:.2f} s → all {secs * codes.size:.0f} s "
                   f"(×{secs * codes.size / wall:.0f}); impulse {area:.6e} vs ours {ours:.6e} "
                   f"(rel {abs(area - ours) / abs(ours):.1e})")
+    _long_string(args.repeat)
     codes = sine_codes(16, 16384, 1021, 1.0)
     v = solve(build(Design(bits=16))).vout[codes]
     wall, _, _ = _timed(lambda: spectrum_figures(v, 1021), args.repeat)
