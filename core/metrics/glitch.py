@@ -26,7 +26,7 @@ import numpy as np
 
 from ..network import Network
 from ..timing import Timing
-from . import string_laplace, string_taps
+from . import string_figures, string_laplace, string_taps
 from .switching import CAP_FLOOR, branches, leg_skews, plain_node_count
 from .transient import Segments, respond
 
@@ -92,14 +92,9 @@ def no_dynamics_reason(net: Network, timing: Timing) -> str | None:
     """Why glitch and settling mean nothing for these inputs, or ``None``."""
     if (plain_node_count(net) > MAX_NODES and not string_taps.applies(net, timing.node_c)
             and not string_laplace.applies(net, timing)):
-        why = ("its tap switches make before they break (timing.rise < timing.fall)"
-               if timing.rise < timing.fall else
-               "its output has a load resistor and the tap switches break before they make "
-               "(timing.rise > timing.fall)")
-        return (f"not computed: {why}. A resistor string with timing.node_c set is solved above "
-                f"{MAX_NODES} nodes only when the old tap opens and the new one closes at the "
-                "same instant (rise = fall), or break before make on an output without a load "
-                f"resistor (this one has {plain_node_count(net)} nodes)")
+        return (f"not computed: the dense transient solver takes networks of up to {MAX_NODES} "
+                f"nodes and this one has {plain_node_count(net)}; only resistor strings have a "
+                "solver for more")
     out = net.output
     load = timing.load_c if out.kind == "node" and not out.buffered else 0.0
     load = load if load >= CAP_FLOOR else 0.0
@@ -283,7 +278,7 @@ def solve_transitions(net: Network, timing: Timing, from_codes: np.ndarray,
     if _uses_laplace(net, timing, method):
         lsb = string_laplace.StringTransitions(net, timing, to_codes[:0], to_codes[:0]).lsb()
         with np.errstate(over="ignore", under="ignore"):
-            figs = string_laplace.transition_figures(net, timing, from_codes, to_codes,
+            figs = string_figures.transition_figures(net, timing, from_codes, to_codes,
                                                      abs(lsb) / 2, cancel=cancel)
         return TransitionFigures(from_codes, to_codes, *figs, lsb=lsb)
     solver = _Solver(net, timing, method)
@@ -304,7 +299,7 @@ def waveforms(net: Network, timing: Timing, from_code: int, to_code: int, times:
     """The output of one change and its simultaneous-switching response at ``times`` (P,), V."""
     if _uses_laplace(net, timing, method):
         with np.errstate(over="ignore", under="ignore"):
-            return string_laplace.waveforms(net, timing, from_code, to_code, times)
+            return string_figures.waveforms(net, timing, from_code, to_code, times)
     solver = _Solver(net, timing, method)
     with np.errstate(over="ignore"):
         actual, sync = solver.respond(np.array([from_code]), np.array([to_code]))

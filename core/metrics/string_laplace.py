@@ -15,14 +15,19 @@ fixed-Talbot inversion (Abate & Valkó 2004) with :data:`TALBOT_NODES` points, a
 2e−12 of the step for the sums of decaying exponentials an RC network gives (checked in the tests);
 nothing is stepped in time.
 
-Where this holds (:func:`applies`): every tap switch of a string starts its edge together (a tap is
-decoded from every bit), so with ``rise == fall`` the old tap opens and the new closes at the same
-instant t_sw, and the whole change is the simultaneous response delayed by t_sw; with
-``rise > fall`` (break before make) on an output with no load resistor the output floats meanwhile
-and the string carries no current, so again nothing moves before t_sw. Then, exactly:
-net glitch impulse = −(y_b − y_a)·t_sw; the peak and the settling time come from the waveform on a
-shared grid (:data:`POINTS_PER_DECADE`), refined in the grid cells that hold them, up to a horizon
-past which no excursion can exceed ½ LSB (an energy bound on the slowest decay).
+Every tap switch of a string starts its edge together (a tap is decoded from every bit). With
+``rise == fall`` the old tap opens and the new closes at the same instant t_sw, so the whole change
+is the simultaneous response delayed by t_sw (net glitch impulse = −(y_b − y_a)·t_sw exactly);
+likewise with ``rise > fall`` on an output with no load resistor (the output floats meanwhile and
+the string carries no current). Otherwise (``string_overlap.TwoStage``) the output is joined to both taps
+or to neither from t1 to t2, solved with the switch currents as unknowns, and what that overlap
+leaves in the string reaches the output after t2 through the resolvent identity (one more Talbot
+sum, as a matrix product); the impulse is then exact from the transforms at s = 0.
+
+The peak and the settling time (``string_figures.py``) come from the waveform on a shared grid
+(:data:`POINTS_PER_DECADE`), refined in the grid cells that hold them, up to a horizon past which
+no excursion can exceed ½ LSB (an energy bound on the slowest decay). Checked against the dense
+solver (impulse and peak to 1e−6, settling to 1e−4) and against ngspice.
 """
 
 from __future__ import annotations
@@ -43,24 +48,25 @@ POINTS_PER_DECADE = 16
 """Times per decade of the shared grid the waveform is first looked at."""
 
 REFINE_POINTS = 16
-"""Extra times in each grid cell that holds a peak or a settling instant (one round over the
-distinct cells of the batch; then the settling instant is interpolated taking |ΔV| as exponential
-across the remaining sub-cell, and the peak from a parabola through its three best points)."""
+"""Extra times in each grid cell that holds a peak or a settling instant (``string_figures.py``:
+one round over the distinct cells of the batch; then the settling instant is interpolated taking
+|ΔV| as exponential across the remaining sub-cell, and the peak from a parabola through its three
+best points)."""
 
 CHUNK_CELLS = 2**22
 """Taps × Laplace points per pass along the string (bounds memory: 64 MiB an array)."""
 
 
 def applies(net: Network, timing: Timing) -> bool:
-    """Whether the Laplace-domain string solution holds (see the module docstring)."""
-    if not (net.selector is not None and len(net.chains) == 1 and timing.node_c > 0
+    """Whether the Laplace-domain string solution holds: one string, its tap switch, the
+    reference, and node capacitance."""
+    return (net.selector is not None and len(net.chains) == 1 and timing.node_c > 0
             and not net.legs and not net.groups
-            and all(r.role == "reference" for r in net.resistors)):
-        return False
-    return timing.rise == timing.fall or (timing.rise > timing.fall and _load_g(net) == 0)
+            and all(r.role == "reference" for r in net.resistors))
 
 
-def _load_g(net: Network) -> float:
+def load_g(net: Network) -> float:
+    """Conductance of the output's load resistor, S (0 on a buffered or unloaded output)."""
     out = net.output
     if out.buffered or not np.isfinite(out.load_ohms):
         return 0.0
@@ -117,15 +123,16 @@ def string_path(net: Network, timing: Timing) -> StringPath:
     x = np.cumsum(series)[:-1]
     load_c = timing.load_c if not out.buffered and timing.load_c >= CAP_FLOOR else 0.0
     return StringPath(series=series, x=x, node_c=timing.node_c, out_c=timing.node_c + load_c,
-                      load_g=_load_g(net), ron=max(sel.ron, MIN_OHMS),
+                      load_g=load_g(net), ron=max(sel.ron, MIN_OHMS),
                       gain=out.gain if out.buffered else 1.0, vref=float(net.fixed[net.source]),
                       n_codes=net.n_codes, ron_static=sel.ron)
 
 
-def _talbot(times: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+def talbot(times: np.ndarray, m: int = TALBOT_NODES, scale: np.ndarray | float = 1.0
+            ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Contour points s (T, M), weights (T, M) and factors r/M (T,) of the fixed Talbot method:
-    f(t) ≈ (r/M)·Re Σ_k w_k·e^(s_k t)·F(s_k), r = 2M/(5t)."""
-    m = TALBOT_NODES
+    f(t) ≈ (r/M)·Re Σ_k w_k·e^(s_k t)·F(s_k), r = 2M/(5t) (times ``scale``: the contour may be
+    widened a little without loss)."""
     k = np.arange(m)
     th = k * np.pi / m
     cot = np.zeros(m)
@@ -133,11 +140,11 @@ def _talbot(times: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     sig = th + (th * cot - 1) * cot
     shape = np.where(k > 0, th * (cot + 1j), 1.0)
     w = np.where(k > 0, 1 + 1j * sig, 0.5)
-    r = 2 * m / (5 * times)
+    r = 2 * m / (5 * times) * scale
     return r[:, None] * shape[None, :], np.broadcast_to(w, (times.size, m)), r / m
 
 
-class _Sweeps:
+class Sweeps:
     """Driving-point impedances and transfers along the path at Laplace points s (S,); ``far``:
     also the cumulative logs for transfers between taps that are not neighbours."""
 
@@ -195,6 +202,13 @@ class StringTransitions:
         pa, pb = self.a - 1, self.b - 1
         self.far = bool(np.any((np.abs(pa - pb) > 1) & (np.minimum(pa, pb) >= 0)))
 
+    def tap_voltage(self, state_taps: np.ndarray, at_taps: np.ndarray) -> np.ndarray:
+        """Voltage of taps ``at_taps`` (B,) with the string settled at codes ``state_taps``, V."""
+        pth = self.path
+        p, q = np.asarray(at_taps) - 1, np.asarray(state_taps) - 1
+        divider = np.where(p >= 0, pth.vref * pth.x[np.maximum(p, 0)] / pth.total, 0.0)
+        return divider - pth.r_res(p, q) * pth.settled(state_taps)[1]
+
     def lsb(self) -> float:
         """Endpoint LSB, V."""
         n = self.path.n_codes
@@ -217,13 +231,19 @@ class StringTransitions:
 
     def horizon(self, half_lsb: float) -> float:
         """A time after the switch past which |ΔV| < ½ LSB for every transition, s."""
+        return self.energy_horizon(np.abs(self.i_a) + np.abs(self.i_b), np.abs(self.dv),
+                                   half_lsb)
+
+    def energy_horizon(self, current: np.ndarray, dv: np.ndarray, half_lsb: float) -> float:
+        """The horizon from a start whose string is off by at most the drop of ``current`` (B,)
+        A through the largest tap resistance and whose output is off by ``dv`` (B,) V: the
+        stored energy E decays at least as e^(−2t/τ) (τ from :meth:`slowest`) and
+        |ΔV| ≤ √(2E/c_o)."""
         pth = self.path
-        tau = self.slowest()
-        dx = np.max(pth.r_res(np.arange(pth.x.size), np.arange(pth.x.size))) * (
-            np.abs(self.i_a) + np.abs(self.i_b))
-        energy = pth.node_c * pth.x.size * dx**2 + pth.out_c * self.dv**2
+        dx = np.max(pth.r_res(np.arange(pth.x.size), np.arange(pth.x.size))) * current
+        energy = pth.node_c * pth.x.size * dx**2 + pth.out_c * dv**2
         amp = np.sqrt(np.max(energy) / pth.out_c) * pth.gain
-        return tau * max(np.log(max(amp, 1e-300) / half_lsb), 1.0)
+        return self.slowest() * max(np.log(max(amp, 1e-300) / half_lsb), 1.0)
 
     def fastest(self) -> float:
         """A time below every time constant that matters at the start, s."""
@@ -231,149 +251,50 @@ class StringTransitions:
         return min(pth.node_c * float(np.min(pth.series)) / 4, pth.out_c * pth.ron,
                    pth.out_c * float(np.min(pth.series)))
 
-    def response(self, times: np.ndarray, cancel=None) -> np.ndarray:
-        """y(t) − y_b of the simultaneous change at ``times`` (T,) > 0 after it, (B, T) V."""
-        pth = self.path
+    def invert(self, times: np.ndarray, transform, cancel=None, scale=1.0) -> np.ndarray:
+        """f(t) at ``times`` (T,) > 0, (B, T), of a transform F(s, sweeps) → (B, S) computed
+        chunk by chunk of Laplace points (one pass along the string each)."""
         times = np.asarray(times, float)
-        s, w, fac = _talbot(times)
+        s, w, fac = talbot(times, TALBOT_NODES, scale)
         s_flat, w_flat, t_flat = s.reshape(-1), w.reshape(-1), times.repeat(TALBOT_NODES)
         out = np.empty((self.b.size, s_flat.size))
-        pa, pb = self.a - 1, self.b - 1
-        at_tap = (pb >= 0)[:, None]
-        step = max(64, CHUNK_CELLS // max(pth.x.size, 1))
+        step = max(64, CHUNK_CELLS // max(self.path.x.size, 1))
         for c0 in range(0, s_flat.size, step):
             if cancel is not None and cancel.is_set():
                 raise InterruptedError("cancelled")
             part = slice(c0, c0 + step)
             sc = s_flat[part]
-            sw = _Sweeps(pth, sc, far=self.loaded and self.far)
-            z_b = sw.impedance(pb)
-            link = 1.0 / (pth.ron + z_b)  # the switch and the string as seen from tap b
-            num = pth.out_c * self.dv[:, None] + 0j
-            if self.loaded:  # the string's own start: K·C·R = (R − K)/s
-                h = (-(pth.r_res(pb, pa)[:, None] - sw.transfer(pb, pa)) * self.i_a[:, None]
-                     + (pth.r_res(pb, pb)[:, None] - z_b) * self.i_b[:, None]) / sc[None, :]
-                num = num + np.where(at_tap, h * link, 0.0)
-            big_v = num / (sc[None, :] * pth.out_c + pth.load_g + link)
-            out[:, part] = np.real(np.exp(sc * t_flat[part]) * w_flat[part] * big_v)
-        y = out.reshape(self.b.size, times.size, TALBOT_NODES).sum(axis=-1) * fac[None, :]
-        return pth.gain * y
+            big_f = transform(sc, Sweeps(self.path, sc, far=self.far))
+            out[:, part] = np.real(np.exp(sc * t_flat[part]) * w_flat[part] * big_f)
+        return out.reshape(self.b.size, times.size, TALBOT_NODES).sum(axis=-1) * fac[None, :]
 
+    def string_start(self, sc: np.ndarray, k_ba: np.ndarray | None, z_b: np.ndarray
+                     ) -> np.ndarray | float:
+        """h_b(s): tap b's open-circuit response to the string's start at code a, relative to
+        code b (the load's current moved from tap a to tap b; K·C·R = (R − K)/s), (B, S) V·s;
+        ``k_ba`` the transfer between the taps (``None``: not yet computed)."""
+        pth, pa, pb = self.path, self.a - 1, self.b - 1
+        if not self.loaded:
+            return 0.0
+        return (-(pth.r_res(pb, pa)[:, None] - k_ba) * self.i_a[:, None]
+                + (pth.r_res(pb, pb)[:, None] - z_b) * self.i_b[:, None]) / sc[None, :]
 
-def _interior(lo: float, hi: float, n: int) -> np.ndarray:
-    """``n`` points strictly inside (lo, hi): geometric, or even when lo is 0."""
-    if lo <= 0:
-        return hi * np.arange(1, n + 1) / (n + 1)
-    return np.geomspace(lo, hi, n + 2)[1:-1]
+    def after_switch(self, sc: np.ndarray, sw: Sweeps, dv: np.ndarray, extra=None,
+                     k_ba: np.ndarray | None = None, z_b: np.ndarray | None = None
+                     ) -> np.ndarray:
+        """ΔV(s) of the output joined to tap b, starting ``dv`` (B,) V off its final value with
+        the string as at code a (plus ``extra`` (B, S) V·s of tap-b response), (B, S);
+        ``k_ba``, ``z_b``: the taps' transfer and tap b's impedance when the caller has them."""
+        pth, pa, pb = self.path, self.a - 1, self.b - 1
+        z_b = sw.impedance(pb) if z_b is None else z_b
+        if self.loaded and k_ba is None:
+            k_ba = sw.transfer(pb, pa)
+        link = 1.0 / (pth.ron + z_b)  # the switch and the string as seen from tap b
+        h = self.string_start(sc, k_ba, z_b) + (0.0 if extra is None else extra)
+        num = pth.out_c * dv[:, None] + np.where((pb >= 0)[:, None], h * link, 0.0)
+        return num / (sc[None, :] * pth.out_c + pth.load_g + link)
 
-
-class _Cells:
-    """Per-transition grid cells [lo, hi] (B,), refined together: the union of the distinct
-    cells' interior points is solved once for the whole batch."""
-
-    def __init__(self, lo: np.ndarray, hi: np.ndarray) -> None:
-        self.lo, self.hi = lo, hi
-
-    def points(self) -> tuple[np.ndarray, np.ndarray]:
-        """Interior times of every distinct cell (U·n,) and each transition's columns (B, n)."""
-        pairs, inverse = np.unique(np.stack([self.lo, self.hi], axis=1), axis=0,
-                                   return_inverse=True)
-        pts = np.concatenate([_interior(lo, hi, REFINE_POINTS) for lo, hi in pairs])
-        cols = inverse.reshape(-1)[:, None] * REFINE_POINTS + np.arange(REFINE_POINTS)[None, :]
-        return pts, cols
-
-
-def transition_figures(net: Network, timing: Timing, from_codes: np.ndarray,
-                       to_codes: np.ndarray, half_lsb: float, cancel=None
-                       ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Net glitch impulse (V·s), peak glitch (V) and settling time (s) of each change
-    ``from_codes`` → ``to_codes`` (B,) of a string (``applies`` must hold); see the module
-    docstring for how each is found."""
-    st = StringTransitions(net, timing, from_codes, to_codes)
-    b = st.b.size
-    rows = np.arange(b)
-    jump = st.y_a - st.y_b  # R(0+): the output node holds its charge across the switch
-    impulse = jump * st.t_sw
-    hi_t = st.horizon(half_lsb)
-    lo_t = max(min(st.fastest() / 10, hi_t / 10), hi_t * 1e-15)
-    n = int(np.ceil(np.log10(hi_t / lo_t) * POINTS_PER_DECADE)) + 1
-    tau = np.geomspace(lo_t, hi_t, n)
-
-    # settling: the last time |actual − y_b| > ½ LSB; actual(t) = y_b + R(t − t_sw) after t_sw
-    r = st.response(tau, cancel)
-    mag = np.abs(r)
-    out = mag > half_lsb
-    any_out = out.any(axis=1) | (np.abs(jump) > half_lsb)
-    k = np.where(out.any(axis=1), n - 1 - np.argmax(out[:, ::-1], axis=1), -1)
-    lo = np.where(k >= 0, tau[np.maximum(k, 0)], 0.0)
-    f_lo = np.where(k >= 0, mag[rows, np.maximum(k, 0)], np.abs(jump))
-    hi, f_hi = tau[np.minimum(k + 1, n - 1)], mag[rows, np.minimum(k + 1, n - 1)]
-    pts, cols = _Cells(lo, hi).points()
-    t_ext = np.concatenate([lo[:, None], pts[cols], hi[:, None]], axis=1)
-    f_ext = np.concatenate([f_lo[:, None],
-                            np.abs(np.take_along_axis(st.response(pts, cancel), cols, axis=1)),
-                            f_hi[:, None]], axis=1)
-    outside = f_ext > half_lsb
-    last = np.minimum(REFINE_POINTS - np.argmax(outside[:, ::-1][:, 1:], axis=1), REFINE_POINTS)
-    t1, t2 = t_ext[rows, last], t_ext[rows, last + 1]
-    f1, f2 = f_ext[rows, last], f_ext[rows, last + 1]
-    with np.errstate(divide="ignore", invalid="ignore"):  # |R| taken as exponential in the cell
-        frac = np.log(f1 / half_lsb) / np.log(f1 / f2)
-    frac = np.where(np.isfinite(frac), np.clip(frac, 0.0, 1.0), 1.0)
-    settling = np.where(any_out, st.t_sw + t1 + (t2 - t1) * frac, 0.0)
-
-    # peak of actual − sync: before t_sw (y_a − y_b) − R(t); after, R(t − t_sw) − R(t)
-    if st.t_sw <= 0:
-        return impulse, np.zeros(b), settling
-    n_before = int(np.sum(tau < st.t_sw))
-    # where |R| stays below half the peak found before the switch, |R(t − t_sw) − R(t)| cannot
-    # exceed that peak: the grid after the switch stops at the last sample above it
-    pre = np.abs(jump[:, None] - r[:, :n_before])
-    peak = np.max(pre, axis=1, initial=0.0)
-    above = mag > peak[:, None] / 2
-    last_above = np.where(above.any(axis=1), n - 1 - np.argmax(above[:, ::-1], axis=1), n - 1)
-    reach = min(int(np.max(last_above)) + 2, tau.size)
-    grid = np.concatenate([[0.0], tau[:reach]])
-    r_now = np.concatenate([jump[:, None], r[:, :reach]], axis=1)
-    after = np.abs(r_now - st.response(st.t_sw + grid, cancel))
-    peak = np.maximum(np.max(after, axis=1), peak)
-    i = np.argmax(after, axis=1)
-    lo, hi = grid[np.maximum(i - 1, 0)], grid[np.minimum(i + 1, grid.size - 1)]
-    pts, cols = _Cells(lo, hi).points()
-    t_in = pts[cols]
-    gap = np.abs(np.take_along_axis(st.response(pts, cancel) - st.response(st.t_sw + pts, cancel),
-                                    cols, axis=1))
-    j = np.clip(np.argmax(gap, axis=1), 1, REFINE_POINTS - 2)
-    x = np.stack([t_in[rows, j - 1], t_in[rows, j], t_in[rows, j + 1]], axis=1)
-    f = np.stack([gap[rows, j - 1], gap[rows, j], gap[rows, j + 1]], axis=1)
-    peak = np.maximum(peak, np.maximum(np.max(gap, axis=1), _vertex(x, f)))
-    return impulse, peak, settling
-
-
-def _vertex(x: np.ndarray, f: np.ndarray) -> np.ndarray:
-    """Largest value of the parabola through three points per row (x, f (B, 3)); the middle
-    value where the parabola has no interior maximum."""
-    d1 = (f[:, 1] - f[:, 0]) / (x[:, 1] - x[:, 0])
-    d2 = (f[:, 2] - f[:, 1]) / (x[:, 2] - x[:, 1])
-    curv = (d2 - d1) / (x[:, 2] - x[:, 0])
-    with np.errstate(divide="ignore", invalid="ignore"):
-        xv = (x[:, 0] + x[:, 1]) / 2 - d1 / (2 * curv)
-        fv = f[:, 1] + d1 * (xv - x[:, 1]) + curv * (xv - x[:, 0]) * (xv - x[:, 1])
-    inside = (curv < 0) & (xv > x[:, 0]) & (xv < x[:, 2]) & np.isfinite(fv)
-    return np.where(inside, fv, f[:, 1])
-
-
-def waveforms(net: Network, timing: Timing, from_code: int, to_code: int, times: np.ndarray
-              ) -> tuple[np.ndarray, np.ndarray]:
-    """The output of one change and its simultaneous-switching response at ``times`` (P,), V."""
-    st = StringTransitions(net, timing, np.array([from_code]), np.array([to_code]))
-    t = np.asarray(times, float)
-
-    def at(x: np.ndarray) -> np.ndarray:
-        y = np.full(x.shape, st.y_a[0])
-        pos = x > 0
-        if pos.any():
-            y[pos] = st.y_b[0] + st.response(x[pos])[0]
-        return y
-
-    return at(t - st.t_sw), at(t)
+    def response(self, times: np.ndarray, cancel=None) -> np.ndarray:
+        """y(t) − y_b of the simultaneous change at ``times`` (T,) > 0 after it, (B, T) V."""
+        return self.path.gain * self.invert(
+            times, lambda sc, sw: self.after_switch(sc, sw, self.dv), cancel)

@@ -72,20 +72,20 @@ def test_capacitance_without_edges_settles_but_has_no_glitch_figure():
     assert np.all(ev.dynamics.settling[1:] > 0)
 
 
-def test_large_make_before_break_strings_are_refused_by_name():
-    """Above the dense solver's 64 nodes a string with node capacitance is solved in the Laplace
-    domain when its taps change over together or break first; make-before-break is refused."""
-    d = Design(topology="string", bits=8, ron_high=100, load_c=1e-12,
-               timing={"node_c": 1e-15, "rise": 1e-9, "fall": 3e-9})
+@pytest.mark.parametrize("timing", [
+    {"node_c": 1e-15, "rise": 1e-9, "fall": 3e-9},
+    {"node_c": 1e-15, "rise": 3e-9, "fall": 1e-9},
+    {"node_c": 1e-15},
+], ids=["make-first", "break-first", "no-edges"])
+def test_long_strings_with_node_capacitance_are_solved(timing):
+    """Above the dense solver's 64 nodes a string with node capacitance goes to the Laplace
+    domain whatever its switch timing."""
+    d = Design(topology="string", bits=8, ron_high=100, load_c=1e-12, load_r=1e8, timing=timing)
     ev = evaluate(d)
-    assert "make before they break (timing.rise < timing.fall)" in ev.dynamics.note
-    assert "rise = fall" in ev.dynamics.note
-    assert "256 nodes" in ev.dynamics.note  # 255 taps and the output
-    assert math.isnan(ev.summary["glitch_major"])
-    assert math.isnan(ev.summary["settling_major"])
-    loaded = d.replace(load_r=1e5, timing={"node_c": 1e-15, "rise": 3e-9, "fall": 1e-9})
-    assert "load resistor" in evaluate(loaded).dynamics.note
-    assert evaluate(d.replace(timing={"node_c": 1e-15})).dynamics.note is None
+    assert ev.dynamics.note is None
+    assert np.all(np.isfinite(ev.dynamics.settling))
+    assert ev.summary["settling_major"] > 0
+    assert ("rise" in timing) == (ev.dynamics.glitch_note is None)
 
 
 def test_per_code_layout_and_summary():
@@ -161,9 +161,9 @@ def test_figure_meaning_names_the_reason_for_glitch_rows():
     assert "no capacitance" in not_meaningful(plain, "settling_worst_code")
     assert not_meaningful(plain.replace(timing={"skew": [0, 1e-9]}), "glitch_major") is None
     assert not_meaningful(plain.replace(load_c=1e-12), "settling_major") is None
-    assert "make before they break" in not_meaningful(
-        Design(topology="string", bits=7, load_c=1e-12,
-               timing={"node_c": 1e-15, "rise": 1e-9, "fall": 2e-9}), "settling_major")
+    assert not_meaningful(Design(topology="string", bits=7, load_c=1e-12,
+                                 timing={"node_c": 1e-15, "rise": 1e-9, "fall": 2e-9}),
+                          "settling_major") is None
     assert not_meaningful(Design(topology="string", bits=7, load_c=1e-12,
                                  timing={"node_c": 1e-15}), "settling_major") is None
     assert not_meaningful(Design(topology="string", bits=7, load_c=1e-12), "settling_major") is None

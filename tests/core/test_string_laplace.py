@@ -21,7 +21,7 @@ def test_fixed_talbot_inverts_decaying_exponentials():
     """L⁻¹[1/(s + λ)] = e^(−λt) (Laplace transform table, common practice), by the fixed Talbot
     contour (Abate & Valkó, Int. J. Numer. Meth. Eng. 60, 2004) over 16 decades of λ·t."""
     t = np.geomspace(1e-3, 1e3, 61)
-    s, w, fac = string_laplace._talbot(t)
+    s, w, fac = string_laplace.talbot(t)
     worst = 0.0
     for lam in np.geomspace(1e-5, 1e5, 41):
         f = fac * np.real(np.sum(w * np.exp(s * t[:, None]) / (s + lam), axis=1))
@@ -40,8 +40,17 @@ DESIGNS = [
            timing={"node_c": 1e-12, "rise": 6e-9, "fall": 1e-9}),
     Design(topology="string", bits=4, unit_r=1e3, ron_high=0, load_c=1e-12, load_r=1e4,
            timing={"node_c": 1e-12}),
+    Design(topology="string", bits=5, unit_r=1e3, ron_high=200, load_c=2e-12,
+           timing={"node_c": 1e-12, "rise": 1e-9, "fall": 5e-9, "skew": [0, 1e-9]}),
+    Design(topology="string", bits=5, unit_r=1e3, ron_high=200, load_c=2e-12, load_r=2e4,
+           ref_r=30, timing={"node_c": 5e-13, "rise": 1e-9, "fall": 4e-9}),
+    Design(topology="string", bits=5, unit_r=1e3, ron_high=200, load_c=2e-12, load_r=2e4,
+           timing={"node_c": 5e-13, "rise": 6e-9, "fall": 1e-9}),
+    Design(topology="string", output="buffer", gain=2, bits=4, unit_r=1e3, ron_high=0,
+           timing={"node_c": 1e-12, "rise": 1e-9, "fall": 6e-9}),
 ]
-IDS = ["skewed", "loaded-ref_r", "buffered-break-first", "break-first", "ideal-switch-no-edges"]
+IDS = ["skewed", "loaded-ref_r", "buffered-break-first", "break-first", "ideal-switch-no-edges",
+       "make-first", "loaded-make-first", "loaded-break-first", "buffered-ideal-make-first"]
 
 
 @pytest.mark.parametrize("design", DESIGNS, ids=IDS)

@@ -89,11 +89,14 @@ STRING_DESIGNS = [
            ref_r=50, timing={"rise": 4e-9, "fall": 4e-9, "skew": [0, 0, 1e-9], "node_c": 2e-13}),
     Design(topology="string", output="buffer", gain=2, bits=7, unit_r=100, ron_high=300,
            timing={"rise": 6e-9, "fall": 2e-9, "node_c": 2e-13}),
+    Design(topology="string", bits=7, unit_r=100, ron_high=300, load_c=3e-12, load_r=2e4,
+           timing={"rise": 2e-9, "fall": 7e-9, "skew": [1e-9], "node_c": 2e-13}),
 ]
 
 
 @pytest.mark.ngspice
-@pytest.mark.parametrize("design", STRING_DESIGNS, ids=["loaded", "buffered-break-first"])
+@pytest.mark.parametrize("design", STRING_DESIGNS,
+                         ids=["loaded", "buffered-break-first", "loaded-make-first"])
 def test_long_string_agrees_with_ngspice(design):
     """A 7-bit string with node capacitance (128 nodes: beyond the dense solver, so the
     Laplace-domain one) against ngspice's transient of the whole circuit."""
