@@ -14,6 +14,11 @@ from .string_overlap import TwoStage
 OVERLAP_GRID = 33
 """Even points across the overlap of two tap switches (ends included) on the time grid."""
 
+CELL_BLOCK = 16
+"""Distinct grid cells refined together (their transitions only), bounding memory however the
+transitions' cells spread."""
+
+
 def _interior(lo: float, hi: float, n: int) -> np.ndarray:
     """``n`` points strictly inside (lo, hi): geometric, or even when lo is 0."""
     if lo <= 0:
@@ -21,20 +26,21 @@ def _interior(lo: float, hi: float, n: int) -> np.ndarray:
     return np.geomspace(lo, hi, n + 2)[1:-1]
 
 
-class _Cells:
-    """Per-transition grid cells [lo, hi] (B,), refined together: the union of the distinct
-    cells' interior points is solved once for the whole batch."""
-
-    def __init__(self, lo: np.ndarray, hi: np.ndarray) -> None:
-        self.lo, self.hi = lo, hi
-
-    def points(self) -> tuple[np.ndarray, np.ndarray]:
-        """Interior times of every distinct cell (U·n,) and each transition's columns (B, n)."""
-        pairs, inverse = np.unique(np.stack([self.lo, self.hi], axis=1), axis=0,
-                                   return_inverse=True)
-        pts = np.concatenate([_interior(lo, hi, REFINE_POINTS) for lo, hi in pairs])
-        cols = inverse.reshape(-1)[:, None] * REFINE_POINTS + np.arange(REFINE_POINTS)[None, :]
-        return pts, cols
+def _in_cells(lo: np.ndarray, hi: np.ndarray, value) -> tuple[np.ndarray, np.ndarray]:
+    """:data:`REFINE_POINTS` times inside each transition's cell [lo, hi] (B,) and the values
+    there, both (B, n): ``value(rows, times)`` → (rows, T) is solved for blocks of
+    :data:`CELL_BLOCK` distinct cells, each for the transitions in them only."""
+    n = REFINE_POINTS
+    pairs, inverse = np.unique(np.stack([lo, hi], axis=1), axis=0, return_inverse=True)
+    inverse = inverse.reshape(-1)
+    t_in, vals = np.empty((lo.size, n)), np.empty((lo.size, n))
+    for c0 in range(0, len(pairs), CELL_BLOCK):
+        pts = np.concatenate([_interior(x, y, n) for x, y in pairs[c0:c0 + CELL_BLOCK]])
+        rows = np.nonzero((inverse >= c0) & (inverse < c0 + CELL_BLOCK))[0]
+        cols = (inverse[rows] - c0)[:, None] * n + np.arange(n)[None, :]
+        t_in[rows] = pts[cols]
+        vals[rows] = np.take_along_axis(value(rows, pts), cols, axis=1)
+    return t_in, vals
 
 
 def _time_grid(st: StringTransitions, half_lsb: float) -> np.ndarray:
@@ -50,7 +56,8 @@ def _settling(times: np.ndarray, mag: np.ndarray, magnitude, half_lsb: float) ->
     """The last instant |error| > ½ LSB, s (B,), 0 where never.
 
     ``times`` (T,) a grid from 0 on which the error magnitudes are ``mag`` (B, T) and after whose
-    last point it cannot leave the band; ``magnitude(times)`` → (B, T) evaluates it anywhere.
+    last point it cannot leave the band; ``magnitude(rows, times)`` → (rows, T) evaluates it
+    anywhere.
     The last grid cell outside is refined once (:data:`REFINE_POINTS`), then the crossing is
     interpolated taking the error as exponential across the remaining sub-cell."""
     b, n = mag.shape
@@ -60,11 +67,9 @@ def _settling(times: np.ndarray, mag: np.ndarray, magnitude, half_lsb: float) ->
     k = np.where(any_out, n - 1 - np.argmax(out[:, ::-1], axis=1), 0)
     k = np.minimum(k, n - 2)
     lo, hi = times[k], times[k + 1]
-    pts, cols = _Cells(lo, hi).points()
-    t_ext = np.concatenate([lo[:, None], pts[cols], hi[:, None]], axis=1)
-    f_ext = np.concatenate([mag[rows, k][:, None],
-                            np.take_along_axis(magnitude(pts), cols, axis=1),
-                            mag[rows, k + 1][:, None]], axis=1)
+    t_in, f_in = _in_cells(lo, hi, magnitude)
+    t_ext = np.concatenate([lo[:, None], t_in, hi[:, None]], axis=1)
+    f_ext = np.concatenate([mag[rows, k][:, None], f_in, mag[rows, k + 1][:, None]], axis=1)
     outside = f_ext > half_lsb
     last = np.minimum(REFINE_POINTS - np.argmax(outside[:, ::-1][:, 1:], axis=1), REFINE_POINTS)
     t1, t2 = t_ext[rows, last], t_ext[rows, last + 1]
@@ -78,16 +83,14 @@ def _settling(times: np.ndarray, mag: np.ndarray, magnitude, half_lsb: float) ->
 def _peak(times: np.ndarray, gap: np.ndarray, gap_at, events: tuple[float, ...] = ()
           ) -> np.ndarray:
     """Largest |actual − simultaneous| (B,): the grid's (``gap`` (B, T) at ``times`` (T,)),
-    refined once in the cells beside each maximum (``gap_at(times)`` → (B, T)) and by a
+    refined once in the cells beside each maximum (``gap_at(rows, times)`` → (rows, T)) and by a
     parabola through the best three points unless a switching instant in ``events`` (a kink)
     lies between them."""
     b = gap.shape[0]
     rows = np.arange(b)
     i = np.argmax(gap, axis=1)
     lo, hi = times[np.maximum(i - 1, 0)], times[np.minimum(i + 1, times.size - 1)]
-    pts, cols = _Cells(lo, hi).points()
-    t_in = pts[cols]
-    inner = np.take_along_axis(gap_at(pts), cols, axis=1)
+    t_in, inner = _in_cells(lo, hi, gap_at)
     j = np.clip(np.argmax(inner, axis=1), 1, REFINE_POINTS - 2)
     x = np.stack([t_in[rows, j - 1], t_in[rows, j], t_in[rows, j + 1]], axis=1)
     f = np.stack([inner[rows, j - 1], inner[rows, j], inner[rows, j + 1]], axis=1)
@@ -115,7 +118,8 @@ def transition_figures(net: Network, timing: Timing, from_codes: np.ndarray,
     r = st.response(tau, cancel)
     grid = np.concatenate([[0.0], tau])
     r0 = np.concatenate([jump[:, None], r], axis=1)
-    settling = _settling(grid, np.abs(r0), lambda t: np.abs(st.response(t, cancel)), half_lsb)
+    settling = _settling(grid, np.abs(r0),
+                         lambda rows, t: np.abs(st.subset(rows).response(t, cancel)), half_lsb)
     settling = np.where(settling > 0, st.t_sw + settling,
                         np.where(np.abs(jump) > half_lsb, st.t_sw, 0.0))
     if st.t_sw <= 0:
@@ -131,8 +135,11 @@ def transition_figures(net: Network, timing: Timing, from_codes: np.ndarray,
     last_above = np.where(above.any(axis=1), n - 1 - np.argmax(above[:, ::-1], axis=1), n - 1)
     reach = min(int(np.max(last_above)) + 2, n) + 1
     after = np.abs(r0[:, :reach] - st.response(st.t_sw + grid[:reach], cancel))
-    late = _peak(grid[:reach], after, lambda t: np.abs(st.response(t, cancel)
-                                                       - st.response(st.t_sw + t, cancel)))
+    def gap_at(rows: np.ndarray, t: np.ndarray) -> np.ndarray:
+        part = st.subset(rows)
+        return np.abs(part.response(t, cancel) - part.response(st.t_sw + t, cancel))
+
+    late = _peak(grid[:reach], after, gap_at)
     return impulse, np.maximum(peak, late), settling
 
 
@@ -153,19 +160,22 @@ def _staged_figures(st: TwoStage, half_lsb: float, cancel=None
     fresh = st.t2 + np.geomspace(min(tau[0], first / 100), first, 17)[:-1]  # just after t2
     grid = np.unique(np.concatenate([[0.0], tau, st.t1 + overlap, [st.t1, st.t2], fresh,
                                      [st.t2 + tau[-1]]]))
-    jump = st.y_a - st.y_b
 
-    def sync(t: np.ndarray) -> np.ndarray:
-        out = np.empty((jump.size, t.size))
-        out[:, t <= 0] = jump[:, None]
+    def sync(part: TwoStage, t: np.ndarray) -> np.ndarray:
+        out = np.empty((part.b.size, t.size))
+        out[:, t <= 0] = (part.y_a - part.y_b)[:, None]
         if (t > 0).any():
-            out[:, t > 0] = st.response(t[t > 0], cancel)
+            out[:, t > 0] = part.response(t[t > 0], cancel)
         return out
 
+    def gap_at(rows: np.ndarray, t: np.ndarray) -> np.ndarray:
+        part = st.subset(rows)
+        return np.abs(part.actual(t, cancel) - sync(part, t))
+
     actual = st.actual(grid, cancel)
-    settling = _settling(grid, np.abs(actual), lambda t: np.abs(st.actual(t, cancel)), half_lsb)
-    peak = _peak(grid, np.abs(actual - sync(grid)),
-                 lambda t: np.abs(st.actual(t, cancel) - sync(t)), events=(st.t1, st.t2))
+    settling = _settling(grid, np.abs(actual),
+                         lambda rows, t: np.abs(st.subset(rows).actual(t, cancel)), half_lsb)
+    peak = _peak(grid, np.abs(actual - sync(st, grid)), gap_at, events=(st.t1, st.t2))
     return st.impulse, peak, settling
 
 

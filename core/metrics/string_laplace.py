@@ -32,6 +32,7 @@ solver (impulse and peak to 1e−6, settling to 1e−4) and against ngspice.
 
 from __future__ import annotations
 
+import copy
 from dataclasses import dataclass
 
 import numpy as np
@@ -187,6 +188,9 @@ class Sweeps:
 class StringTransitions:
     """The output of changes between taps ``from_taps`` → ``to_taps`` (B,) of one string."""
 
+    ROW_FIELDS = ("a", "b", "i_a", "i_b", "y_a", "y_b", "dv")
+    """Attributes with one row per transition (what :meth:`subset` slices)."""
+
     def __init__(self, net: Network, timing: Timing, from_taps: np.ndarray, to_taps: np.ndarray
                  ) -> None:
         self.path = string_path(net, timing)
@@ -201,6 +205,15 @@ class StringTransitions:
         self.loaded = self.path.load_g > 0
         pa, pb = self.a - 1, self.b - 1
         self.far = bool(np.any((np.abs(pa - pb) > 1) & (np.minimum(pa, pb) >= 0)))
+
+    def subset(self, rows: np.ndarray) -> StringTransitions:
+        """The same solution for transitions ``rows`` only (shares everything else)."""
+        part = copy.copy(self)
+        for name in self.ROW_FIELDS:
+            setattr(part, name, getattr(self, name)[rows])
+        pa, pb = part.a - 1, part.b - 1
+        part.far = bool(np.any((np.abs(pa - pb) > 1) & (np.minimum(pa, pb) >= 0)))
+        return part
 
     def tap_voltage(self, state_taps: np.ndarray, at_taps: np.ndarray) -> np.ndarray:
         """Voltage of taps ``at_taps`` (B,) with the string settled at codes ``state_taps``, V."""

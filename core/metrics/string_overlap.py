@@ -31,6 +31,9 @@ class TwoStage(StringTransitions):
     :data:`OVERLAP_NODES` points, for every σ at once as a matrix product.
     """
 
+    ROW_FIELDS = (*StringTransitions.ROW_FIELDS, "u_a", "u_b", "k_ba", "k_bb", "dv_end",
+                  "impulse")
+
     def __init__(self, net: Network, timing: Timing, from_taps: np.ndarray, to_taps: np.ndarray
                  ) -> None:
         super().__init__(net, timing, from_taps, to_taps)

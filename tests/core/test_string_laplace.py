@@ -118,3 +118,21 @@ def test_cancel_stops_the_work():
     codes = np.arange(1, 1024)
     with pytest.raises(InterruptedError):
         solve_transitions(build(d), timing_of(d), codes - 1, codes, cancel=stop)
+
+
+@pytest.mark.parametrize("timing", [{"node_c": 2e-13, "rise": 2e-9, "fall": 2e-9},
+                                    {"node_c": 2e-13, "rise": 1e-9, "fall": 5e-9}],
+                         ids=["together", "make-first"])
+def test_alone_or_in_a_batch_the_same(timing):
+    """A transition's figures do not depend on the batch it is solved in (the batch shares one
+    time grid, so they agree to the stated tolerances, not to the last digit)."""
+    d = Design(topology="string", bits=7, unit_r=100, ron_high=300, load_c=3e-12, load_r=2e4,
+               timing=timing)
+    net, tm = build(d), timing_of(d)
+    codes = np.arange(1, 128)
+    batch = solve_transitions(net, tm, codes - 1, codes)
+    for c in (1, 64, 100, 127):
+        one = solve_transitions(net, tm, np.array([c - 1]), np.array([c]))
+        assert one.impulse[0] == pytest.approx(batch.impulse[c - 1], rel=1e-9)
+        assert one.peak[0] == pytest.approx(batch.peak[c - 1], rel=1e-6)
+        assert one.settling[0] == pytest.approx(batch.settling[c - 1], rel=1e-4)
