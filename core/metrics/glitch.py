@@ -83,6 +83,9 @@ def _uses_laplace(net: Network, timing: Timing, method: str) -> bool:
     """Whether a string with node capacitance goes to the Laplace-domain solution: when asked,
     or (``auto``) when it is too large for the dense solver and the solution holds."""
     if method == "laplace":
+        if not string_laplace.applies(net, timing):
+            raise ValueError("the Laplace-domain solution takes a resistor string with "
+                             "timing.node_c set")
         return True
     return (method == "auto" and plain_node_count(net) > MAX_NODES
             and string_laplace.applies(net, timing))
@@ -276,7 +279,7 @@ def solve_transitions(net: Network, timing: Timing, from_codes: np.ndarray,
     if reason is not None:
         return TransitionFigures(from_codes, to_codes, nan, nan.copy(), nan.copy(), np.nan, reason)
     if _uses_laplace(net, timing, method):
-        lsb = string_laplace.StringTransitions(net, timing, to_codes[:0], to_codes[:0]).lsb()
+        lsb = string_laplace.string_path(net, timing).lsb()
         with np.errstate(over="ignore", under="ignore"):
             figs = string_figures.transition_figures(net, timing, from_codes, to_codes,
                                                      abs(lsb) / 2, cancel=cancel)

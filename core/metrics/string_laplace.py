@@ -106,6 +106,11 @@ class StringPath:
         xk = np.where(k >= 0, self.x[np.maximum(k, 0)], 0.0)
         return np.minimum(xj, xk) * (self.total - np.maximum(xj, xk)) / self.total
 
+    def lsb(self) -> float:
+        """Endpoint LSB of the output (after a buffer's gain), V."""
+        ends = self.gain * self.settled(np.array([0, self.n_codes - 1]))[0]
+        return float((ends[1] - ends[0]) / (self.n_codes - 1))
+
     def settled(self, taps: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """Output node voltage (V) and the load current drawn from the tap (A) at ``taps``."""
         p = np.asarray(taps) - 1
@@ -185,6 +190,12 @@ class Sweeps:
         return np.where((lo >= 0)[:, None], k, 0.0)
 
 
+def _far_apart(a: np.ndarray, b: np.ndarray) -> bool:
+    """Whether any change joins two string taps that are not neighbours (neither of them the
+    ground end): their transfer needs the sweeps' cumulative logs."""
+    return bool(np.any((np.abs(a - b) > 1) & (np.minimum(a, b) >= 1)))
+
+
 class StringTransitions:
     """The output of changes between taps ``from_taps`` → ``to_taps`` (B,) of one string."""
 
@@ -203,16 +214,14 @@ class StringTransitions:
         start = max(timing.skew, default=0.0)
         self.t_sw = start + timing.rise / 2  # the new tap closes (the old opened at or before)
         self.loaded = self.path.load_g > 0
-        pa, pb = self.a - 1, self.b - 1
-        self.far = bool(np.any((np.abs(pa - pb) > 1) & (np.minimum(pa, pb) >= 0)))
+        self.far = _far_apart(self.a, self.b)
 
     def subset(self, rows: np.ndarray) -> StringTransitions:
         """The same solution for transitions ``rows`` only (shares everything else)."""
         part = copy.copy(self)
         for name in self.ROW_FIELDS:
             setattr(part, name, getattr(self, name)[rows])
-        pa, pb = part.a - 1, part.b - 1
-        part.far = bool(np.any((np.abs(pa - pb) > 1) & (np.minimum(pa, pb) >= 0)))
+        part.far = _far_apart(part.a, part.b)
         return part
 
     def tap_voltage(self, state_taps: np.ndarray, at_taps: np.ndarray) -> np.ndarray:
@@ -221,12 +230,6 @@ class StringTransitions:
         p, q = np.asarray(at_taps) - 1, np.asarray(state_taps) - 1
         divider = np.where(p >= 0, pth.vref * pth.x[np.maximum(p, 0)] / pth.total, 0.0)
         return divider - pth.r_res(p, q) * pth.settled(state_taps)[1]
-
-    def lsb(self) -> float:
-        """Endpoint LSB, V."""
-        n = self.path.n_codes
-        ends = self.path.gain * self.path.settled(np.array([0, n - 1]))[0]
-        return float((ends[1] - ends[0]) / (n - 1))
 
     def slowest(self) -> float:
         """An upper bound of the slowest time constant, s: the largest row sum of R·C (R the

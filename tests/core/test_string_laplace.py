@@ -103,7 +103,7 @@ def test_past_the_horizon_nothing_leaves_the_band():
                timing={"node_c": 2e-13, "rise": 4e-9, "fall": 4e-9})
     net, tm = build(d), timing_of(d)
     st = string_laplace.StringTransitions(net, tm, np.array([0, 63, 127]), np.array([127, 64, 0]))
-    half = abs(st.lsb()) / 2
+    half = abs(st.path.lsb()) / 2
     end = st.horizon(half)
     r = st.response(end * np.array([1.0, 1.5, 3.0, 10.0]))
     assert np.all(np.abs(r) < half)
